@@ -1,0 +1,5 @@
+"""``python -m bodycensus`` runs the command-line interface."""
+
+from bodycensus.cli import main
+
+raise SystemExit(main())

@@ -1,0 +1,166 @@
+"""Physical constants (each with its published source) and unit names, parsing and conversion.
+
+Everything inside bodycensus is SI (kg, m, s, K, W) except ages, which are in years.
+This module knows nothing else in the package.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+# --- constants -------------------------------------------------------------------------------
+G = 6.67430e-11  # m3 kg-1 s-2; CODATA 2018 (unchanged in CODATA 2022)
+AU = 149_597_870_700.0  # m; IAU 2012 Resolution B2 (exact)
+G0 = 9.80665  # m s-2; standard gravity (CGPM 1901, exact)
+SPEED_OF_LIGHT = 299_792_458.0  # m s-1; SI definition (exact)
+
+GM_SUN = 1.3271244e20  # m3 s-2; IAU 2015 Resolution B3 nominal
+GM_EARTH = 3.986004e14  # m3 s-2; IAU 2015 Resolution B3 nominal
+GM_JUPITER = 1.2668653e17  # m3 s-2; IAU 2015 Resolution B3 nominal
+M_SUN = GM_SUN / G  # kg; IAU 2015 B3 nominal GM divided by CODATA 2018 G (as astropy does)
+M_EARTH = GM_EARTH / G  # kg
+M_JUPITER = GM_JUPITER / G  # kg
+R_SUN = 6.957e8  # m; IAU 2015 Resolution B3 nominal
+R_EARTH = 6.3781e6  # m; IAU 2015 Resolution B3 nominal equatorial radius
+R_JUPITER = 7.1492e7  # m; IAU 2015 Resolution B3 nominal equatorial radius
+L_SUN = 3.828e26  # W; IAU 2015 Resolution B3 nominal
+
+HOUR = 3600.0  # s
+DAY = 86_400.0  # s
+YEAR = 365.25 * DAY  # s; Julian year (IAU)
+
+# --- units -----------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class Unit:
+    """A named unit: its dimension and the factor that turns a value in it into SI."""
+
+    name: str
+    dimension: str  # mass | length | time | density | temperature | power | age | dimensionless
+    to_si: float
+
+
+_UNITS: tuple[Unit, ...] = (
+    Unit("kg", "mass", 1.0),
+    Unit("g", "mass", 1e-3),
+    Unit("earth_mass", "mass", M_EARTH),
+    Unit("jupiter_mass", "mass", M_JUPITER),
+    Unit("solar_mass", "mass", M_SUN),
+    Unit("m", "length", 1.0),
+    Unit("km", "length", 1e3),
+    Unit("earth_radius", "length", R_EARTH),
+    Unit("jupiter_radius", "length", R_JUPITER),
+    Unit("solar_radius", "length", R_SUN),
+    Unit("au", "length", AU),
+    Unit("s", "time", 1.0),
+    Unit("h", "time", HOUR),
+    Unit("d", "time", DAY),
+    Unit("yr", "time", YEAR),
+    Unit("kg/m3", "density", 1.0),
+    Unit("g/cm3", "density", 1000.0),
+    Unit("K", "temperature", 1.0),
+    Unit("W", "power", 1.0),
+    Unit("solar_luminosity", "power", L_SUN),
+    Unit("years", "age", 1.0),
+    Unit("Myr", "age", 1e6),
+    Unit("Gyr", "age", 1e9),
+    Unit("1", "dimensionless", 1.0),
+)
+UNITS: dict[str, Unit] = {u.name: u for u in _UNITS}
+
+# Other spellings seen in headers, lower-cased with spaces, dots and dashes removed.
+_ALIASES: dict[str, str] = {
+    "kilogram": "kg", "kilograms": "kg", "gram": "g", "grams": "g",
+    "mearth": "earth_mass", "me": "earth_mass", "m_earth": "earth_mass", "earthmass": "earth_mass",
+    "earthmasses": "earth_mass", "m_e": "earth_mass", "m⊕": "earth_mass",
+    "mjup": "jupiter_mass", "m_jup": "jupiter_mass", "mj": "jupiter_mass", "m_j": "jupiter_mass",
+    "jupitermass": "jupiter_mass", "jupitermasses": "jupiter_mass", "m_jupiter": "jupiter_mass",
+    "msun": "solar_mass", "m_sun": "solar_mass", "msol": "solar_mass", "m_sol": "solar_mass",
+    "solarmass": "solar_mass", "solarmasses": "solar_mass", "m☉": "solar_mass",
+    "meter": "m", "meters": "m", "metre": "m", "metres": "m",
+    "kilometer": "km", "kilometers": "km", "kilometre": "km", "kilometres": "km",
+    "rearth": "earth_radius", "re": "earth_radius", "r_earth": "earth_radius",
+    "r_e": "earth_radius", "earthradius": "earth_radius", "earthradii": "earth_radius",
+    "rjup": "jupiter_radius", "r_jup": "jupiter_radius", "rj": "jupiter_radius",
+    "r_j": "jupiter_radius", "jupiterradius": "jupiter_radius", "jupiterradii": "jupiter_radius",
+    "rsun": "solar_radius", "r_sun": "solar_radius", "rsol": "solar_radius",
+    "r_sol": "solar_radius", "solarradius": "solar_radius", "solarradii": "solar_radius",
+    "ua": "au", "astronomicalunit": "au", "astronomicalunits": "au",
+    "sec": "s", "second": "s", "seconds": "s",
+    "hr": "h", "hour": "h", "hours": "h", "hrs": "h",
+    "day": "d", "days": "d",
+    "y": "yr", "year": "yr", "years": "yr", "a": "yr", "yrs": "yr",
+    "kg/m^3": "kg/m3", "kgm3": "kg/m3", "kgm^3": "kg/m3", "kg/m³": "kg/m3",
+    "g/cm^3": "g/cm3", "gcm3": "g/cm3", "g/cc": "g/cm3", "g/cm³": "g/cm3",
+    "kelvin": "K", "k": "K", "watt": "W", "watts": "W", "w": "W",
+    "lsun": "solar_luminosity", "l_sun": "solar_luminosity", "lsol": "solar_luminosity",
+    "myr": "Myr", "gyr": "Gyr",
+}
+
+# Which dimension each canonical field has (ages are in years, not seconds).
+FIELD_DIMENSIONS: dict[str, str] = {
+    "mass": "mass",
+    "radius": "length",
+    "semi_major_axis": "length",
+    "period": "time",
+    "rotation_period": "time",
+    "age": "age",
+    "temperature": "temperature",
+    "luminosity": "power",
+    "eccentricity": "dimensionless",
+}
+SI_UNIT: dict[str, str] = {
+    "mass": "kg", "length": "m", "time": "s", "density": "kg/m3", "temperature": "K",
+    "power": "W", "age": "years", "dimensionless": "1",
+}
+
+
+class UnknownUnitError(ValueError):
+    """A unit name that bodycensus does not know."""
+
+
+def _squash(text: str) -> str:
+    return re.sub(r"[\s.\-]", "", text.strip()).lower()
+
+
+def find_unit(name: str) -> Unit | None:
+    """The unit called ``name`` (any common spelling), or None when it is not a unit we know."""
+    if name in UNITS:
+        return UNITS[name]
+    squashed = _squash(name)
+    for candidate in (squashed, squashed.replace("_", "")):
+        if candidate in _ALIASES:
+            return UNITS[_ALIASES[candidate]]
+        for unit in _UNITS:
+            if unit.name.lower() == candidate:
+                return unit
+    return None
+
+
+def parse_unit(name: str) -> Unit:
+    """The unit called ``name``; raises UnknownUnitError listing the known names otherwise."""
+    unit = find_unit(name)
+    if unit is None:
+        known = ", ".join(u.name for u in _UNITS)
+        raise UnknownUnitError(f"unknown unit '{name}'; use one of: {known}")
+    return unit
+
+
+def factor_to_si(unit_name: str, dimension: str | None = None) -> float:
+    """The factor that turns a value in ``unit_name`` into SI, checking its dimension if given."""
+    unit = parse_unit(unit_name)
+    if dimension is not None and unit.dimension != dimension:
+        raise UnknownUnitError(
+            f"unit '{unit_name}' measures {unit.dimension}, but a {dimension} is needed"
+        )
+    return unit.to_si
+
+
+def convert(value: float, from_unit: str, to_unit: str) -> float:
+    """Convert a scalar between two units of the same dimension."""
+    source, target = parse_unit(from_unit), parse_unit(to_unit)
+    if source.dimension != target.dimension:
+        raise UnknownUnitError(f"cannot convert {source.dimension} to {target.dimension}")
+    return value * source.to_si / target.to_si

@@ -1,0 +1,1 @@
+"""Templates and static assets of the dashboard, importable as ``bodycensus.web`` once installed."""
