@@ -1,0 +1,433 @@
+"""Read a catalogue file of any size and write the normalised SI Parquet table.
+
+Delimited text (comma, tab, semicolon), NDJSON or Parquet, optionally gzip or zstd, is scanned
+lazily with polars, mapped to canonical fields (``schema.guess_mapping``), converted to SI and
+streamed to Parquet, so memory stays bounded however long the file is. A file that cannot be read
+at all raises ``IngestError`` with one line saying where and what to do; a single unreadable cell
+does not: it becomes null and is listed in ``_bad``.
+"""
+
+from __future__ import annotations
+
+import csv
+import gzip
+import json
+import os
+import re
+import tempfile
+import zlib
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass
+from pathlib import Path
+from typing import BinaryIO
+
+import polars as pl
+import zstandard
+
+from bodycensus.schema import (
+    CANONICAL_FIELDS, FIELD_TYPES, NUMERIC_FIELDS, TEXT_FIELDS, Mapping, SchemaError,
+    guess_mapping,
+)
+
+Progress = Callable[[str, int], None]
+_ROW = "__bodycensus_row__"
+_CHUNK = 1 << 20
+_DELIMITERS = (",", "\t", ";")
+_TRUE = ("true", "yes", "1", "y", "t")
+_FALSE = ("false", "no", "0", "n", "f")
+_EXTENSIONS = {
+    ".csv": "delimited", ".tsv": "delimited", ".tab": "delimited", ".txt": "delimited",
+    ".ndjson": "ndjson", ".jsonl": "ndjson", ".parquet": "parquet", ".pq": "parquet",
+}
+_COMPRESSIONS = {".gz": "gzip", ".gzip": "gzip", ".zst": "zstd", ".zstd": "zstd"}
+
+
+class IngestError(ValueError):
+    """A file that cannot be read at all; the message is one line: where, what, and what to do."""
+
+
+@dataclass(frozen=True)
+class IngestLimits:
+    """Guards against hostile or mistaken input."""
+
+    max_decompressed_bytes: int = 64 * 2**30
+
+
+@dataclass(frozen=True)
+class IngestReport:
+    """What ingest found: the file's shape, the mapping used and the unreadable cells per column."""
+
+    rows: int
+    format: str  # delimited | ndjson | parquet
+    compression: str | None  # gzip | zstd | None
+    delimiter: str | None
+    columns: list[str]
+    mapping: Mapping
+    unknown_columns: list[str]
+    bad_cells: dict[str, int]  # source column -> cells present but unreadable or non-finite
+
+    def to_json(self) -> dict:
+        """A plain dict for the API, the manifest and `bodycensus check`."""
+        return {
+            "rows": self.rows, "format": self.format, "compression": self.compression,
+            "delimiter": self.delimiter, "columns": list(self.columns),
+            "mapping": self.mapping.to_json(), "unknown_columns": list(self.unknown_columns),
+            "bad_cells": dict(self.bad_cells),
+        }
+
+
+# --- compression -------------------------------------------------------------------------------
+
+
+def _detect_compression(source: Path) -> str | None:
+    """gzip or zstd by extension, else by magic bytes; None for a plain file."""
+    if source.suffix.lower() in _COMPRESSIONS:
+        return _COMPRESSIONS[source.suffix.lower()]
+    with source.open("rb") as fh:
+        magic = fh.read(4)
+    if magic[:2] == b"\x1f\x8b":
+        return "gzip"
+    return "zstd" if magic == b"\x28\xb5\x2f\xfd" else None
+
+
+def _zstd_chunks(fh: BinaryIO) -> Iterator[bytes]:
+    """Decompressed chunks of a (possibly multi-frame) zstd stream; raises if it is truncated."""
+    decoder, pending = zstandard.ZstdDecompressor().decompressobj(), False
+    while chunk := fh.read(_CHUNK):
+        while chunk:
+            yield decoder.decompress(chunk)
+            pending, chunk = not decoder.eof, b""
+            if decoder.eof:  # the next frame, if any, starts in the unused bytes
+                chunk, decoder = decoder.unused_data, zstandard.ZstdDecompressor().decompressobj()
+    if pending:
+        raise EOFError("the stream ends inside a frame")
+
+
+def _chunks(source: Path, compression: str) -> Iterator[bytes]:
+    """Decompressed chunks of ``source``."""
+    with source.open("rb") as raw:
+        if compression == "zstd":
+            yield from _zstd_chunks(raw)
+            return
+        with gzip.GzipFile(fileobj=raw) as fh:
+            while chunk := fh.read(_CHUNK):
+                yield chunk
+
+
+def _decompress(source: Path, compression: str, dest: Path, limits: IngestLimits,
+                progress: Progress) -> Path:
+    """Stream ``source`` to a temp file beside ``dest``; the progress count is bytes written."""
+    fd, name = tempfile.mkstemp(prefix=f".{dest.name}.", suffix=".decompressed", dir=dest.parent)
+    written = 0
+    try:
+        with os.fdopen(fd, "wb") as out:
+            for chunk in _chunks(source, compression):
+                written += len(chunk)
+                if written > limits.max_decompressed_bytes:
+                    raise IngestError(
+                        f"{source.name}: decompresses to more than "
+                        f"{limits.max_decompressed_bytes:,} bytes (the limit); decompress it "
+                        "yourself or raise max_decompressed_bytes")
+                out.write(chunk)
+                progress("decompress", written)
+    except (OSError, EOFError, zlib.error, zstandard.ZstdError) as err:
+        Path(name).unlink(missing_ok=True)
+        raise IngestError(
+            f"{source.name}: {compression} data is corrupt or truncated after {written:,} bytes "
+            f"of output ({_first_line(err)}); download or compress the file again") from err
+    except IngestError:
+        Path(name).unlink(missing_ok=True)
+        raise
+    return Path(name)
+
+
+# --- format and scanning -----------------------------------------------------------------------
+
+
+def _first_line(err: BaseException) -> str:
+    """The first line of an exception's message (polars messages run to many lines)."""
+    text = str(err).strip() or type(err).__name__
+    return text.splitlines()[0]
+
+
+def _detect_format(source: Path, plain: Path) -> str:
+    """delimited, ndjson or parquet: by extension (under any .gz/.zst), then by content."""
+    inner = source.with_suffix("") if source.suffix.lower() in _COMPRESSIONS else source
+    if inner.suffix.lower() in _EXTENSIONS:
+        return _EXTENSIONS[inner.suffix.lower()]
+    with plain.open("rb") as fh:
+        head = fh.read(4096)
+    if head.startswith(b"PAR1"):
+        return "parquet"
+    return "ndjson" if head.lstrip(b"\xef\xbb\xbf \t\r\n").startswith(b"{") else "delimited"
+
+
+def _sniff_delimiter(plain: Path) -> str:
+    """The delimiter that occurs most often outside quotes in the header line."""
+    with plain.open("r", encoding="utf-8", errors="replace", newline="") as fh:
+        header = fh.readline()
+    unquoted = re.sub(r'"[^"]*"', "", header)
+    counts = {d: unquoted.count(d) for d in _DELIMITERS}
+    return max(_DELIMITERS, key=lambda d: counts[d])
+
+
+def _check_parquet(source: Path, plain: Path) -> None:
+    """Refuse a .parquet file that lacks Parquet's magic bytes at both ends."""
+    with plain.open("rb") as fh:
+        head = fh.read(4)
+        fh.seek(max(plain.stat().st_size - 4, 0))
+        tail = fh.read(4)
+    if head != b"PAR1" or tail != b"PAR1":
+        where = "start" if head != b"PAR1" else "end (truncated?)"
+        raise IngestError(f"{source.name}: not a valid Parquet file (no PAR1 marker at its "
+                          f"{where}); export it again, or give it a .csv/.ndjson name")
+
+
+def _scan(plain: Path, fmt: str, delimiter: str | None) -> pl.LazyFrame:
+    """A lazy scan with a 1-based row index; text formats read every column as a string."""
+    if fmt == "parquet":
+        return pl.scan_parquet(plain, row_index_name=_ROW, row_index_offset=1)
+    if fmt == "ndjson":
+        names = pl.scan_ndjson(plain, infer_schema_length=10_000).collect_schema().names()
+        return pl.scan_ndjson(plain, infer_schema_length=10_000, row_index_name=_ROW,
+                              row_index_offset=1, schema_overrides=dict.fromkeys(names, pl.String))
+    return pl.scan_csv(plain, separator=delimiter or ",", infer_schema=False,
+                       encoding="utf8-lossy", row_index_name=_ROW, row_index_offset=1)
+
+
+# --- where a broken file broke -----------------------------------------------------------------
+
+
+def _csv_fault(plain: Path, delimiter: str) -> str | None:
+    """The first ragged row or quoting fault, as 'line N: ...', found with the csv module."""
+    with plain.open("r", encoding="utf-8", errors="replace", newline="") as fh:
+        reader = csv.reader(fh, delimiter=delimiter, strict=True)
+        width, start = len(next(reader, [])), 2
+        try:
+            for row in reader:
+                if len(row) > width:
+                    return (f"line {start}: {len(row)} fields but the header has {width}; "
+                            "quote fields that contain the delimiter, or fix that row")
+                start = reader.line_num + 1
+        except csv.Error as err:
+            return (f"line {start}: {err} (a quote that is never closed?); "
+                    "close or remove the quote in that row")
+    return None
+
+
+def _ndjson_fault(plain: Path) -> str | None:
+    """The first line of an NDJSON file that is not a JSON object, as 'line N: ...'."""
+    with plain.open("r", encoding="utf-8", errors="replace") as fh:
+        for number, line in enumerate(fh, start=1):
+            if not line.strip():
+                continue
+            try:
+                value = json.loads(line)
+            except json.JSONDecodeError as err:
+                return f"line {number}: invalid JSON ({err.msg} at character {err.colno}); " \
+                    "fix or remove that line"
+            if not isinstance(value, dict):
+                return f"line {number}: not a JSON object; each line must be one {{...}} record"
+    return None
+
+
+def _explain(source: Path, plain: Path, fmt: str, delimiter: str | None,
+             err: Exception) -> IngestError:
+    """A one-line IngestError for a polars failure, locating the fault where we can."""
+    fault = None
+    if fmt == "delimited":
+        fault = _csv_fault(plain, delimiter or ",")
+    elif fmt == "ndjson":
+        fault = _ndjson_fault(plain)
+    column = re.search(r"at column '([^']+)'", str(err))
+    if fault and column:
+        fault = f"column '{column[1]}', {fault}"
+    if fault is None:
+        fault = (f"cannot be read as {fmt} ({_first_line(err)}); check that the file is "
+                 "complete and in one of: CSV/TSV/semicolon text, NDJSON, Parquet")
+    return IngestError(f"{source.name}: {fault}")
+
+
+# --- normalising -------------------------------------------------------------------------------
+
+
+def _to_string(col: pl.Expr, dtype: pl.DataType) -> pl.Expr:
+    """Any column as text, verbatim (structs and lists as JSON-like text)."""
+    if dtype == pl.String:
+        return col
+    if isinstance(dtype, pl.Struct):
+        return col.struct.json_encode()
+    if isinstance(dtype, (pl.List, pl.Array)):
+        return pl.format("[{}]", col.cast(pl.List(pl.String)).list.join(", "))
+    return col.cast(pl.String)
+
+
+def _clean(text: pl.Expr) -> pl.Expr:
+    """Text without surrounding whitespace; the empty string becomes null (absent, not bad)."""
+    stripped = text.str.strip_chars()
+    return pl.when(stripped != "").then(stripped)
+
+
+def _number(col: pl.Expr, dtype: pl.DataType, factor: float) -> tuple[pl.Expr, pl.Expr]:
+    """The value times ``factor`` (null when bad), and whether a present cell was bad."""
+    if dtype.is_numeric() or dtype == pl.Boolean:
+        present, raw = col.is_not_null(), col.cast(pl.Float64)
+    else:
+        text = _clean(_to_string(col, dtype))
+        present, raw = text.is_not_null(), text.cast(pl.Float64, strict=False)
+    value = raw * factor
+    bad = present & (value.is_null() | value.is_nan() | value.is_infinite())
+    return pl.when(~bad).then(value), bad
+
+
+def _flag(col: pl.Expr, dtype: pl.DataType) -> tuple[pl.Expr, pl.Expr]:
+    """A yes/no cell as a boolean (true/false, yes/no, y/n, 1/0), and whether it was unreadable."""
+    if dtype == pl.Boolean:
+        return col, pl.lit(False)
+    text = _clean(_to_string(col, dtype)).str.to_lowercase()
+    words = {**dict.fromkeys(_TRUE + ("1.0",), True), **dict.fromkeys(_FALSE + ("0.0",), False)}
+    value = text.replace_strict(words, default=None, return_dtype=pl.Boolean)
+    return value, text.is_not_null() & value.is_null()
+
+
+def _field(name: str, col: pl.Expr, dtype: pl.DataType, factor: float) -> tuple[pl.Expr, pl.Expr]:
+    """One canonical field from its source column, and its bad-cell flag."""
+    if name in NUMERIC_FIELDS:
+        return _number(col, dtype, factor)
+    if name == "tidally_locked":
+        return _flag(col, dtype)
+    return _clean(_to_string(col, dtype)), pl.lit(False)
+
+
+def _output_name(column: str) -> str:
+    """An unknown column's name in the table: its own, or orig_NAME when that is taken."""
+    taken = set(CANONICAL_FIELDS) | {"_row", "_bad"}
+    return f"orig_{column}" if column in taken else column
+
+
+def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping) -> pl.LazyFrame:
+    """The normalised table: canonical fields in SI, _row, _bad, then the unknown columns."""
+    exprs, flags = [], []
+    for name in CANONICAL_FIELDS:
+        choice = mapping.choices.get(name)
+        if choice is None:
+            exprs.append(pl.lit(None, dtype=FIELD_TYPES[name]).alias(name))
+            continue
+        value, bad = _field(name, pl.col(choice.column), schema[choice.column], choice.factor())
+        exprs.append(value.cast(FIELD_TYPES[name]).alias(name))
+        flags.append(pl.when(bad).then(pl.lit(name)))
+    joined = pl.concat_str(flags, separator=",", ignore_nulls=True) if flags else pl.lit("")
+    exprs += [pl.col(_ROW).cast(pl.Int64).alias("_row"),
+              pl.when(joined != "").then(joined).cast(pl.String).alias("_bad")]
+    exprs += [_to_string(pl.col(c), schema[c]).alias(_output_name(c))
+              for c in mapping.unknown_columns]
+    return frame.select(exprs)
+
+
+# --- writing -----------------------------------------------------------------------------------
+
+
+def _fsync(path: Path) -> None:
+    """Flush a file (or directory) to disk."""
+    fd = os.open(path, os.O_RDONLY)
+    try:
+        os.fsync(fd)
+    finally:
+        os.close(fd)
+
+
+def _write(plan: pl.LazyFrame, dest: Path, source: Path,
+           explain: Callable[[Exception], IngestError]) -> int:
+    """Stream ``plan`` to ``dest`` atomically (temp file, fsync, rename); the number of rows."""
+    tmp = dest.with_suffix(".tmp")
+    try:
+        plan.sink_parquet(tmp)
+        rows = pl.scan_parquet(tmp).select(pl.len()).collect().item()
+    except (pl.exceptions.PolarsError, pl.exceptions.PanicException) as err:
+        tmp.unlink(missing_ok=True)
+        raise explain(err) from err
+    if rows == 0:
+        tmp.unlink(missing_ok=True)
+        raise IngestError(f"{source.name}: no data rows (only a header, or blank); "
+                          "add at least one body to the file")
+    _fsync(tmp)
+    os.replace(tmp, dest)
+    _fsync(dest.parent)
+    return rows
+
+
+def _count_bad(dest: Path, mapping: Mapping) -> dict[str, int]:
+    """Source column -> number of its cells listed in _bad."""
+    counts = (pl.scan_parquet(dest).select(pl.col("_bad").drop_nulls().str.split(",").explode())
+              .group_by("_bad").len().collect())
+    found = dict(zip(counts["_bad"], counts["len"], strict=True))
+    return {mapping.choices[f].column: found[f] for f in CANONICAL_FIELDS if f in found}
+
+
+# --- the entry point ---------------------------------------------------------------------------
+
+
+def _open(source: Path, plain: Path, fmt: str, delimiter: str | None) -> tuple:
+    """The lazy scan and the file's column schema (without our row index)."""
+    try:
+        frame = _scan(plain, fmt, delimiter)
+        schema = frame.collect_schema()
+    except (pl.exceptions.PolarsError, pl.exceptions.PanicException) as err:
+        raise _explain(source, plain, fmt, delimiter, err) from err
+    return frame, pl.Schema({n: t for n, t in schema.items() if n != _ROW})
+
+
+def _map(source: Path, columns: list[str], map_overrides: dict[str, str] | None,
+         unit_overrides: dict[str, str] | None) -> Mapping:
+    """The column mapping, or a one-line IngestError when it cannot be made."""
+    try:
+        mapping = guess_mapping(columns, map_overrides, unit_overrides)
+    except SchemaError as err:
+        raise IngestError(f"{source.name}: {err}") from err
+    if "id" not in mapping.choices:
+        listed = ", ".join(repr(c) for c in columns)
+        raise IngestError(f"{source.name}: no id column among {listed}; use --map id=COLUMN")
+    return mapping
+
+
+def _read(source: Path, plain: Path, compression: str | None, dest: Path,
+          overrides: tuple[dict | None, dict | None], progress: Progress) -> IngestReport:
+    """Ingest an uncompressed file ``plain`` (read from ``source``) into ``dest``."""
+    if plain.stat().st_size == 0:
+        raise IngestError(f"{source.name}: the file is empty; export the catalogue again")
+    fmt = _detect_format(source, plain)
+    if fmt == "parquet":
+        _check_parquet(source, plain)
+    delimiter = _sniff_delimiter(plain) if fmt == "delimited" else None
+    frame, schema = _open(source, plain, fmt, delimiter)
+    mapping = _map(source, schema.names(), *overrides)
+    progress("read", 0)
+    plan = _normalise(frame, schema, mapping)
+    rows = _write(plan, dest, source, lambda err: _explain(source, plain, fmt, delimiter, err))
+    progress("write", rows)
+    return IngestReport(rows=rows, format=fmt, compression=compression, delimiter=delimiter,
+                        columns=schema.names(), mapping=mapping,
+                        unknown_columns=list(mapping.unknown_columns),
+                        bad_cells=_count_bad(dest, mapping))
+
+
+def ingest(source: Path, dest: Path, *, map_overrides: dict[str, str] | None = None,
+           unit_overrides: dict[str, str] | None = None, limits: IngestLimits = IngestLimits(),
+           progress: Progress | None = None) -> IngestReport:
+    """Read ``source`` (any supported format) and write the normalised SI Parquet to ``dest``.
+
+    ``progress(stage, count)`` is called for "decompress" (count = bytes written so far), "read"
+    and "write" (count = rows so far)."""
+    source, dest = Path(source), Path(dest)
+    notify = progress or (lambda stage, count: None)
+    if not source.is_file():
+        raise IngestError(f"{source}: no such file; check the path")
+    dest.parent.mkdir(parents=True, exist_ok=True)
+    compression = _detect_compression(source)
+    plain = source if compression is None else _decompress(source, compression, dest, limits,
+                                                           notify)
+    try:
+        return _read(source, plain, compression, dest, (map_overrides, unit_overrides), notify)
+    finally:
+        if plain != source:
+            plain.unlink(missing_ok=True)
