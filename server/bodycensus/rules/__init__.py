@@ -1,0 +1,20 @@
+"""The rule registry: every rule as a small record, evaluated over the derived context.
+
+``all_rules()`` lists them in report order; ``rules/base.py`` runs them.
+"""
+
+from __future__ import annotations
+
+from bodycensus.rules.base import Rule
+from bodycensus.rules.body import body_rules
+from bodycensus.rules.errors import error_rules
+from bodycensus.rules.orbit import OrbitSettings, orbit_rules
+from bodycensus.rules.statistics import statistics_rules
+
+
+def all_rules(orbit_settings: OrbitSettings = OrbitSettings()) -> tuple[Rule, ...]:
+    """Every rule, errors first."""
+    return (*error_rules(), *body_rules(), *orbit_rules(orbit_settings), *statistics_rules())
+
+
+RULE_IDS: tuple[str, ...] = tuple(rule.id for rule in all_rules())

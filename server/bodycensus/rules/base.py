@@ -1,0 +1,132 @@
+"""The rule record and the runner: every rule is a small frozen record, evaluated in one lazy pass.
+
+A rule says which families it applies to, which columns it needs, its published source, and
+polars expressions for the value, the limit and when it fires. ``evaluate`` turns all rules into
+one findings frame; ``coverage`` says for each rule how many bodies it could and could not judge.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass
+
+import polars as pl
+
+SEVERITIES: tuple[str, ...] = ("error", "impossible", "unstable", "suspect", "note")
+SEVERITY_RANK: dict[str, int] = {name: rank for rank, name in enumerate(SEVERITIES)}
+
+FINDING_SCHEMA: dict[str, pl.DataType] = {
+    "body": pl.String(), "rule": pl.String(), "severity": pl.String(), "value": pl.Float64(),
+    "limit": pl.Float64(), "unit": pl.String(), "margin": pl.Float64(), "message": pl.String(),
+    "source": pl.String(), "label": pl.String(), "family": pl.String(), "_row": pl.Int64(),
+}
+
+
+@dataclass(frozen=True)
+class Rule:
+    """One check. ``fires`` defaults to value above (or below) limit, per ``direction``."""
+
+    id: str
+    title: str
+    severity: str
+    source: str
+    needs: tuple[str, ...]
+    value: pl.Expr
+    limit: pl.Expr
+    unit: str
+    message: pl.Expr
+    direction: str = "above"  # above | below | none (fires says it all)
+    families: frozenset[str] | None = None  # None: every family
+    fires: pl.Expr | None = None
+    severity_expr: pl.Expr | None = None
+    scope: str = "body"  # error | body | orbit | statistics
+
+    def applies(self) -> pl.Expr:
+        """Bodies this rule is meant for, whether or not their fields are present."""
+        applies = pl.col("_row").is_not_null()  # a column, so that sums count rows
+        if self.families is not None:
+            applies = pl.col("family").is_in(sorted(self.families))
+        if self.scope == "orbit":
+            applies = applies & pl.col("parent").is_not_null()
+        return applies
+
+    def judged(self) -> pl.Expr:
+        """Bodies the rule applies to that have every column it needs."""
+        return pl.all_horizontal(self.applies(), *[pl.col(c).is_not_null() for c in self.needs])
+
+    def firing(self) -> pl.Expr:
+        """The rule's verdict among judged bodies."""
+        if self.fires is not None:
+            return self.fires
+        if self.direction == "below":
+            return self.value < self.limit
+        return self.value > self.limit
+
+    def margin(self) -> pl.Expr:
+        """How far past the limit, as a fraction of it (positive = violated; null without a limit)."""
+        if self.direction == "below":
+            return (self.limit - self.value) / self.limit.abs()
+        if self.direction == "above":
+            return (self.value - self.limit) / self.limit.abs()
+        return (self.value - self.limit).abs() / self.limit.abs()  # two-sided: distance past
+
+
+def _findings_of(rule: Rule, context: pl.LazyFrame) -> pl.LazyFrame:
+    severity = rule.severity_expr if rule.severity_expr is not None else pl.lit(rule.severity)
+    body = pl.coalesce(pl.col("id"), pl.format("row {}", pl.col("_row")))
+    return context.filter(rule.judged() & rule.firing().fill_null(False)).select(
+        body.alias("body"),
+        pl.lit(rule.id).alias("rule"),
+        severity.alias("severity"),
+        rule.value.cast(pl.Float64).alias("value"),
+        rule.limit.cast(pl.Float64).alias("limit"),
+        pl.lit(rule.unit).alias("unit"),
+        rule.margin().cast(pl.Float64).alias("margin"),
+        rule.message.alias("message"),
+        pl.lit(rule.source).alias("source"),
+        pl.col("label"),
+        pl.col("family"),
+        pl.col("_row"),
+    )
+
+
+def evaluate(context: pl.LazyFrame, rules: Sequence[Rule]) -> pl.LazyFrame:
+    """All findings of all rules over the derived context, as one lazy frame."""
+    if not rules:
+        return pl.LazyFrame(schema=FINDING_SCHEMA)
+    return pl.concat([_findings_of(rule, context) for rule in rules], how="vertical")
+
+
+def coverage(context: pl.LazyFrame, rules: Sequence[Rule]) -> pl.DataFrame:
+    """Per rule: bodies evaluated, bodies skipped, and which missing columns skipped them."""
+    exprs: list[pl.Expr] = []
+    for i, rule in enumerate(rules):
+        exprs.append(rule.applies().sum().alias(f"a{i}"))
+        exprs.append(rule.judged().sum().alias(f"j{i}"))
+        for k, column in enumerate(rule.needs):
+            missing = rule.applies() & pl.col(column).is_null()
+            exprs.append(missing.sum().alias(f"m{i}_{k}"))
+    counts = context.select(exprs).collect().row(0, named=True)
+    rows = []
+    for i, rule in enumerate(rules):
+        applicable, judged = counts[f"a{i}"], counts[f"j{i}"]
+        lacking = [c for k, c in enumerate(rule.needs) if counts[f"m{i}_{k}"]]
+        why = _why_skipped(applicable, judged, lacking)
+        rows.append({"rule": rule.id, "title": rule.title, "severity": rule.severity,
+                     "evaluated": judged, "skipped": applicable - judged, "why": why})
+    return pl.DataFrame(rows, schema={"rule": pl.String, "title": pl.String,
+                                      "severity": pl.String, "evaluated": pl.Int64,
+                                      "skipped": pl.Int64, "why": pl.String})
+
+
+def _why_skipped(applicable: int, judged: int, lacking: Iterable[str]) -> str:
+    if applicable == 0:
+        return "no body of the families it applies to"
+    if judged == applicable:
+        return ""
+    return "no " + ", ".join(c.removeprefix("_") for c in lacking)
+
+
+def fmt(expr: pl.Expr) -> pl.Expr:
+    """A number as short text for messages (4 significant figures)."""
+    return expr.round_sig_figs(4).cast(pl.String)
