@@ -175,7 +175,7 @@ BODY_FORMULAS = [
 @pytest.mark.parametrize(
     ("formula", "columns", "constants"),
     BODY_FORMULAS,
-    ids=[f"{f.__name__}-{'-'.join(c.values())}" for f, _, c in BODY_FORMULAS],
+    ids=["-".join([f.__name__, *c.values()]) for f, _, c in BODY_FORMULAS],
 )
 def test_scalar_numpy_and_polars_forms_agree(formula: Callable[..., Any],
                                              columns: dict[str, list[float]],
