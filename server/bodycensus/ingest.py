@@ -17,7 +17,7 @@ import re
 import tempfile
 import zlib
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass
+from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import BinaryIO
 
@@ -25,7 +25,11 @@ import polars as pl
 import zstandard
 
 from bodycensus.schema import (
-    CANONICAL_FIELDS, FIELD_TYPES, NUMERIC_FIELDS, TEXT_FIELDS, Mapping, SchemaError,
+    CANONICAL_FIELDS,
+    FIELD_TYPES,
+    NUMERIC_FIELDS,
+    Mapping,
+    SchemaError,
     guess_mapping,
 )
 
@@ -33,12 +37,13 @@ Progress = Callable[[str, int], None]
 _ROW = "__bodycensus_row__"
 _CHUNK = 1 << 20
 _DELIMITERS = (",", "\t", ";")
-_TRUE = ("true", "yes", "1", "y", "t")
-_FALSE = ("false", "no", "0", "n", "f")
+_WORDS = {**dict.fromkeys(("true", "yes", "y", "t", "1", "1.0"), True),
+          **dict.fromkeys(("false", "no", "n", "f", "0", "0.0"), False)}
 _EXTENSIONS = {
     ".csv": "delimited", ".tsv": "delimited", ".tab": "delimited", ".txt": "delimited",
     ".ndjson": "ndjson", ".jsonl": "ndjson", ".parquet": "parquet", ".pq": "parquet",
 }
+_MAGIC = {b"\x1f\x8b": "gzip", b"\x28\xb5\x2f\xfd": "zstd"}
 _COMPRESSIONS = {".gz": "gzip", ".gzip": "gzip", ".zst": "zstd", ".zstd": "zstd"}
 
 
@@ -68,15 +73,7 @@ class IngestReport:
 
     def to_json(self) -> dict:
         """A plain dict for the API, the manifest and `bodycensus check`."""
-        return {
-            "rows": self.rows, "format": self.format, "compression": self.compression,
-            "delimiter": self.delimiter, "columns": list(self.columns),
-            "mapping": self.mapping.to_json(), "unknown_columns": list(self.unknown_columns),
-            "bad_cells": dict(self.bad_cells),
-        }
-
-
-# --- compression -------------------------------------------------------------------------------
+        return {**asdict(self), "mapping": self.mapping.to_json()}
 
 
 def _detect_compression(source: Path) -> str | None:
@@ -85,9 +82,7 @@ def _detect_compression(source: Path) -> str | None:
         return _COMPRESSIONS[source.suffix.lower()]
     with source.open("rb") as fh:
         magic = fh.read(4)
-    if magic[:2] == b"\x1f\x8b":
-        return "gzip"
-    return "zstd" if magic == b"\x28\xb5\x2f\xfd" else None
+    return next((name for start, name in _MAGIC.items() if magic.startswith(start)), None)
 
 
 def _zstd_chunks(fh: BinaryIO) -> Iterator[bytes]:
@@ -110,44 +105,36 @@ def _chunks(source: Path, compression: str) -> Iterator[bytes]:
             yield from _zstd_chunks(raw)
             return
         with gzip.GzipFile(fileobj=raw) as fh:
-            while chunk := fh.read(_CHUNK):
-                yield chunk
+            yield from iter(lambda: fh.read(_CHUNK), b"")
 
 
 def _decompress(source: Path, compression: str, dest: Path, limits: IngestLimits,
                 progress: Progress) -> Path:
     """Stream ``source`` to a temp file beside ``dest``; the progress count is bytes written."""
     fd, name = tempfile.mkstemp(prefix=f".{dest.name}.", suffix=".decompressed", dir=dest.parent)
-    written = 0
+    written, limit = 0, limits.max_decompressed_bytes
     try:
         with os.fdopen(fd, "wb") as out:
             for chunk in _chunks(source, compression):
                 written += len(chunk)
-                if written > limits.max_decompressed_bytes:
-                    raise IngestError(
-                        f"{source.name}: decompresses to more than "
-                        f"{limits.max_decompressed_bytes:,} bytes (the limit); decompress it "
-                        "yourself or raise max_decompressed_bytes")
+                if written > limit:
+                    raise IngestError(f"{source.name}: decompresses to more than {limit:,} bytes "
+                                      "(the limit); decompress it yourself or raise the limit")
                 out.write(chunk)
                 progress("decompress", written)
-    except (OSError, EOFError, zlib.error, zstandard.ZstdError) as err:
+    except BaseException as err:
         Path(name).unlink(missing_ok=True)
-        raise IngestError(
-            f"{source.name}: {compression} data is corrupt or truncated after {written:,} bytes "
-            f"of output ({_first_line(err)}); download or compress the file again") from err
-    except IngestError:
-        Path(name).unlink(missing_ok=True)
+        if isinstance(err, (OSError, EOFError, zlib.error, zstandard.ZstdError)):
+            raise IngestError(
+                f"{source.name}: {compression} data is corrupt or truncated after {written:,} "
+                f"bytes of output ({_first_line(err)}); download or compress it again") from err
         raise
     return Path(name)
 
 
-# --- format and scanning -----------------------------------------------------------------------
-
-
 def _first_line(err: BaseException) -> str:
     """The first line of an exception's message (polars messages run to many lines)."""
-    text = str(err).strip() or type(err).__name__
-    return text.splitlines()[0]
+    return (str(err).strip() or type(err).__name__).splitlines()[0]
 
 
 def _detect_format(source: Path, plain: Path) -> str:
@@ -166,9 +153,7 @@ def _sniff_delimiter(plain: Path) -> str:
     """The delimiter that occurs most often outside quotes in the header line."""
     with plain.open("r", encoding="utf-8", errors="replace", newline="") as fh:
         header = fh.readline()
-    unquoted = re.sub(r'"[^"]*"', "", header)
-    counts = {d: unquoted.count(d) for d in _DELIMITERS}
-    return max(_DELIMITERS, key=lambda d: counts[d])
+    return max(_DELIMITERS, key=re.sub(r'"[^"]*"', "", header).count)
 
 
 def _check_parquet(source: Path, plain: Path) -> None:
@@ -193,9 +178,6 @@ def _scan(plain: Path, fmt: str, delimiter: str | None) -> pl.LazyFrame:
                               row_index_offset=1, schema_overrides=dict.fromkeys(names, pl.String))
     return pl.scan_csv(plain, separator=delimiter or ",", infer_schema=False,
                        encoding="utf8-lossy", row_index_name=_ROW, row_index_offset=1)
-
-
-# --- where a broken file broke -----------------------------------------------------------------
 
 
 def _csv_fault(plain: Path, delimiter: str) -> str | None:
@@ -248,9 +230,6 @@ def _explain(source: Path, plain: Path, fmt: str, delimiter: str | None,
     return IngestError(f"{source.name}: {fault}")
 
 
-# --- normalising -------------------------------------------------------------------------------
-
-
 def _to_string(col: pl.Expr, dtype: pl.DataType) -> pl.Expr:
     """Any column as text, verbatim (structs and lists as JSON-like text)."""
     if dtype == pl.String:
@@ -285,8 +264,7 @@ def _flag(col: pl.Expr, dtype: pl.DataType) -> tuple[pl.Expr, pl.Expr]:
     if dtype == pl.Boolean:
         return col, pl.lit(False)
     text = _clean(_to_string(col, dtype)).str.to_lowercase()
-    words = {**dict.fromkeys(_TRUE + ("1.0",), True), **dict.fromkeys(_FALSE + ("0.0",), False)}
-    value = text.replace_strict(words, default=None, return_dtype=pl.Boolean)
+    value = text.replace_strict(_WORDS, default=None, return_dtype=pl.Boolean)
     return value, text.is_not_null() & value.is_null()
 
 
@@ -322,9 +300,6 @@ def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping) -> pl.L
     exprs += [_to_string(pl.col(c), schema[c]).alias(_output_name(c))
               for c in mapping.unknown_columns]
     return frame.select(exprs)
-
-
-# --- writing -----------------------------------------------------------------------------------
 
 
 def _fsync(path: Path) -> None:
@@ -364,19 +339,6 @@ def _count_bad(dest: Path, mapping: Mapping) -> dict[str, int]:
     return {mapping.choices[f].column: found[f] for f in CANONICAL_FIELDS if f in found}
 
 
-# --- the entry point ---------------------------------------------------------------------------
-
-
-def _open(source: Path, plain: Path, fmt: str, delimiter: str | None) -> tuple:
-    """The lazy scan and the file's column schema (without our row index)."""
-    try:
-        frame = _scan(plain, fmt, delimiter)
-        schema = frame.collect_schema()
-    except (pl.exceptions.PolarsError, pl.exceptions.PanicException) as err:
-        raise _explain(source, plain, fmt, delimiter, err) from err
-    return frame, pl.Schema({n: t for n, t in schema.items() if n != _ROW})
-
-
 def _map(source: Path, columns: list[str], map_overrides: dict[str, str] | None,
          unit_overrides: dict[str, str] | None) -> Mapping:
     """The column mapping, or a one-line IngestError when it cannot be made."""
@@ -399,7 +361,11 @@ def _read(source: Path, plain: Path, compression: str | None, dest: Path,
     if fmt == "parquet":
         _check_parquet(source, plain)
     delimiter = _sniff_delimiter(plain) if fmt == "delimited" else None
-    frame, schema = _open(source, plain, fmt, delimiter)
+    try:
+        frame = _scan(plain, fmt, delimiter)
+        schema = pl.Schema({n: t for n, t in frame.collect_schema().items() if n != _ROW})
+    except (pl.exceptions.PolarsError, pl.exceptions.PanicException) as err:
+        raise _explain(source, plain, fmt, delimiter, err) from err
     mapping = _map(source, schema.names(), *overrides)
     progress("read", 0)
     plan = _normalise(frame, schema, mapping)
