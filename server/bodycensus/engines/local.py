@@ -114,7 +114,7 @@ def check_table(table: pl.LazyFrame, workdir: Path, options: CheckOptions = Chec
     _write_atomic(rule_coverage, workdir / "coverage.parquet")
     progress("artefacts", 0.0)
     found = (artefact_detector.detect_artefacts(bodies, ARTEFACT_FIELDS) if options.artefacts
-             else artefact_detector.detect_artefacts(bodies.head(0), ARTEFACT_FIELDS))
+             else pl.DataFrame(schema=artefact_detector.ARTEFACT_SCHEMA))
     _write_atomic(found, workdir / "artefacts.parquet")
     progress("write", 1.0)
     summary = build_summary(bodies, findings, found, families, report)

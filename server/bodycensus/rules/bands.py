@@ -58,20 +58,21 @@ def band_high() -> pl.Expr:
     return pl.col("_band_high")
 
 
-# How a slip scales density: a mass unit slip by f scales it by f, a radius slip by f^-3.
-UNIT_SLIPS: tuple[tuple[float, str], ...] = (
-    (1e9, "radius may be in km where m was meant"),
-    (1e-9, "radius may be in m where km was meant"),
-    (1e3, "mass may be in g where kg was meant"),
-    (1e-3, "mass may be in kg where g was meant"),
-    (M_JUPITER / M_EARTH, "mass may be in Jupiter masses where Earth masses were meant"),
-    (M_EARTH / M_JUPITER, "mass may be in Earth masses where Jupiter masses were meant"),
-    (M_SUN / M_JUPITER, "mass may be in solar masses where Jupiter masses were meant"),
-    (M_JUPITER / M_SUN, "mass may be in Jupiter masses where solar masses were meant"),
-    ((R_EARTH / R_JUPITER) ** 3, "radius may be in Jupiter radii where Earth radii were meant"),
-    ((R_JUPITER / R_EARTH) ** 3, "radius may be in Earth radii where Jupiter radii were meant"),
-    ((R_JUPITER / R_SUN) ** 3, "radius may be in solar radii where Jupiter radii were meant"),
-    ((R_SUN / R_JUPITER) ** 3, "radius may be in Jupiter radii where solar radii were meant"),
+# Known unit slips: (field, factor by which it came out too large, the likely cause). A mass too
+# large by f scales density by f; a radius too large by f scales it by f^-3.
+UNIT_SLIPS: tuple[tuple[str, float, str], ...] = (
+    ("radius", 1e3, "metres given where km were expected"),
+    ("radius", 1e-3, "km given where metres were expected"),
+    ("mass", 1e3, "kg given where g were expected"),
+    ("mass", 1e-3, "g given where kg were expected"),
+    ("mass", M_JUPITER / M_EARTH, "Jupiter masses given as Earth masses"),
+    ("mass", M_EARTH / M_JUPITER, "Earth masses given as Jupiter masses"),
+    ("mass", M_SUN / M_JUPITER, "solar masses given as Jupiter masses"),
+    ("mass", M_JUPITER / M_SUN, "Jupiter masses given as solar masses"),
+    ("radius", R_JUPITER / R_EARTH, "Jupiter radii given as Earth radii"),
+    ("radius", R_EARTH / R_JUPITER, "Earth radii given as Jupiter radii"),
+    ("radius", R_SUN / R_JUPITER, "solar radii given as Jupiter radii"),
+    ("radius", R_JUPITER / R_SUN, "Jupiter radii given as solar radii"),
 )
 SLIP_TOLERANCE = 10.0  # a slip is suspected only when the density misses its band by > 10x
 
@@ -82,10 +83,10 @@ def unit_slip_hint(density: pl.Expr) -> pl.Expr:
     low, high = band_low(), band_high()
     far_out = (density < low / SLIP_TOLERANCE) | (density > high * SLIP_TOLERANCE)
     hint: pl.Expr | None = None
-    for factor, text in UNIT_SLIPS:
-        fixed = density / factor
+    for field, factor, cause in UNIT_SLIPS:
+        fixed = density / (factor if field == "mass" else factor**-3)
         inside = far_out & (fixed >= low) & (fixed <= high)
-        hint = (pl.when(inside).then(pl.lit(text)) if hint is None
-                else hint.when(inside).then(pl.lit(text)))
+        text = pl.lit(f"{field} looks {factor:.4g}x too large ({cause}?)")
+        hint = pl.when(inside).then(text) if hint is None else hint.when(inside).then(text)
     assert hint is not None
     return hint.otherwise(None)

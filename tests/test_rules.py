@@ -1,0 +1,293 @@
+"""Every rule id: one body that must fire and one near the limit that must not.
+
+Each check names the published source of the limit it tests. Bodies are synthetic with a known
+answer; they run through the real engine (derive -> rules) via ``check_table``.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from bodycensus.families import FAMILIES
+from bodycensus.physics import bodies, orbits
+from bodycensus.rules import RULE_IDS, all_rules
+from bodycensus.rules.base import SEVERITIES
+from bodycensus.units import AU, M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
+from tests.catalogue_builder import EARTH_LIKE, SUN_LIKE, fired, run
+
+EXPECTED_IDS = {
+    "missing-value", "bad-cell", "non-positive", "duplicate-id", "orphan-parent", "parent-cycle",
+    "unit-slip", "bad-eccentricity", "denser-than-iron", "family-density", "oversized-cold-body",
+    "over-chandrasekhar", "over-neutron-star-max", "under-hydrogen-burning", "brown-dwarf-range",
+    "periapsis-inside-parent", "inside-rigid-roche", "inside-fluid-roche", "roche-lobe-overflow",
+    "outside-hill-sphere", "beyond-stable-hill", "kepler-mismatch", "crossing-orbits",
+    "hill-spacing", "heavier-than-parent", "binary-barycentre", "tidal-lock-age", "label-outlier",
+}
+
+
+def moon(body_id: str, a: float, mass: float = 1e20, radius: float = 2e5, **extra) -> dict:
+    """A rocky moon of the Earth-like planet P."""
+    return {"id": body_id, "label": "rocky moon", "family": "rock", "parent": "P", "mass": mass,
+            "radius": radius, "semi_major_axis": a, "eccentricity": 0.0, **extra}
+
+
+def test_registry_has_every_rule_once_with_source_and_known_words() -> None:
+    assert set(RULE_IDS) == EXPECTED_IDS and len(RULE_IDS) == len(EXPECTED_IDS)
+    for rule in all_rules():
+        assert rule.source and rule.title
+        assert rule.severity in SEVERITIES
+        assert rule.families is None or rule.families <= set(FAMILIES)
+
+
+def test_clean_pair_has_no_finding_but_the_expected(tmp_path: Path) -> None:
+    result = run([SUN_LIKE, EARTH_LIKE], tmp_path)
+    assert result.findings.height == 0
+
+
+# --- errors (data integrity) -------------------------------------------------------------------
+def test_missing_value(tmp_path: Path) -> None:
+    rows = [SUN_LIKE, EARTH_LIKE,
+            {"id": "nosize", "label": "terrestrial planet", "parent": "S", "semi_major_axis": AU},
+            {"id": "noorbit", "label": "terrestrial planet", "parent": "S", "mass": M_EARTH},
+            {"id": "sized", "label": "terrestrial planet", "radius": 6.4e6}]
+    assert set(fired(run(rows, tmp_path), "missing-value")) == {"nosize", "noorbit"}
+
+
+def test_bad_cell(tmp_path: Path) -> None:
+    rows = [SUN_LIKE, {**EARTH_LIKE, "mass": None, "_bad": "mass"}, {**EARTH_LIKE, "id": "ok"}]
+    assert fired(run(rows, tmp_path), "bad-cell") == {"P": "error"}
+
+
+def test_non_positive(tmp_path: Path) -> None:
+    rows = [SUN_LIKE, {**EARTH_LIKE, "mass": -M_EARTH}, {**EARTH_LIKE, "id": "tiny", "mass": 1.0}]
+    assert fired(run(rows, tmp_path), "non-positive") == {"P": "error"}
+
+
+def test_duplicate_id(tmp_path: Path) -> None:
+    rows = [SUN_LIKE, EARTH_LIKE, {**EARTH_LIKE, "semi_major_axis": 2 * AU},
+            {**EARTH_LIKE, "id": "Q", "semi_major_axis": 3 * AU}]
+    result = run(rows, tmp_path)
+    assert set(fired(result, "duplicate-id")) == {"P"}
+    assert result.findings.filter(rule="duplicate-id").height == 2
+
+
+def test_orphan_parent(tmp_path: Path) -> None:
+    rows = [SUN_LIKE, EARTH_LIKE, {**EARTH_LIKE, "id": "lost", "parent": "nowhere"}]
+    assert fired(run(rows, tmp_path), "orphan-parent") == {"lost": "error"}
+
+
+def test_parent_cycle_and_self_parent(tmp_path: Path) -> None:
+    rows = [SUN_LIKE, EARTH_LIKE, moon("M", 3.8e8),
+            {**EARTH_LIKE, "id": "A", "parent": "B"}, {**EARTH_LIKE, "id": "B", "parent": "A"},
+            {**EARTH_LIKE, "id": "C", "parent": "C"}]
+    assert set(fired(run(rows, tmp_path), "parent-cycle")) == {"A", "B", "C"}
+
+
+def test_unit_slip_names_the_factor(tmp_path: Path) -> None:
+    # A radius in metres read as km makes density 1e9x too small; the band is Seager et al. 2007.
+    rows = [SUN_LIKE, {**EARTH_LIKE, "radius": 6.371e9},
+            {**EARTH_LIKE, "id": "light", "radius": 6.371e6 * 1.6}]  # 4x light: suspect, no slip
+    result = run(rows, tmp_path)
+    assert fired(result, "unit-slip") == {"P": "error"}
+    message = result.findings.filter(rule="unit-slip")["message"][0]
+    assert "radius looks 1000x too large" in message
+    assert "light" in fired(result, "family-density")
+
+
+def test_bad_eccentricity(tmp_path: Path) -> None:
+    # Bound Keplerian orbits have 0 <= e < 1 (orbital mechanics).
+    rows = [SUN_LIKE, {**EARTH_LIKE, "eccentricity": 1.2},
+            {**EARTH_LIKE, "id": "ok", "eccentricity": 0.99, "semi_major_axis": 40 * AU,
+             "period": None}]
+    assert fired(run(rows, tmp_path), "bad-eccentricity") == {"P": "error"}
+
+
+# --- single bodies -------------------------------------------------------------------------
+def test_denser_than_iron(tmp_path: Path) -> None:
+    # Seager et al. 2007: pure iron at 1 M_earth has R = 0.789 R_earth; 5% tolerance.
+    rows = [SUN_LIKE, {**EARTH_LIKE, "radius": 0.70 * R_EARTH},
+            {**EARTH_LIKE, "id": "ironish", "radius": 0.80 * R_EARTH, "semi_major_axis": 2 * AU,
+             "period": None}]
+    result = run(rows, tmp_path)
+    assert fired(result, "denser-than-iron") == {"P": "impossible"}
+    assert "ironish" not in fired(result, "family-density")
+
+
+def _radius_at(mass: float, density: float) -> float:
+    """The radius that gives this mass that density."""
+    return (mass / (density * bodies.sphere_volume(1.0))) ** (1 / 3)
+
+
+def test_family_density(tmp_path: Path) -> None:
+    # Rock band: 0.6 x Seager MgSiO3 density up to the Seager iron density at the same mass.
+    low = 0.6 * bodies.composition_density(M_EARTH, "rock")
+    rows = [SUN_LIKE, {**EARTH_LIKE, "radius": _radius_at(M_EARTH, 0.8 * low)},
+            {**EARTH_LIKE, "id": "edge", "radius": _radius_at(M_EARTH, 1.02 * low),
+             "semi_major_axis": 2 * AU, "period": None}]
+    assert fired(run(rows, tmp_path), "family-density") == {"P": "suspect"}
+
+
+def test_oversized_cold_body(tmp_path: Path) -> None:
+    # Cold H/He bodies stay near 1 R_jup (Burrows & Liebert 1993); inflated ones reach ~2 R_jup.
+    giant = {**EARTH_LIKE, "label": "gas giant", "family": "gas_giant", "mass": M_JUPITER,
+             "semi_major_axis": 5.2 * AU, "period": None, "eccentricity": 0.0}
+    rows = [SUN_LIKE, {**giant, "id": "big", "radius": 2.5 * R_JUPITER},
+            {**giant, "id": "hot", "radius": 1.9 * R_JUPITER, "semi_major_axis": 15 * AU}]
+    assert fired(run(rows, tmp_path), "oversized-cold-body") == {"big": "suspect"}
+
+
+def _remnant(body_id: str, family: str, mass: float, radius: float) -> dict:
+    return {"id": body_id, "label": family.replace("_", " "), "family": family, "mass": mass,
+            "radius": radius}
+
+
+def test_over_chandrasekhar(tmp_path: Path) -> None:
+    # Chandrasekhar 1935: 1.44 M_sun for mu_e = 2.
+    rows = [_remnant("heavy", "white_dwarf", 1.50 * M_SUN, 3e6),
+            _remnant("edge", "white_dwarf", 1.43 * M_SUN, 3e6)]
+    assert fired(run(rows, tmp_path), "over-chandrasekhar") == {"heavy": "impossible"}
+
+
+def test_over_neutron_star_max(tmp_path: Path) -> None:
+    # Heaviest measured 2.35 M_sun (Romani et al. 2022); causal bound ~3 M_sun (memory).
+    rows = [_remnant(i, "neutron_star", m * M_SUN, 12e3)
+            for i, m in (("over3", 3.2), ("over23", 2.5), ("ok", 2.2))]
+    assert fired(run(rows, tmp_path), "over-neutron-star-max") == {
+        "over3": "impossible", "over23": "suspect"}
+
+
+def test_under_hydrogen_burning(tmp_path: Path) -> None:
+    # Hydrogen-burning limit ~0.075-0.08 M_sun (Burrows & Liebert 1993).
+    rows = [{**SUN_LIKE, "id": "faint", "mass": 0.070 * M_SUN, "radius": 0.1 * R_SUN},
+            {**SUN_LIKE, "id": "dim", "mass": 0.076 * M_SUN, "radius": 0.1 * R_SUN}]
+    assert fired(run(rows, tmp_path), "under-hydrogen-burning") == {"faint": "impossible"}
+
+
+def test_brown_dwarf_range(tmp_path: Path) -> None:
+    # Deuterium burning ~13 M_jup (Spiegel, Burrows & Milsom 2011) up to ~0.075 M_sun.
+    rows = [_remnant(i, "brown_dwarf", m * M_JUPITER, 0.9 * R_JUPITER)
+            for i, m in (("light", 10.0), ("heavy", 85.0), ("ok", 14.0), ("ok2", 75.0))]
+    assert set(fired(run(rows, tmp_path), "brown-dwarf-range")) == {"light", "heavy"}
+
+
+# --- orbits ------------------------------------------------------------------------------------
+def test_periapsis_inside_parent(tmp_path: Path) -> None:
+    rows = [SUN_LIKE, EARTH_LIKE, moon("through", 6.0e6), moon("grazing", 1.05 * (6.371e6 + 2e5))]
+    assert fired(run(rows, tmp_path), "periapsis-inside-parent") == {"through": "impossible"}
+
+
+def test_inside_rigid_roche_depends_on_size(tmp_path: Path) -> None:
+    # Rigid Roche limit R_M (2 rho_M / rho_m)^(1/3) (Shu 1982); gravity-bound above ~200 km.
+    density = bodies.bulk_density(1e20, 2e5)
+    rigid = orbits.roche_rigid(6.371e6, bodies.bulk_density(M_EARTH, 6.371e6), density)
+    small_mass = density * bodies.sphere_volume(1e4)
+    rows = [SUN_LIKE, EARTH_LIKE, moon("big", 0.9 * rigid),
+            moon("pebble", 0.9 * rigid, mass=small_mass, radius=1e4), moon("out", 1.05 * rigid)]
+    assert fired(run(rows, tmp_path), "inside-rigid-roche") == {
+        "big": "impossible", "pebble": "unstable"}
+
+
+def test_inside_fluid_roche(tmp_path: Path) -> None:
+    # Fluid Roche limit 2.44 R_M (rho_M / rho_m)^(1/3) (Roche 1849): a note for solid bodies.
+    density = bodies.bulk_density(1e20, 2e5)
+    fluid = orbits.roche_fluid(6.371e6, bodies.bulk_density(M_EARTH, 6.371e6), density)
+    rows = [SUN_LIKE, EARTH_LIKE, moon("inside", 0.9 * fluid), moon("outside", 1.05 * fluid)]
+    assert fired(run(rows, tmp_path), "inside-fluid-roche") == {"inside": "note"}
+
+
+def test_roche_lobe_overflow(tmp_path: Path) -> None:
+    # Eggleton 1983: at q = 1 the lobe is 0.379 of the separation.
+    twin = {**SUN_LIKE, "parent": "S", "eccentricity": 0.0}
+    rows = [SUN_LIKE, {**twin, "id": "close", "semi_major_axis": 2.5 * R_SUN},
+            {**SUN_LIKE, "id": "S2"}, {**twin, "id": "wide", "parent": "S2",
+                                       "semi_major_axis": 3.0 * R_SUN}]
+    assert fired(run(rows, tmp_path), "roche-lobe-overflow") == {"close": "unstable"}
+
+
+def _planet_hill() -> float:
+    return orbits.hill_radius(AU, 0.0167, M_EARTH, M_SUN)
+
+
+def test_outside_hill_sphere(tmp_path: Path) -> None:
+    # Hill radius a(1-e)(m/3M)^(1/3): Earth ~1.5e6 km.
+    rows = [SUN_LIKE, EARTH_LIKE, moon("gone", 1.2 * _planet_hill()),
+            moon("held", 0.95 * _planet_hill())]
+    result = run(rows, tmp_path)
+    assert fired(result, "outside-hill-sphere") == {"gone": "impossible"}
+    assert fired(result, "beyond-stable-hill") == {"held": "unstable"}
+
+
+def test_beyond_stable_hill(tmp_path: Path) -> None:
+    # Domingos, Winter & Yokoyama 2006: prograde a_crit = 0.4895 (1 - 1.0305 e_p - 0.2738 e_s).
+    rows = [SUN_LIKE, EARTH_LIKE, moon("wide", 0.60 * _planet_hill()),
+            moon("ok", 0.45 * _planet_hill())]
+    assert fired(run(rows, tmp_path), "beyond-stable-hill") == {"wide": "unstable"}
+
+
+def test_kepler_mismatch(tmp_path: Path) -> None:
+    # Kepler's third law: P = 2 pi sqrt(a^3 / G(M+m)); tolerance 5% (common practice).
+    period = EARTH_LIKE["period"]
+    rows = [SUN_LIKE, {**EARTH_LIKE, "period": 1.10 * period},
+            {**EARTH_LIKE, "id": "near", "period": 1.04 * period}]
+    assert fired(run(rows, tmp_path), "kepler-mismatch") == {"P": "suspect"}
+
+
+def _planet(body_id: str, a_au: float, e: float, mass: float = M_EARTH) -> dict:
+    return {**EARTH_LIKE, "id": body_id, "semi_major_axis": a_au * AU, "eccentricity": e,
+            "mass": mass, "period": None, "radius": 6.371e6 * (mass / M_EARTH) ** 0.27}
+
+
+def test_crossing_orbits(tmp_path: Path) -> None:
+    rows = [SUN_LIKE, _planet("in", 1.0, 0.3), _planet("out", 1.5, 0.2),
+            _planet("far", 2.3, 0.05)]
+    assert fired(run(rows, tmp_path), "crossing-orbits") == {"out": "unstable"}
+
+
+def test_hill_spacing(tmp_path: Path) -> None:
+    # Gladman 1993: two planets are Hill-stable beyond 2 sqrt(3) mutual Hill radii.
+    rows = [SUN_LIKE, {**SUN_LIKE, "id": "S2"},
+            _planet("g1", 5.0, 0.0, M_JUPITER), _planet("g2", 5.5, 0.0, M_JUPITER),
+            {**_planet("h1", 5.0, 0.0, M_JUPITER), "parent": "S2"},
+            {**_planet("h2", 6.6, 0.0, M_JUPITER), "parent": "S2"}]
+    assert fired(run(rows, tmp_path), "hill-spacing") == {"g2": "unstable"}
+
+
+def test_heavier_than_parent(tmp_path: Path) -> None:
+    far = 0.3 * _planet_hill()
+    rows = [SUN_LIKE, EARTH_LIKE, moon("heavy", far, mass=2 * M_EARTH, radius=8e6),
+            moon("light", 0.25 * _planet_hill(), mass=0.5 * M_EARTH, radius=5e6)]
+    assert fired(run(rows, tmp_path), "heavier-than-parent") == {"heavy": "suspect"}
+
+
+def test_binary_barycentre(tmp_path: Path) -> None:
+    # Sun-Jupiter barycentre ~742,000 km from the Sun's centre, outside it (REFERENCES.md).
+    jupiter = {**_planet("J", 5.2, 0.0, 1.89819e27), "radius": 6.9911e7, "label": "gas giant",
+               "family": "gas_giant"}
+    rows = [SUN_LIKE, EARTH_LIKE, jupiter]
+    result = run(rows, tmp_path)
+    assert fired(result, "binary-barycentre") == {"J": "note"}
+    offset = result.findings.filter(rule="binary-barycentre")["value"][0]
+    assert offset == pytest.approx(742_000e3, rel=2e-2)
+
+
+def test_tidal_lock_age(tmp_path: Path) -> None:
+    # Gladman et al. 1996 despinning time: the Moon locks in ~2.4e7 yr, far less than its age.
+    lunar = moon("luna", 3.844e8, mass=7.3458e22, radius=1.7374e6, tidally_locked=True,
+                 age=4.5e9)
+    distant = moon("far", 0.3 * _planet_hill(), mass=1e19, radius=1.5e5,
+                   tidally_locked=True, age=1e8)
+    assert fired(run([SUN_LIKE, EARTH_LIKE, lunar, distant], tmp_path), "tidal-lock-age") == {
+        "far": "suspect"}
+
+
+def test_label_outlier(tmp_path: Path) -> None:
+    # Modified z-score with the MAD (Iglewicz & Hoaglin 1993); threshold 6 (common practice).
+    rows = [SUN_LIKE]
+    for i in range(60):
+        scale = 1.0 + 0.002 * (i - 30)
+        rows.append(_planet(f"p{i}", 1.0 + 0.8 * i, 0.0, M_EARTH * scale))
+    rows[-1] = {**rows[-1], "radius": rows[-1]["radius"] * 1.15}
+    result = run(rows, tmp_path)
+    assert set(fired(result, "label-outlier")) == {"p59"}
