@@ -15,7 +15,7 @@ from bodycensus.physics import bodies, orbits
 from bodycensus.rules import RULE_IDS, all_rules
 from bodycensus.rules.base import SEVERITIES
 from bodycensus.units import AU, M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
-from tests.catalogue_builder import EARTH_LIKE, SUN_LIKE, fired, run
+from catalogue_builder import EARTH_LIKE, SUN_LIKE, fired, run
 
 EXPECTED_IDS = {
     "missing-value", "bad-cell", "non-positive", "duplicate-id", "orphan-parent", "parent-cycle",

@@ -128,5 +128,9 @@ def _why_skipped(applicable: int, judged: int, lacking: Iterable[str]) -> str:
 
 
 def fmt(expr: pl.Expr) -> pl.Expr:
-    """A number as short text for messages (4 significant figures)."""
-    return expr.round_sig_figs(4).cast(pl.String)
+    """A number as short text for messages: 4 significant figures, powers of ten when large."""
+    exponent = expr.abs().log10().floor()
+    scientific = pl.format("{}e{}", (expr / 10.0**exponent).round(3), exponent.cast(pl.Int64))
+    plain = expr.round_sig_figs(4).cast(pl.String).str.strip_suffix(".0")
+    wide = (expr.abs() >= 1e6) | ((expr.abs() < 1e-3) & (expr != 0))
+    return pl.when(wide & expr.is_finite()).then(scientific).otherwise(plain)
