@@ -1,0 +1,116 @@
+"""The app factory: ``create_app(settings)`` builds the FastAPI app; ``serve`` runs it in uvicorn.
+
+Nothing is built at import. The lifespan opens the store (recovering from a crash) and the
+ingest executor once and hands them to routes through ``deps``. Static files, including
+plotly.js from the installed plotly package, are served locally: no page needs another host.
+"""
+
+from __future__ import annotations
+
+import ipaddress
+from collections.abc import AsyncIterator
+from concurrent.futures import ThreadPoolExecutor
+from contextlib import asynccontextmanager
+from importlib.resources import files
+from pathlib import Path
+
+import uvicorn
+from fastapi import FastAPI
+from fastapi.responses import FileResponse
+from fastapi.staticfiles import StaticFiles
+
+from bodycensus import __version__, api, pages
+from bodycensus.errors import BadInput, install_error_handlers
+from bodycensus.jobs import Jobs, add_catalogue
+from bodycensus.settings import Settings
+from bodycensus.store import Store
+
+DEMO_NAME = "Demo catalogue"
+_SAMPLE_DATA = Path(__file__).resolve().parents[2] / "sample_data"  # in a checkout only
+
+
+def plotly_js() -> Path:
+    """plotly.min.js as shipped in the installed plotly package."""
+    return Path(str(files("plotly") / "package_data" / "plotly.min.js"))
+
+
+def static_dir() -> Path:
+    """The packaged web/static folder (``bodycensus.web``)."""
+    return Path(str(files("bodycensus.web") / "static"))
+
+
+def _demo_source(store: Store) -> Path:
+    """The bundled demo file, or a freshly generated one when this is not a checkout."""
+    bundled = sorted(p for p in _SAMPLE_DATA.glob("*") if p.is_file() and
+                     p.name.endswith((".csv", ".csv.gz", ".parquet", ".ndjson"))
+                     and "truth" not in p.name) if _SAMPLE_DATA.is_dir() else []
+    if bundled:
+        return bundled[0]
+    from bodycensus.demo import write_demo
+
+    catalogue, _truth = write_demo(store.scratch("-demo.csv"), n_bodies=20_000, seed=7)
+    return Path(catalogue)
+
+
+def ensure_demo(store: Store, jobs: Jobs) -> None:
+    """Add the demo catalogue through the normal job path unless a usable one exists."""
+    if any(m.demo and m.status != "failed" for m in store.list()):
+        return
+    add_catalogue(store, jobs, _demo_source(store), DEMO_NAME, demo=True)
+
+
+@asynccontextmanager
+async def _lifespan(app: FastAPI) -> AsyncIterator[None]:
+    """Open the store and the ingest executor for the app's lifetime."""
+    settings: Settings = app.state.settings
+    store = Store(settings.data_dir)
+    executor = ThreadPoolExecutor(max_workers=settings.workers, thread_name_prefix="ingest")
+    jobs = Jobs(store, settings, executor)
+    app.state.store, app.state.jobs = store, jobs
+    try:
+        if settings.demo:
+            ensure_demo(store, jobs)
+        yield
+    finally:
+        jobs.shutdown()
+
+
+def create_app(settings: Settings) -> FastAPI:
+    """The dashboard app for ``settings``: JSON API, pages, static files, one error shape."""
+    app = FastAPI(title="bodycensus", version=__version__, lifespan=_lifespan,
+                  openapi_url="/api/openapi.json", docs_url=None, redoc_url=None,
+                  description="Find the bodies that physics rules out in catalogues of "
+                              "planets, moons and stars.")
+    app.state.settings = settings
+    app.state.templates = getattr(pages, "templates", None)
+    install_error_handlers(app)
+    app.include_router(api.router)
+    app.include_router(pages.router)
+
+    @app.get("/static/vendor/plotly.min.js", include_in_schema=False)
+    def plotly() -> FileResponse:
+        return FileResponse(plotly_js(), media_type="text/javascript",
+                            headers={"Cache-Control": "public, max-age=86400"})
+
+    app.mount("/static", StaticFiles(directory=static_dir()), name="static")
+    return app
+
+
+def _is_loopback(host: str) -> bool:
+    """Whether ``host`` only listens on this machine."""
+    if host == "localhost":
+        return True
+    try:
+        return ipaddress.ip_address(host).is_loopback
+    except ValueError:
+        return False
+
+
+def serve(settings: Settings) -> None:
+    """Run the dashboard in uvicorn until interrupted (``bodycensus serve``)."""
+    if not _is_loopback(settings.host):
+        need = ("access tokens are not enforced yet; listen on 127.0.0.1" if settings.token
+                else "listening beyond this machine needs an access token (--token or "
+                     "BODYCENSUS_TOKEN)")
+        raise BadInput(f"refusing to listen on {settings.host}: {need}")
+    uvicorn.run(create_app(settings), host=settings.host, port=settings.port, log_level="info")

@@ -1,0 +1,34 @@
+"""The server's settings: one frozen record, built by the caller (CLI or test), never at import."""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+MIB = 1024 * 1024
+TOKEN_ENV = "BODYCENSUS_TOKEN"
+
+
+@dataclass(frozen=True)
+class Settings:
+    """Where data lives, where to listen, and the limits every upload must respect."""
+
+    data_dir: Path
+    host: str = "127.0.0.1"  # loopback only unless a token is set (see issue "Strangers")
+    port: int = 8000
+    token: str | None = None  # access token; required for any non-loopback host
+    max_upload_bytes: int = 4096 * MIB  # bytes on the wire, enforced while streaming (413)
+    max_decompressed_bytes: int = 16384 * MIB  # refuses gzip/zstd bombs past this size
+    max_rows: int = 50_000_000  # data rows in one catalogue
+    max_columns: int = 2_000  # columns in one catalogue
+    demo: bool = False  # ensure the bundled demo catalogue exists at start-up
+    workers: int = 2  # ingest threads; 2 suits a 2-core machine shared with readers
+
+    @classmethod
+    def from_cli(cls, *, data_dir: Path, token: str | None = None, **options: Any) -> Settings:
+        """Settings for ``bodycensus serve``: an absolute data dir, the token from the
+        environment (``BODYCENSUS_TOKEN``) when the option is not given."""
+        token = token or os.environ.get(TOKEN_ENV) or None
+        return cls(data_dir=Path(data_dir).resolve(), token=token, **options)
