@@ -1,4 +1,4 @@
-"""Shared test set-up: astropy (a reference library in the physics tests) must never reach the network."""
+"""Shared test set-up: astropy, a reference library in the physics tests, must stay offline."""
 
 from __future__ import annotations
 
