@@ -70,6 +70,8 @@ class Grid:
     counts: np.ndarray
     log: bool
     discrete: bool  # on a lattice of at most max_levels points: natural ends, cutoffs not tested
+    step: float  # the rounding step of the values, 0 when they are not on a lattice
+    width: float  # bin width in grid space (log10 or linear)
 
 
 class ArtefactInputError(ValueError):
@@ -130,13 +132,15 @@ def _use_log(s: np.ndarray, config: ArtefactConfig) -> bool:
     return q50 > q10 and (q90 - q50) / (q50 - q10) > config.log_skew
 
 
-def _lattice_step(distinct: np.ndarray) -> float | None:
-    """The step of the lattice the distinct values sit on (rounded or integer data), else None."""
+def _lattice_step(distinct: np.ndarray) -> float:
+    """The step of the lattice the distinct values sit on (rounded or integer data), else 0."""
+    if len(distinct) < 2:
+        return 0.0
     step = float(np.min(np.diff(distinct)))
     if (distinct[-1] - distinct[0]) / step > 1e7:
-        return None
+        return 0.0
     units = (distinct - distinct[0]) / step
-    return step if np.all(np.abs(units - np.round(units)) < 1e-3) else None
+    return step if np.all(np.abs(units - np.round(units)) < 1e-3) else 0.0
 
 
 def _fd_width(q: np.ndarray, n: int, config: ArtefactConfig) -> float:
@@ -144,26 +148,37 @@ def _fd_width(q: np.ndarray, n: int, config: ArtefactConfig) -> float:
     return max(2.0 * (q[1] - q[0]) * n ** (-1 / 3), (q[3] - q[2]) / config.max_bins)
 
 
-def make_grid(s: np.ndarray, distinct: np.ndarray, config: ArtefactConfig) -> Grid | None:
-    """Bin a sorted finite sample (lattice-aligned when rounding is coarser than a bin); None if constant."""
+def make_grid(s: np.ndarray, step: float, config: ArtefactConfig) -> Grid | None:
+    """Bin a sorted finite sample; lattice-aligned when its rounding ``step`` is coarser than a
+    bin (``step`` 0: not on a lattice). None when the sample holds a single value."""
     if s[0] == s[-1]:
         return None
     log = _use_log(s, config)
     q = s[[len(s) // 4, (3 * len(s)) // 4, 0, -1]]
     t = np.log10(q) if log else q
     width = _fd_width(t, len(s), config)
-    step = _lattice_step(distinct)
-    if step is not None and (s[0] * (10**width - 1) if log else width) < step:
+    if step > 0 and (s[0] * (10**width - 1) if log else width) < step:
         width = step * max(1, round(_fd_width(q, len(s), config) / step))
         n_bins = int(math.ceil((s[-1] - s[0] + step) / width))
         edges, log = s[0] - step / 2 + width * np.arange(n_bins + 1), False
         discrete = (s[-1] - s[0]) / step < config.max_levels
     else:
         t_edges = np.linspace(t[2], t[3], max(1, int(math.ceil((t[3] - t[2]) / width))) + 1)
-        edges, discrete = (10**t_edges if log else t_edges), False
+        edges, discrete, width = (10**t_edges if log else t_edges), False, t_edges[1] - t_edges[0]
+        edges[0], edges[-1] = s[0], s[-1]
+    return Grid(edges, _bin_counts(s, edges), log, discrete, step, width)
+
+
+def _bin_counts(s: np.ndarray, edges: np.ndarray) -> np.ndarray:
+    """Counts of a sorted sample in bins [e_i, e_i+1), the last bin closed on the right."""
     index = np.searchsorted(s, edges, side="left")
-    index[0], index[-1] = 0, len(s)
-    return Grid(edges=edges, counts=np.diff(index), log=log, discrete=discrete)
+    index[-1] = np.searchsorted(s, edges[-1], side="right")
+    return np.diff(index)
+
+
+def _to_t(x: np.ndarray, log: bool) -> np.ndarray:
+    """Values in grid space (log10 or linear)."""
+    return np.log10(x) if log else x
 
 
 def _runs(s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -183,42 +198,63 @@ def _row(kind: str, at: float, low: float, high: float, observed: int, expected:
             "p_value": p}
 
 
-def _neighbour_counts(counts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Count each distinct value would have from its two neighbours (their mean; a log-linear
-    extrapolation from the next two at either end), and the neighbours' total."""
-    c = counts.astype(float)
-    expected, reference = np.empty_like(c), np.empty_like(c)
-    expected[1:-1], reference[1:-1] = (c[:-2] + c[2:]) / 2, c[:-2] + c[2:]
-    expected[0], expected[-1] = c[1] ** 2 / c[2], c[-2] ** 2 / c[-3]
-    reference[0], reference[-1] = c[1] + c[2], c[-2] + c[-3]
+def _neighbour_counts(counts: np.ndarray, hits: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Count each of the ``hits`` distinct values would have from its two neighbours (their mean;
+    a log-linear extrapolation from the next two at either end), and the neighbours' total."""
+    lo, hi = np.clip(hits - 1, 0, len(counts) - 1), np.clip(hits + 1, 0, len(counts) - 1)
+    reference = (counts[lo] + counts[hi]).astype(float)
+    expected = reference / 2
+    for end, (c1, c2) in ((0, counts[1:3]), (len(counts) - 1, counts[-2:-4:-1])):
+        expected[hits == end], reference[hits == end] = c1**2 / c2, c1 + c2
     return expected, reference
 
 
 def _spikes(distinct: np.ndarray, counts: np.ndarray, unit: str, config: ArtefactConfig) -> list:
     """Exact values held by far more bodies than their neighbouring values."""
-    if len(distinct) < 3:
+    hits = np.flatnonzero(counts > config.min_excess)
+    if len(distinct) < 3 or not hits.size:
         return []
-    expected, reference = _neighbour_counts(counts)
-    hits = np.flatnonzero((counts - expected >= config.min_excess)
-                          & (counts >= config.spike_ratio * expected))
+    expected, reference = _neighbour_counts(counts, hits)
+    keep = (counts[hits] - expected >= config.min_excess) & (
+        counts[hits] >= config.spike_ratio * expected)
     rows, total = [], int(counts.sum())
-    for i in hits:
-        value, seen, wanted = distinct[i], int(counts[i]), float(expected[i])
+    for i, wanted, ref in zip(hits[keep], expected[keep], reference[keep]):
+        value, seen = distinct[i], int(counts[i])
         end = " at the end of the range (a clamp?)" if i in (0, len(distinct) - 1) else ""
         text = (f"{seen} bodies ({seen / total:.1%}) hold exactly {value:.6g}{unit} where "
                 f"neighbouring values predict {wanted:.1f}{end}")
-        p = conditional_p(seen, wanted, float(reference[i]))
-        rows.append(_row("spike", value, value, value, seen, wanted, text, p))
+        rows.append(_row("spike", value, value, value, seen, wanted, text,
+                         conditional_p(seen, float(wanted), float(ref))))
     return rows
 
 
-def _without_spikes(grid: Grid, spikes: list) -> np.ndarray:
-    """Bin counts of the continuous part: each spike's excess over its neighbours removed."""
-    counts = grid.counts.astype(float)
+def _spike_free_counts(s: np.ndarray, edges: np.ndarray, spikes: list) -> np.ndarray:
+    """Counts of ``s`` in the bins between ``edges``, each spike's excess over its neighbours
+    removed: the continuous part."""
+    counts = _bin_counts(s, edges).astype(float)
     for spike in spikes:
-        index = np.searchsorted(grid.edges, spike["at"], side="right") - 1
-        counts[min(max(index, 0), len(counts) - 1)] -= spike["observed"] - spike["expected"]
+        at = np.searchsorted(edges, spike["at"], side="right") - 1
+        if 0 <= at < len(counts):
+            counts[at] -= spike["observed"] - spike["expected"]
     return counts
+
+
+def edge_bins(s: np.ndarray, side: str, config: ArtefactConfig) -> np.ndarray:
+    """Ascending edges of the three Freedman-Diaconis bins inside the lower or upper end.
+
+    The upper end is binned linearly and a positive lower end in log10: each tail in the space
+    where it is heaviest, so that a smooth light tail (a gamma's upper tail is steep in log
+    space, its lower tail steep in linear space) is not mistaken for a cutoff.
+    """
+    log = side == "below" and s[0] > 0
+    q = s[[len(s) // 4, (3 * len(s)) // 4, 0, -1]]
+    t = np.log10(q) if log else q
+    width = _fd_width(t, len(s), config)
+    steps = np.arange(4) if side == "below" else np.arange(-3, 1)
+    edges = (t[2] if side == "below" else t[3]) + width * steps
+    edges = 10**edges if log else edges
+    edges[0 if side == "below" else -1] = s[0] if side == "below" else s[-1]
+    return edges
 
 
 def _tail_expected(inside: np.ndarray, n_beyond: int) -> float:
@@ -231,14 +267,14 @@ def _tail_expected(inside: np.ndarray, n_beyond: int) -> float:
     return float(inside[0] * np.sum(ratio ** np.arange(1, n_beyond + 1)))
 
 
-def _cutoffs(s: np.ndarray, counts: np.ndarray, unit: str, config: ArtefactConfig) -> list:
-    """Edges where a smooth tail would have put a measurable number of values beyond."""
-    k = config.beyond_bins
-    if len(counts) < 2 * config.tail_bins:
-        return []
+def _cutoffs(s: np.ndarray, spikes: list, unit: str, config: ArtefactConfig) -> list:
+    """Ends where a smooth tail would have put a measurable number of values beyond."""
     rows = []
-    for side, inside, edge in (("below", counts[:3], s[0]), ("above", counts[::-1][:3], s[-1])):
-        wanted = _tail_expected(inside, k)
+    for side, edge in (("below", s[0]), ("above", s[-1])):
+        edges = edge_bins(s, side, config)
+        counts = _spike_free_counts(s, edges, spikes)
+        inside = counts if side == "below" else counts[::-1]
+        wanted = _tail_expected(inside, config.beyond_bins)
         if wanted >= config.min_expected:
             p = empty_p(wanted, float(inside.sum()))
             text = f"no value {side} {edge:.4g}{unit} where the tail predicts {wanted:.0f}"
@@ -248,39 +284,41 @@ def _cutoffs(s: np.ndarray, counts: np.ndarray, unit: str, config: ArtefactConfi
 
 def _gaps(s: np.ndarray, grid: Grid, counts: np.ndarray, unit: str,
           config: ArtefactConfig) -> list:
-    """Runs of empty bins inside the range where the bins on both sides predict many values."""
-    k = config.tail_bins
-    flips = np.diff(np.r_[0, (grid.counts == 0).astype(np.int8), 0])
-    starts, ends = np.flatnonzero(flips == 1), np.flatnonzero(flips == -1)
-    keep = (starts >= k) & (ends <= len(counts) - k)
-    starts, ends = starts[keep], ends[keep]
+    """Spacings between neighbouring values where the density on both sides predicts many."""
+    reach = config.min_expected * grid.width / max(float(counts.max()), 1.0)
+    wide = np.flatnonzero(s[1:] >= s[:-1] * 10**reach if grid.log else s[1:] - s[:-1] >= reach)
+    low, high = s[wide], s[wide + 1]
+    k, t_edges = config.tail_bins, _to_t(grid.edges, grid.log)
+    left = np.searchsorted(t_edges, _to_t(low, grid.log), side="right") - 1
+    right = np.searchsorted(t_edges, _to_t(high, grid.log), side="right")
+    inside = (left >= k) & (right + k <= len(counts))
     cum = np.r_[0.0, np.cumsum(counts)]
-    level = np.sqrt((cum[starts] - cum[starts - k]) * (cum[ends + k] - cum[ends])) / k
+    left_n = cum[np.clip(left, k, None)] - cum[np.clip(left, k, None) - k]
+    right_n = cum[np.clip(right + k, None, len(counts))] - cum[np.clip(right, None, len(counts) - k)]
+    empty = _to_t(high - grid.step / 2, grid.log) - _to_t(low + grid.step / 2, grid.log)
+    wanted = np.sqrt(left_n * right_n) / (k * grid.width) * empty
     rows = []
-    sides = (cum[starts] - cum[starts - k]) + (cum[ends + k] - cum[ends])
-    for a, b, wanted, reference in zip(starts, ends, level * (ends - starts), sides):
-        if wanted < config.min_expected:
-            continue
-        low = s[np.searchsorted(s, grid.edges[a]) - 1]
-        high = s[np.searchsorted(s, grid.edges[b])]
-        at = 10 ** ((np.log10(low) + np.log10(high)) / 2) if grid.log else (low + high) / 2
-        text = (f"no value between {low:.4g} and {high:.4g}{unit} where the neighbouring "
-                f"density predicts {wanted:.0f}")
-        rows.append(_row("gap", at, low, high, 0, wanted, text, empty_p(wanted, reference)))
+    for i in np.flatnonzero(inside & (wanted >= config.min_expected)):
+        lo, hi = low[i], high[i]
+        at = 10 ** ((np.log10(lo) + np.log10(hi)) / 2) if grid.log else (lo + hi) / 2
+        text = (f"no value between {lo:.4g} and {hi:.4g}{unit} where the neighbouring "
+                f"density predicts {wanted[i]:.0f}")
+        p = empty_p(float(wanted[i]), float(left_n[i] + right_n[i]))
+        rows.append(_row("gap", at, lo, hi, 0, wanted[i], text, p))
     return rows
 
 
 def _scan_cell(s: np.ndarray, unit: str, config: ArtefactConfig) -> tuple[list, int]:
     """All raw detections in one sorted finite sample, and how many hypotheses were examined."""
     distinct, counts = _runs(s)
-    grid = make_grid(s, distinct, config)
+    grid = make_grid(s, _lattice_step(distinct) if len(distinct) < len(s) else 0.0, config)
     if grid is None:
         return [], 0
     spikes = _spikes(distinct, counts, unit, config)
-    smooth = _without_spikes(grid, spikes)
-    cutoffs = [] if grid.discrete else _cutoffs(s, smooth, unit, config)
+    smooth = _spike_free_counts(s, grid.edges, spikes)
+    cutoffs = [] if grid.discrete or len(grid.counts) < 6 else _cutoffs(s, spikes, unit, config)
     rows = cutoffs + _gaps(s, grid, smooth, unit, config) + spikes
-    return rows, 2 + len(grid.counts) + len(distinct)
+    return rows, 1 + 2 * len(distinct)
 
 
 # --- tables ------------------------------------------------------------------------------------
@@ -343,10 +381,11 @@ def detect_artefacts(table: pl.DataFrame | pl.LazyFrame, fields: Sequence[str],
     """Cutoffs, gaps and spikes in every field of every group, BH-controlled at ``config.fdr``."""
     frame = _collect(table, fields, group_columns)
     rows, n_tests = [], 0
-    for scope in group_columns:
-        order, slices = _group_slices(frame, scope, config.min_count)
-        for field in fields:
-            values, unit = frame[field].cast(pl.Float64).to_numpy()[order], _unit(field)
+    groups = {scope: _group_slices(frame, scope, config.min_count) for scope in group_columns}
+    for field in fields:
+        raw, unit = frame[field].cast(pl.Float64).to_numpy(), _unit(field)
+        for scope, (order, slices) in groups.items():
+            values = raw[order]
             for label, start, stop in slices:
                 s = _finite_sorted(values[start:stop])
                 if len(s) < config.min_count:
@@ -372,10 +411,8 @@ def artefact_members(table: pl.DataFrame | pl.LazyFrame, artefact_row: dict,
     if kind == "gap":
         return frame.filter((v > artefact_row["low"]) & (v < artefact_row["high"]))[id_column]
     s = np.sort(frame["v"].to_numpy())
-    grid = make_grid(s, _runs(s)[0], config)
-    if grid is None:
-        return frame[id_column]
-    near_edge = v < grid.edges[1] if at == s[0] else v >= grid.edges[-2]
+    edges = edge_bins(s, "below" if at == s[0] else "above", config)
+    near_edge = v < edges[1] if at == s[0] else v >= edges[-2]
     return frame.filter(near_edge)[id_column]
 
 
