@@ -64,6 +64,12 @@ def _derive(frame: pl.DataFrame) -> pl.DataFrame:
     return out.with_columns(
         roche_x=(pl.col("parent_density") / pl.col("density")) ** (1 / 3),
         roche_y=pl.col("periapsis") / pl.col("parent_radius"),
+        roche_rigid=orbits.roche_rigid(pl.col("parent_radius"), pl.col("parent_density"),
+                                       pl.col("density")),
+        roche_fluid=orbits.roche_fluid(pl.col("parent_radius"), pl.col("parent_density"),
+                                       pl.col("density")),
+        hill_radius=orbits.hill_radius(pl.col("semi_major_axis"), pl.col("eccentricity"),
+                                       pl.col("mass"), pl.col("parent_mass")),
     )
 
 
