@@ -133,7 +133,9 @@ class Jobs:
         except BaseException as err:  # the thread must record every failure, then end
             if as_domain_error(err) is None:
                 log.exception("ingest of %s failed", cat_id)
-            self.store.fail(cat_id, describe_failure(err))
+            manifest = self.store.get(cat_id)  # say the person's file name, not ours
+            reason = describe_failure(err).replace(f"source{manifest.source}", manifest.name)
+            self.store.fail(cat_id, reason)
         finally:
             self.futures.pop(cat_id, None)
 

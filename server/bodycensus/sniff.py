@@ -55,7 +55,7 @@ class Sniff:
                 "reasons": self.reasons}
 
 
-def _head(path: Path) -> bytes:
+def _head(path: Path, name: str) -> bytes:
     """The first HEAD_BYTES of the file's content, decompressed if it is gzip or zstd."""
     with path.open("rb") as raw:
         magic = raw.read(4)
@@ -66,7 +66,7 @@ def _head(path: Path) -> bytes:
             if magic == b"\x28\xb5\x2f\xfd":
                 return zstandard.ZstdDecompressor().stream_reader(raw).read(HEAD_BYTES)
         except (OSError, EOFError, zlib.error, zstandard.ZstdError) as err:
-            raise BadInput(f"{path.name}: the compressed data is corrupt ({err}); compress the "
+            raise BadInput(f"{name}: the compressed data is corrupt ({err}); compress the "
                            "file again", 422) from err
         return raw.read(HEAD_BYTES)
 
@@ -107,12 +107,12 @@ def _ndjson(lines: list[str], name: str) -> tuple[list[str], list[dict[str, str]
     return header, records
 
 
-def _parquet(path: Path) -> tuple[list[str], list[dict[str, str]]]:
+def _parquet(path: Path, name: str) -> tuple[list[str], list[dict[str, str]]]:
     """Columns and first rows of a Parquet file, as text."""
     try:
         frame = pl.scan_parquet(path).head(SAMPLE_ROWS * 50).collect()
     except (pl.exceptions.PolarsError, pl.exceptions.PanicException, OSError) as err:
-        raise BadInput(f"{path.name}: not a readable Parquet file; export it again", 422) from err
+        raise BadInput(f"{name}: not a readable Parquet file; export it again", 422) from err
     text = frame.select(pl.all().cast(pl.String, strict=False))
     return frame.columns, [{k: v or "" for k, v in r.items()} for r in text.to_dicts()]
 
@@ -120,8 +120,8 @@ def _parquet(path: Path) -> tuple[list[str], list[dict[str, str]]]:
 def _table(path: Path, name: str) -> tuple[list[str], list[dict[str, str]]]:
     """Header and first rows of any supported file."""
     if path.suffix in _PARQUET:
-        return _parquet(path)
-    lines = _lines(_head(path), name)
+        return _parquet(path, name)
+    lines = _lines(_head(path, name), name)
     if not lines:
         raise BadInput(f"{name}: the file is empty; export the catalogue again", 422)
     if lines[0].lstrip().startswith("{"):

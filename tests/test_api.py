@@ -1,0 +1,391 @@
+"""The JSON API on the real app: uploads, the mapping step, findings, exports, bodies, views,
+the error shape, size limits, restarts, and one run against uvicorn on 127.0.0.1."""
+
+from __future__ import annotations
+
+import csv
+import gzip
+import io
+from collections.abc import Iterator
+from pathlib import Path
+from typing import Any
+
+import httpx
+import polars as pl
+import pytest
+from bodycensus.app import create_app
+from bodycensus.settings import Settings
+from bodycensus.store import KILLED, Manifest, Store, now
+from bodycensus.units import M_EARTH
+from web_support import (
+    FORMULA_LABEL,
+    SyncClient,
+    asgi_client,
+    catalogue_rows,
+    live_server,
+    wait_done,
+    write_catalogue,
+)
+
+LIMIT = 1 << 20  # max_upload_bytes in these tests
+ROWS = len(catalogue_rows())
+
+
+def _settings(data_dir: Path) -> Settings:
+    return Settings(data_dir=data_dir, max_upload_bytes=LIMIT, max_columns=50, workers=1)
+
+
+def _upload(client: SyncClient | httpx.Client, name: str, content: bytes, auto: bool = False,
+            ) -> httpx.Response:
+    params = {"auto": "1"} if auto else {}
+    return client.post("/api/catalogues", files={"file": (name, content, "text/csv")},
+                       params=params)
+
+
+def _assert_error(response: httpx.Response, status: int, code: str) -> dict[str, Any]:
+    """The one error shape: exactly error + detail, detail one short line."""
+    assert response.status_code == status, response.text
+    body = response.json()
+    assert set(body) == {"error", "detail"} and body["error"] == code
+    assert body["detail"] and "\n" not in body["detail"] and len(body["detail"]) <= 300
+    return body
+
+
+@pytest.fixture(scope="module")
+def source(tmp_path_factory: pytest.TempPathFactory) -> bytes:
+    return write_catalogue(tmp_path_factory.mktemp("src") / "c.csv").read_bytes()
+
+
+@pytest.fixture(scope="module")
+def served(tmp_path_factory: pytest.TempPathFactory, source: bytes
+           ) -> Iterator[tuple[SyncClient, str, Path]]:
+    """One app on one data dir with one ready catalogue, shared by the read-only tests."""
+    data_dir = tmp_path_factory.mktemp("data")
+    with asgi_client(create_app(_settings(data_dir))) as client:
+        response = _upload(client, "c.csv", source)
+        assert response.status_code == 202, response.text
+        cat_id = response.json()["id"]
+        assert wait_done(client, cat_id)["status"] == "ready"
+        yield client, cat_id, data_dir
+
+
+@pytest.fixture(scope="module")
+def findings(served: tuple[SyncClient, str, Path]) -> pl.DataFrame:
+    _, cat_id, data_dir = served
+    return pl.read_parquet(data_dir / "catalogues" / cat_id / "findings.parquet")
+
+
+def _entries(data_dir: Path) -> set[str]:
+    """Everything under incoming/ and catalogues/ (to prove a refused upload left nothing)."""
+    return {str(p.relative_to(data_dir)) for d in ("incoming", "catalogues")
+            for p in (data_dir / d).rglob("*")}
+
+
+# --- upload and status ---------------------------------------------------------------------
+
+
+def test_upload_answers_202_then_becomes_ready(tmp_path: Path, source: bytes) -> None:
+    with asgi_client(create_app(_settings(tmp_path))) as client:
+        response = _upload(client, "../../etc/c.csv", source)
+        assert response.status_code == 202
+        accepted = response.json()
+        assert set(accepted) == {"id", "status", "url"} and accepted["status"] == "ingesting"
+        assert accepted["url"] == f"/catalogues/{accepted['id']}"
+        done = wait_done(client, accepted["id"])
+    assert (done["status"], done["rows"], done["error"]) == ("ready", ROWS, None)
+    assert done["name"] == "c.csv" and done["progress"] == {"stage": "done", "fraction": 1.0}
+    assert done["summary"]["rows"] == ROWS and done["mapping"]["mapping"]["choices"]["mass"][
+        "unit"] == "earth_mass"
+    assert sorted(p.name for p in (tmp_path / "catalogues" / accepted["id"]).iterdir()) == [
+        "aggregates.json", "artefacts.parquet", "bodies.parquet", "coverage.parquet",
+        "findings.parquet", "manifest.json"]
+    assert list((tmp_path / "incoming").iterdir()) == []
+
+
+def test_catalogue_list_and_reads(served: tuple[SyncClient, str, Path]) -> None:
+    client, cat_id, _ = served
+    listed = client.get("/api/catalogues").json()["items"]
+    assert [c["id"] for c in listed] == [cat_id] and listed[0]["summary"] is None
+    coverage = client.get(f"/api/catalogues/{cat_id}/coverage").json()
+    assert coverage and {"rule", "evaluated", "skipped"} <= set(coverage[0])
+    assert isinstance(client.get(f"/api/catalogues/{cat_id}/artefacts").json(), list)
+    assert client.get(f"/api/catalogues/{cat_id}/aggregates").json()["rows"] == ROWS
+    overview = client.get(f"/api/catalogues/{cat_id}/overview").json()
+    assert overview["summary"]["rows"] == ROWS
+
+
+# --- findings ------------------------------------------------------------------------------
+
+
+def test_findings_filter_sort_and_paginate(served: tuple[SyncClient, str, Path],
+                                           findings: pl.DataFrame) -> None:
+    client, cat_id, _ = served
+    url = f"/api/catalogues/{cat_id}/findings"
+    params = [("severity", "impossible"), ("severity", "error"), ("sort", "-margin"),
+              ("limit", "3")]
+    first = client.get(url, params=params).json()
+    expected = findings.filter(pl.col("severity").is_in(["impossible", "error"]))
+    assert first["total"] == expected.height > 3 and len(first["items"]) == 3
+    rest = client.get(url, params=[*params, ("offset", "3"), ("limit", "1000")]).json()["items"]
+    items = first["items"] + rest
+    assert sorted((i["body"], i["rule"]) for i in items) == sorted(
+        zip(expected["body"], expected["rule"], strict=True))
+    margins = [i["margin"] for i in items if i["margin"] is not None]
+    assert margins == sorted(margins, reverse=True)
+    assert {"body", "rule", "severity", "value", "limit", "margin", "message", "source",
+            "_row"} <= set(items[0])
+    label = client.get(url, params={"label": FORMULA_LABEL}).json()
+    assert label["total"] == findings.filter(pl.col("label") == FORMULA_LABEL).height > 0
+
+
+def test_csv_export_neutralises_formulas(served: tuple[SyncClient, str, Path],
+                                         findings: pl.DataFrame) -> None:
+    client, cat_id, data_dir = served
+    response = client.get(f"/api/catalogues/{cat_id}/findings.csv",
+                          params={"label": FORMULA_LABEL})
+    assert response.status_code == 200 and response.headers["content-type"].startswith("text/csv")
+    assert "attachment" in response.headers["content-disposition"]
+    rows = list(csv.DictReader(io.StringIO(response.text)))
+    assert len(rows) == findings.filter(pl.col("label") == FORMULA_LABEL).height > 0
+    assert {r["label"] for r in rows} == {"'" + FORMULA_LABEL}
+    assert list((data_dir / "tmp").iterdir()) == []  # the scratch file went after sending
+
+
+def test_parquet_export_reads_back(served: tuple[SyncClient, str, Path],
+                                   findings: pl.DataFrame) -> None:
+    client, cat_id, _ = served
+    response = client.get(f"/api/catalogues/{cat_id}/findings.parquet",
+                          params={"severity": "error"})
+    assert response.status_code == 200
+    exported = pl.read_parquet(io.BytesIO(response.content))
+    expected = findings.filter(pl.col("severity") == "error")
+    assert exported.height == expected.height > 0 and exported.columns == findings.columns
+
+
+def test_body_detail(served: tuple[SyncClient, str, Path]) -> None:
+    client, cat_id, _ = served
+    body = client.get(f"/api/catalogues/{cat_id}/bodies/moon-0").json()
+    mass = next(f for f in body["fields"] if f["field"] == "mass")
+    assert mass["value"] == pytest.approx(1.7e-4 * M_EARTH) and mass["original"] == \
+        pytest.approx(1.7e-4)
+    assert body["system"]["parent"]["id"] == "giant-0" and body["findings"]
+    slash = client.get(f"/api/catalogues/{cat_id}/bodies/sys/7")
+    assert slash.status_code == 200 and slash.json()["id"] == "sys/7"
+    _assert_error(client.get(f"/api/catalogues/{cat_id}/bodies/nobody"), 404, "not_found")
+
+
+# --- saved views ---------------------------------------------------------------------------
+
+
+def test_views_save_get_list(served: tuple[SyncClient, str, Path]) -> None:
+    client, cat_id, _ = served
+    saved = client.post("/api/views", json={
+        "catalogue": cat_id, "query": "sort=-margin&severity=impossible&limit=50",
+        "title": "Roche suspects", "note": "<b>check</b> these"})
+    assert saved.status_code == 201
+    view = saved.json()
+    assert view["url"] == f"/v/{view['slug']}" and view["query"] == "severity=impossible&sort=-margin"
+    assert client.get(f"/api/views/{view['slug']}").json() == view
+    assert view in client.get(f"/api/catalogues/{cat_id}/views").json()["items"]
+    assert client.get(view["url"]).status_code == 200  # the page itself is the front end's
+    _assert_error(client.post("/api/views", json={"catalogue": cat_id, "query": "severity=x",
+                                                  "title": "t"}), 400, "bad_input")
+    _assert_error(client.post("/api/views", json={"catalogue": "nope1234", "title": "t"}), 404,
+                  "not_found")
+    _assert_error(client.get("/api/views/unknown"), 404, "not_found")
+
+
+# --- the error shape -----------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(("path", "status", "code"), [
+    ("/api/nothing-here", 404, "not_found"),
+    ("/api/catalogues/nope1234", 404, "not_found"),
+    ("/api/catalogues/..%2F..%2Fetc", 404, "not_found"),
+    ("/api/catalogues/{id}/findings?limit=0", 422, "bad_input"),
+    ("/api/catalogues/{id}/findings?sort=evil", 400, "bad_input"),
+    ("/api/catalogues/{id}/findings?min_value=nan", 400, "bad_input"),
+])
+def test_error_shape(served: tuple[SyncClient, str, Path], path: str, status: int,
+                     code: str) -> None:
+    client, cat_id, _ = served
+    _assert_error(client.get(path.replace("{id}", cat_id)), status, code)
+
+
+def test_pages_get_an_error_page_not_json(served: tuple[SyncClient, str, Path]) -> None:
+    client, _, _ = served
+    response = client.get("/catalogues/nope1234")
+    assert response.status_code == 404 and not response.headers["content-type"].startswith(
+        "application/json")
+    assert "nope1234" in response.text
+
+
+def _gz_truncated() -> bytes:
+    return gzip.compress(b"id,mass\n" + b"a,1\n" * 1000)[:40]
+
+
+@pytest.mark.parametrize(("name", "content", "auto", "status"), [
+    ("empty.csv", b"", False, 422),
+    ("header.csv", b"id,mass [kg],radius [m]\n", False, 422),
+    ("sheet.xlsx", b"PK\x03\x04", False, 415),
+    ("broken.csv.gz", _gz_truncated(), False, 422),
+    ("noid.csv", b"name,mass [kg]\nA,1\n", True, 422),
+    ("bad.ndjson", b'{"id": "a"}\n{"id": \n', False, 422),
+    ("wide.csv", (",".join(f"c{i}" for i in range(60)) + "\n" + "1," * 59 + "1\n").encode(),
+     False, 413),
+], ids=["empty", "header-only", "xlsx", "truncated-gz", "no-id-auto", "broken-ndjson", "wide"])
+def test_a_bad_file_is_refused_and_leaves_nothing(served: tuple[SyncClient, str, Path],
+                                                  name: str, content: bytes, auto: bool,
+                                                  status: int) -> None:
+    client, _, data_dir = served
+    before = _entries(data_dir)
+    body = _assert_error(_upload(client, name, content, auto), status,
+                         "too_large" if status == 413 else "bad_input")
+    assert name.split(".")[0] in body["detail"] or status == 415
+    assert _entries(data_dir) == before
+
+
+def test_requests_that_are_not_uploads(served: tuple[SyncClient, str, Path]) -> None:
+    client, _, data_dir = served
+    before = _entries(data_dir)
+    _assert_error(client.post("/api/catalogues", content=b"id\n1\n",
+                              headers={"content-type": "text/csv"}), 415, "bad_input")
+    _assert_error(client.post("/api/catalogues", files={"other": ("c.csv", b"id\n1\n")}), 400,
+                  "bad_input")
+    assert _entries(data_dir) == before
+
+
+def test_upload_over_the_limit_is_413_and_leaves_nothing(served: tuple[SyncClient, str, Path]
+                                                        ) -> None:
+    client, _, data_dir = served
+    before = _entries(data_dir)
+    _assert_error(_upload(client, "big.csv", b"id\n" + b"x\n" * LIMIT), 413, "too_large")
+    assert _entries(data_dir) == before and list((data_dir / "tmp").iterdir()) == []
+
+
+def test_a_file_that_breaks_during_ingest_fails_in_one_line(served: tuple[SyncClient, str, Path]
+                                                           ) -> None:
+    client, _, data_dir = served
+    lines = ["id,mass [kg],radius [m]"] + [f"b{i},1e20,1e5" for i in range(1, 2000)]
+    lines[1500] = 'b1500,"1e20,1e5'  # an unterminated quote far past the sniffed rows
+    accepted = _upload(client, "quote.csv", "\n".join(lines).encode()).json()
+    done = wait_done(client, accepted["id"])
+    assert done["status"] == "failed" and "\n" not in done["error"] and "quote" in done["error"]
+    assert done["error"].startswith("quote.csv: ")
+    assert [p.name for p in (data_dir / "incoming" / accepted["id"]).iterdir()] == [
+        "manifest.json"]
+    _assert_error(client.get(f"/api/catalogues/{accepted['id']}/findings"), 409, "conflict")
+    assert client.delete(f"/api/catalogues/{accepted['id']}").status_code == 204
+
+
+# --- the mapping step ----------------------------------------------------------------------
+
+
+def test_mapping_step(served: tuple[SyncClient, str, Path]) -> None:
+    client, _, data_dir = served
+    header = ["id", "name", "type", "parent", "mass", "radius", "a", "eccentricity", "period"]
+    content = write_catalogue(data_dir.parent / "plain.csv", n_planets=20, header=header)
+    accepted = _upload(client, "plain.csv", content.read_bytes()).json()
+    assert accepted["status"] == "mapping"
+    waiting = client.get(f"/api/catalogues/{accepted['id']}").json()
+    proposal = waiting["proposal"]
+    assert proposal["columns"] == header and proposal["samples"]["type"][0] == "G2V"
+    assert proposal["reasons"] and proposal["families"]["Icy moon"] == "ice"
+    url = f"/api/catalogues/{accepted['id']}"
+    _assert_error(client.get(f"{url}/findings"), 409, "conflict")
+    _assert_error(client.post(f"{url}/mapping", json={"units": {"mass": "furlong"}}), 422,
+                  "bad_input")
+    _assert_error(client.post(f"{url}/mapping", json={"map": {"id": "nope"}}), 422, "bad_input")
+    _assert_error(client.post(f"{url}/mapping", json={"families": {"G2V": "dragon"}}), 422,
+                  "bad_input")
+    choice = {"units": {"mass": "earth_mass", "radius": "km", "semi_major_axis": "au",
+                        "period": "d"}, "families": {"Icy moon": "rock"}}
+    started = client.post(f"{url}/mapping", json=choice)
+    assert started.status_code == 202 and started.json()["status"] == "ingesting"
+    done = wait_done(client, accepted["id"])
+    assert done["status"] == "ready" and done["options"]["units"]["mass"] == "earth_mass"
+    assert done["summary"]["by_family"]["rock"] > 30  # 20 planets + the moons, now rock
+    body = client.get(f"{url}/bodies/moon-1").json()
+    assert next(f for f in body["fields"] if f["field"] == "mass")["value"] == pytest.approx(
+        1.7e-4 * M_EARTH)
+    _assert_error(client.post(f"{url}/mapping", json=choice), 409, "conflict")
+    assert client.delete(url).status_code == 204
+
+
+# --- restarts ------------------------------------------------------------------------------
+
+
+def test_restart_keeps_catalogues_and_views(tmp_path: Path, source: bytes) -> None:
+    with asgi_client(create_app(_settings(tmp_path))) as client:
+        cat_id = _upload(client, "c.csv", source).json()["id"]
+        wait_done(client, cat_id)
+        view = client.post("/api/views", json={"catalogue": cat_id, "query": "severity=error",
+                                               "title": "kept"}).json()
+        before = client.get(f"/api/catalogues/{cat_id}/findings").json()
+    with asgi_client(create_app(_settings(tmp_path))) as client:
+        assert client.get(f"/api/catalogues/{cat_id}").json()["status"] == "ready"
+        assert client.get(f"/api/views/{view['slug']}").json() == view
+        assert client.get(f"/api/catalogues/{cat_id}/findings").json() == before
+        assert client.delete(f"/api/catalogues/{cat_id}").status_code == 204
+        _assert_error(client.get(f"/api/catalogues/{cat_id}"), 404, "not_found")
+        _assert_error(client.get(f"/api/views/{view['slug']}"), 404, "not_found")
+    assert list((tmp_path / "catalogues").iterdir()) == []
+
+
+def test_an_ingest_cut_off_by_a_kill_is_failed_after_restart(tmp_path: Path,
+                                                             source: bytes) -> None:
+    store = Store(tmp_path)  # what a server killed mid-ingest leaves behind
+    cat_id, path = store.new_upload(".csv")
+    path.write_bytes(source)
+    store.open_upload(Manifest(id=cat_id, name="c.csv", status="mapping", created=now()))
+    store.claim(cat_id, "mapping", status="ingesting")
+    (store.workdir(cat_id) / "bodies.parquet").write_bytes(b"half")
+    with asgi_client(create_app(_settings(tmp_path))) as client:
+        failed = client.get(f"/api/catalogues/{cat_id}").json()
+        assert (failed["status"], failed["error"]) == ("failed", KILLED)
+        assert client.delete(f"/api/catalogues/{cat_id}").status_code == 204
+        again = _upload(client, "c.csv", source).json()
+        assert wait_done(client, again["id"])["status"] == "ready"
+
+
+# --- static files and the schema -----------------------------------------------------------
+
+
+def test_plotly_and_openapi_are_served_locally(served: tuple[SyncClient, str, Path]) -> None:
+    client, _, _ = served
+    plotly = client.get("/static/vendor/plotly.min.js")
+    assert plotly.status_code == 200 and len(plotly.content) > 1_000_000
+    assert "javascript" in plotly.headers["content-type"]
+    schema = client.get("/api/openapi.json").json()
+    assert {"/api/catalogues", "/api/catalogues/{catalogue_id}/findings", "/api/views"} <= set(
+        schema["paths"])
+    assert "multipart/form-data" in schema["paths"]["/api/catalogues"]["post"]["requestBody"][
+        "content"]
+    assert {"FindingsPage", "BodyOut", "ErrorOut"} <= set(schema["components"]["schemas"])
+
+
+# --- a real server -------------------------------------------------------------------------
+
+
+def test_real_server_upload_and_limit(tmp_path: Path) -> None:
+    source = write_catalogue(tmp_path / "real.csv", n_planets=300)
+    data_dir = tmp_path / "data"
+    with live_server(create_app(_settings(data_dir))) as base, \
+            httpx.Client(base_url=base, timeout=30) as client:
+        with source.open("rb") as handle:
+            response = client.post("/api/catalogues", files={"file": ("real.csv", handle)})
+        assert response.status_code == 202
+        done = wait_done(client, response.json()["id"])
+        assert (done["status"], done["rows"]) == ("ready", len(catalogue_rows(300)))
+        page = client.get(f"/api/catalogues/{done['id']}/findings", params={"limit": 2}).json()
+        assert page["total"] > 2 and len(page["items"]) == 2
+        before = _entries(data_dir)
+
+        def chunks() -> Iterator[bytes]:  # no content-length: the limit must hold mid-stream
+            yield b"--b\r\nContent-Disposition: form-data; name=\"file\"; filename=\"x.csv\"\r\n\r\n"
+            for _ in range(24):
+                yield b"id\n" + b"y" * 65536
+        big = client.post("/api/catalogues", content=chunks(),
+                          headers={"content-type": "multipart/form-data; boundary=b"})
+        _assert_error(big, 413, "too_large")
+        assert _entries(data_dir) == before

@@ -1,0 +1,180 @@
+"""The data functions behind the API and the pages, on a catalogue checked by the real engine.
+
+Expected values are computed here independently with eager polars over the engine's
+findings.parquet, never copied from a previous run.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+from pathlib import Path
+
+import polars as pl
+import pytest
+from bodycensus import queries
+from bodycensus.engines.local import check_file
+from bodycensus.errors import BadInput, NotFound
+from bodycensus.rules.base import SEVERITIES
+from bodycensus.units import M_EARTH
+from bodycensus.viewstate import ViewState
+from hypothesis import given
+from hypothesis import strategies as st
+from polars.testing import assert_frame_equal
+from web_support import FORMULA_LABEL, write_catalogue
+
+
+@pytest.fixture(scope="module")
+def checked(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    """A catalogue folder written by the real engine (the store's `catalogues/<id>/`)."""
+    root = tmp_path_factory.mktemp("queries")
+    source = write_catalogue(root / "catalogue.csv")
+    result = check_file(source, root / "cat")
+    queries_dir = root / "cat"
+    (queries_dir / "manifest.json").write_text("{}")
+    assert result.findings.height > 0
+    return queries_dir
+
+
+@pytest.fixture(scope="module")
+def findings(checked: Path) -> pl.DataFrame:
+    return pl.read_parquet(checked / "findings.parquet")
+
+
+# --- ViewState: one parser, one builder ----------------------------------------------------
+
+
+def test_a_link_round_trips() -> None:
+    link = ("severity=error&severity=impossible&label=Ice%2C+dirty&label=%3Cb%3E&min_value=0.5"
+            "&max_margin=1e-05&sort=-margin&limit=20&offset=40&diagram=roche&body=moon%2F3")
+    state = ViewState.from_query(link)
+    assert state.severity == ("error", "impossible") and state.label == ("Ice, dirty", "<b>")
+    assert (state.min_value, state.max_margin, state.body) == (0.5, 1e-05, "moon/3")
+    assert ViewState.from_query(state.to_query()) == state
+    assert state.to_query() == link
+
+
+def test_defaults_and_blanks_stay_out_of_links() -> None:
+    assert ViewState.from_query("severity=&rule=&sort=severity&limit=50&offset=0") == ViewState()
+    assert ViewState().to_query() == ""
+    assert ViewState().with_(offset=50).to_query() == "offset=50"
+
+
+@given(st.builds(
+    ViewState,
+    severity=st.lists(st.sampled_from(SEVERITIES), unique=True).map(tuple),
+    label=st.lists(st.text(min_size=1, max_size=20), unique=True, max_size=4).map(tuple),
+    min_value=st.none() | st.floats(allow_nan=False, allow_infinity=False),
+    offset=st.integers(0, 10**6),
+    sort=st.sampled_from(["severity", "-margin", "rule", "-value"]),
+))
+def test_any_state_round_trips(state: ViewState) -> None:
+    assert ViewState.from_query(state.to_query()) == state
+
+
+@pytest.mark.parametrize("query", ["severity=fatal", "limit=0", "limit=5000", "offset=-1",
+                                   "min_value=nan", "max_margin=inf", "min_value=abc",
+                                   "sort=drop+table", "diagram=%3Cscript%3E", "rule=" + "x" * 300])
+def test_bad_values_are_bad_input(query: str) -> None:
+    with pytest.raises(BadInput):
+        ViewState.from_query(query)
+
+
+# --- findings ------------------------------------------------------------------------------
+
+
+def test_default_order_is_most_serious_first(checked: Path, findings: pl.DataFrame) -> None:
+    page = queries.findings_page(checked, ViewState(limit=1000))
+    assert page["total"] == findings.height == len(page["items"])
+    ranks = [SEVERITIES.index(item["severity"]) for item in page["items"]]
+    assert ranks == sorted(ranks)
+
+
+def test_filters_match_an_independent_count(checked: Path, findings: pl.DataFrame) -> None:
+    state = ViewState.from_query("severity=impossible&severity=unstable&label=Icy+moon"
+                                 "&min_margin=0")
+    expected = findings.filter(pl.col("severity").is_in(["impossible", "unstable"]),
+                               pl.col("label") == "Icy moon", pl.col("margin") >= 0)
+    page = queries.findings_page(checked, state)
+    assert expected.height > 0 and page["total"] == expected.height
+    assert {(i["body"], i["rule"]) for i in page["items"]} == set(
+        zip(expected["body"], expected["rule"], strict=True))
+
+
+def test_pages_cover_the_sorted_list_once(checked: Path, findings: pl.DataFrame) -> None:
+    state = ViewState(sort="-margin", limit=7)
+    items = []
+    for offset in range(0, findings.height, 7):
+        items += queries.findings_page(checked, state.with_(offset=offset))["items"]
+    assert len(items) == findings.height
+    margins = [i["margin"] for i in items if i["margin"] is not None]
+    assert margins == sorted(margins, reverse=True)
+    assert queries.findings_page(checked, state.with_(offset=10**6))["items"] == []
+
+
+def test_value_range(checked: Path, findings: pl.DataFrame) -> None:
+    page = queries.findings_page(checked, ViewState(min_value=1e4, max_value=1e7, limit=1000))
+    expected = findings.filter(pl.col("value").is_between(1e4, 1e7))
+    assert page["total"] == expected.height > 0
+    assert all(1e4 <= i["value"] <= 1e7 for i in page["items"])
+
+
+def test_csv_export_neutralises_formulas(checked: Path, findings: pl.DataFrame,
+                                         tmp_path: Path) -> None:
+    dest = queries.export_findings(checked, ViewState(), "csv", tmp_path / "f.csv")
+    rows = list(csv.DictReader(io.StringIO(dest.read_text(encoding="utf-8"))))
+    assert len(rows) == findings.height
+    assert any(r["label"] == "'" + FORMULA_LABEL for r in rows)
+    texts = [k for k, t in findings.schema.items() if t == pl.String]
+    assert not [r[k] for r in rows for k in texts if r[k][:1] in ("=", "+", "-", "@")]
+
+
+def test_parquet_export_is_the_filtered_list(checked: Path, findings: pl.DataFrame,
+                                             tmp_path: Path) -> None:
+    state = ViewState(severity=("error",), sort="body")
+    dest = queries.export_findings(checked, state, "parquet", tmp_path / "f.parquet")
+    expected = findings.filter(pl.col("severity") == "error")
+    exported = pl.read_parquet(dest)
+    assert expected.height > 0
+    assert_frame_equal(exported, expected, check_row_order=False)
+    assert exported["body"].to_list() == sorted(expected["body"].to_list())
+
+
+# --- body, overview ------------------------------------------------------------------------
+
+
+def test_body_detail(checked: Path, findings: pl.DataFrame) -> None:
+    mapping = {"choices": {"mass": {"field": "mass", "column": "mass [earth_mass]",
+                                    "unit": "earth_mass", "unit_source": "header",
+                                    "ambiguous": False}}}
+    body = queries.body_detail(checked, "moon-0", {"mapping": mapping})
+    mass = next(f for f in body["fields"] if f["field"] == "mass")
+    assert mass["value"] == pytest.approx(1.7e-4 * M_EARTH, rel=1e-12)
+    assert mass["original"] == pytest.approx(1.7e-4, rel=1e-12) and mass["unit"] == "kg"
+    own = findings.filter(pl.col("body") == "moon-0")
+    assert own.height > 0 and {f["rule"] for f in body["findings"]} == set(own["rule"])
+    assert body["derived"]["roche_y"] == pytest.approx(1.05, rel=1e-6)
+    system = body["system"]
+    assert system["parent"]["id"] == "giant-0" and len(system["siblings"]) == 29
+    assert system["children"] == [] and body["duplicates"] == 0
+
+
+def test_parent_lists_its_children_with_their_worst_severity(checked: Path,
+                                                             findings: pl.DataFrame) -> None:
+    system = queries.body_detail(checked, "giant-0", None)["system"]
+    assert len(system["children"]) == 30
+    worst = {c["id"]: c["worst"] for c in system["children"]}
+    moon0 = findings.filter(pl.col("body") == "moon-0")["severity"].to_list()
+    assert worst["moon-0"] == min(moon0, key=SEVERITIES.index)
+
+
+def test_unknown_body_is_not_found(checked: Path) -> None:
+    with pytest.raises(NotFound):
+        queries.body_detail(checked, "no-such-body", None)
+
+
+def test_overview_has_coverage_and_artefacts(checked: Path) -> None:
+    result = queries.overview(checked, {"id": "x", "summary": {"rows": 3}})
+    coverage = pl.read_parquet(checked / "coverage.parquet")
+    assert len(result["coverage"]) == coverage.height > 0
+    assert result["summary"] == {"rows": 3} and isinstance(result["artefacts"], list)
