@@ -13,8 +13,6 @@ import time
 import numpy as np
 import polars as pl
 import pytest
-from scipy import stats
-
 from bodycensus.artefacts import (
     ARTEFACT_SCHEMA,
     METHODS,
@@ -27,6 +25,7 @@ from bodycensus.artefacts import (
     detect_artefacts,
     edge_bins,
 )
+from scipy import stats
 
 N = 5000
 
@@ -131,7 +130,8 @@ def test_smooth_million_values_have_no_artefact() -> None:
     labels = np.repeat([f"kind-{i:02d}" for i in range(n_labels)], per_label)
     loc = np.repeat(rng.normal(0.0, 1.0, n_labels), per_label)
     n = len(labels)
-    makers = [lambda: 10 + loc + rng.standard_normal(n), lambda: 10 ** (3 + loc + 0.5 * rng.standard_normal(n)),
+    makers = [lambda: 10 + loc + rng.standard_normal(n),
+              lambda: 10 ** (3 + loc + 0.5 * rng.standard_normal(n)),
               lambda: rng.gamma(3.0 + loc**2, 2.0, n), lambda: loc + rng.standard_t(5, n),
               lambda: np.round(50 + 5 * loc + 4 * rng.standard_normal(n), 1),
               lambda: rng.poisson(2.0 + loc**2, n).astype(float)]
@@ -158,7 +158,8 @@ def test_small_groups_skipped() -> None:
     sample = _lognormal(10, 150)
     sample[:40] = 3.0e6
     assert detect_artefacts(_frame(sample), ["radius"]).is_empty()
-    assert not detect_artefacts(_frame(sample), ["radius"], config=ArtefactConfig(min_count=100)).is_empty()
+    smaller = ArtefactConfig(min_count=100)
+    assert not detect_artefacts(_frame(sample), ["radius"], config=smaller).is_empty()
 
 
 def test_bad_input_says_what_and_where() -> None:
