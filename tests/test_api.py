@@ -6,6 +6,8 @@ from __future__ import annotations
 import csv
 import gzip
 import io
+import socket
+import time
 from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
@@ -348,6 +350,16 @@ def test_an_ingest_cut_off_by_a_kill_is_failed_after_restart(tmp_path: Path,
         assert wait_done(client, again["id"])["status"] == "ready"
 
 
+def test_demo_catalogue_is_added_once(tmp_path: Path) -> None:
+    settings = Settings(data_dir=tmp_path, demo=True, workers=1)
+    with asgi_client(create_app(settings)) as client:
+        [demo] = client.get("/api/catalogues").json()["items"]
+        assert demo["demo"] and wait_done(client, demo["id"])["rows"] == 20_000
+    with asgi_client(create_app(settings)) as client:
+        assert [c["id"] for c in client.get("/api/catalogues").json()["items"]] == [demo["id"]]
+    assert list((tmp_path / "tmp").iterdir()) == []
+
+
 # --- static files and the schema -----------------------------------------------------------
 
 
@@ -389,3 +401,20 @@ def test_real_server_upload_and_limit(tmp_path: Path) -> None:
                           headers={"content-type": "multipart/form-data; boundary=b"})
         _assert_error(big, 413, "too_large")
         assert _entries(data_dir) == before
+        assert _send_half_and_hang_up(base, data_dir) != before  # it reached the disk ...
+        deadline = time.monotonic() + 10
+        while _entries(data_dir) != before and time.monotonic() < deadline:
+            time.sleep(0.05)
+        assert _entries(data_dir) == before  # ... and went when the client hung up
+
+
+def _send_half_and_hang_up(base: str, data_dir: Path) -> set[str]:
+    """Start a 1 MB upload, send part of it, and hang up; the data dir just before that."""
+    host, port = base.removeprefix("http://").split(":")
+    head = (b"--b\r\nContent-Disposition: form-data; name=\"file\"; filename=\"cut.csv\"\r\n\r\n"
+            b"id\n" + b"z\n" * 100_000)
+    with socket.create_connection((host, int(port))) as sock:
+        sock.sendall(b"POST /api/catalogues HTTP/1.1\r\nHost: x\r\nContent-Length: 1000000\r\n"
+                     b"Content-Type: multipart/form-data; boundary=b\r\n\r\n" + head)
+        time.sleep(0.3)  # let the server write the first part to disk before the hang-up
+        return _entries(data_dir)

@@ -39,24 +39,31 @@ def static_dir() -> Path:
     return Path(str(files("bodycensus.web") / "static"))
 
 
-def _demo_source(store: Store) -> Path:
-    """The bundled demo file, or a freshly generated one when this is not a checkout."""
-    bundled = sorted(p for p in _SAMPLE_DATA.glob("*") if p.is_file() and
-                     p.name.endswith((".csv", ".csv.gz", ".parquet", ".ndjson"))
-                     and "truth" not in p.name) if _SAMPLE_DATA.is_dir() else []
-    if bundled:
-        return bundled[0]
-    from bodycensus.demo import write_demo
-
-    catalogue, _truth = write_demo(store.scratch("-demo.csv"), n_bodies=20_000, seed=7)
-    return Path(catalogue)
+def _bundled_demo() -> Path | None:
+    """The demo file in the checkout's sample_data/, if there is one."""
+    if not _SAMPLE_DATA.is_dir():
+        return None
+    found = sorted(p for p in _SAMPLE_DATA.iterdir() if p.is_file() and "truth" not in p.name
+                   and p.name.endswith((".csv", ".csv.gz", ".parquet", ".ndjson")))
+    return found[0] if found else None
 
 
 def ensure_demo(store: Store, jobs: Jobs) -> None:
     """Add the demo catalogue through the normal job path unless a usable one exists."""
     if any(m.demo and m.status != "failed" for m in store.list()):
         return
-    add_catalogue(store, jobs, _demo_source(store), DEMO_NAME, demo=True)
+    bundled = _bundled_demo()
+    if bundled is not None:
+        add_catalogue(store, jobs, bundled, DEMO_NAME, demo=True)
+        return
+    from bodycensus.demo import write_demo
+
+    generated = write_demo(store.scratch("-demo.csv"), n_bodies=20_000, seed=7)
+    try:
+        add_catalogue(store, jobs, generated[0], DEMO_NAME, demo=True)
+    finally:
+        for path in generated:
+            path.unlink(missing_ok=True)
 
 
 @asynccontextmanager

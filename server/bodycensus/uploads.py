@@ -17,7 +17,7 @@ from typing import BinaryIO
 from python_multipart.exceptions import MultipartParseError
 from python_multipart.multipart import MultipartParser, parse_options_header
 from starlette.concurrency import run_in_threadpool
-from starlette.requests import Request
+from starlette.requests import ClientDisconnect, Request
 
 from bodycensus.errors import BadInput, TooLarge
 from bodycensus.store import Store
@@ -148,20 +148,30 @@ async def _pump(request: Request, parser: MultipartParser, receiver: _Receiver,
                 max_bytes: int) -> int:
     """Feed the body to the parser, writing file bytes as they come; returns bytes received."""
     received = 0
-    async for chunk in request.stream():
-        received += len(chunk)
-        if received > max_bytes:
-            raise TooLarge(_too_large(max_bytes))
-        try:
-            parser.write(chunk)
-        except MultipartParseError as err:
-            raise BadInput("the upload is not valid multipart/form-data; send the file as "
-                           f"form field '{FIELD}'") from err
-        if data := receiver.take():
-            await run_in_threadpool(_write, receiver.handle, data, False)
+    try:
+        async for chunk in request.stream():
+            received = await _feed(chunk, received, parser, receiver, max_bytes)
+    except ClientDisconnect as err:
+        raise BadInput("the upload was interrupted before it ended; send the file again") from err
     parser.finalize()
     if receiver.handle is not None:
         await run_in_threadpool(_write, receiver.handle, receiver.take(final=True), True)
+    return received
+
+
+async def _feed(chunk: bytes, received: int, parser: MultipartParser, receiver: _Receiver,
+                max_bytes: int) -> int:
+    """Parse one chunk of the body and write what the file part gained; bytes so far."""
+    received += len(chunk)
+    if received > max_bytes:
+        raise TooLarge(_too_large(max_bytes))
+    try:
+        parser.write(chunk)
+    except MultipartParseError as err:
+        raise BadInput("the upload is not valid multipart/form-data; send the file as "
+                       f"form field '{FIELD}'") from err
+    if data := receiver.take():
+        await run_in_threadpool(_write, receiver.handle, data, False)
     return received
 
 
