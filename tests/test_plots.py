@@ -70,7 +70,7 @@ def test_flagged_markers_sit_on_their_bar(aggs: dict[str, Any]) -> None:
 def test_hover_text_is_escaped(aggs: dict[str, Any]) -> None:
     fig = plots.density_figure(aggs, HOSTILE_LABEL)
     hover = _meta(fig, "flagged")[0]["hovertext"][0]
-    assert "<img" not in hover and "&lt;img src=x onerror=&quot;alert(1)&quot;&gt;" in hover
+    assert "<img" not in hover and '&lt;img src=x onerror="alert(1)"&gt;' in hover
     assert "<img" not in fig["data"][0]["name"]
     dist = plots.distribution_figure(aggs, "mass")
     assert all("<img" not in t["name"] for t in dist["data"])

@@ -29,8 +29,9 @@ Figure = dict[str, Any]
 
 
 def text(value: Any) -> str:
-    """Catalogue data as plotly-safe text: HTML-escaped so a label shows as typed."""
-    return html.escape("" if value is None else str(value))
+    """Catalogue data as plotly-safe text: ``< > &`` escaped so a label shows as typed (plotly
+    decodes only a few entities, and not ``&quot;``, so quotes stay as they are)."""
+    return html.escape("" if value is None else str(value), quote=False)
 
 
 def _layout(title: str, x_title: str, y_title: str, **extra: Any) -> dict[str, Any]:
@@ -40,8 +41,8 @@ def _layout(title: str, x_title: str, y_title: str, **extra: Any) -> dict[str, A
         "font": {"family": "system-ui, 'Segoe UI', Helvetica, Arial, sans-serif", "size": 13,
                  "color": "#222"},
         "paper_bgcolor": "#ffffff", "plot_bgcolor": "#fafafa",
-        "margin": {"l": 70, "r": 20, "t": 70, "b": 60}, "height": 520,
-        "legend": {"orientation": "h", "y": 1.02, "yanchor": "bottom", "x": 0.0},
+        "margin": {"l": 70, "r": 20, "t": 50, "b": 120}, "height": 560,
+        "legend": {"orientation": "h", "y": -0.16, "yanchor": "top", "x": 0.0},
         "xaxis": {"title": {"text": x_title}, "gridcolor": "#e3e3e3", "zeroline": False},
         "yaxis": {"title": {"text": y_title}, "gridcolor": "#e3e3e3", "zeroline": False},
         "hovermode": "closest", **extra,
@@ -49,11 +50,18 @@ def _layout(title: str, x_title: str, y_title: str, **extra: Any) -> dict[str, A
 
 
 def log_ticks(low: float, high: float) -> dict[str, Any]:
-    """Axis ticks at whole powers of ten for an axis in log10 units (10^k labels)."""
-    ticks = list(range(math.floor(low), math.ceil(high) + 1))
-    step = max(1, len(ticks) // 10)
-    ticks = ticks[::step]
-    return {"tickvals": ticks, "ticktext": [f"10<sup>{k}</sup>" for k in ticks]}
+    """Ticks for an axis in log10 units: powers of ten (10^k), plus 2 and 5 x 10^k when the
+    axis spans under three decades, so a narrow axis still has several labels."""
+    powers = list(range(math.floor(low), math.ceil(high) + 1))
+    if high - low >= 3:
+        powers = powers[::max(1, len(powers) // 10)]
+        return {"tickvals": powers, "ticktext": [f"10<sup>{k}</sup>" for k in powers]}
+    vals, texts = [], []
+    for k in powers:
+        for m in (1, 2, 5):
+            vals.append(k + math.log10(m))
+            texts.append(f"10<sup>{k}</sup>" if m == 1 else f"{m}·10<sup>{k}</sup>")
+    return {"tickvals": vals, "ticktext": texts}
 
 
 def centres(edges: list[float]) -> list[float]:

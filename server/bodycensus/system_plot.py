@@ -17,7 +17,7 @@ from bodycensus.plots import ACCENT, SEVERITY_STYLE, text
 Transform = Callable[[float], float]
 _STEPS = 120
 MAX_SIBLINGS = 40
-LOG_WHEN_SPAN = 100.0  # parent radii: beyond this the log drawing is shown first
+LOG_WHEN_SPAN = 20.0  # largest / smallest distance drawn: beyond it the log drawing comes first
 
 
 def _polar(radius: Callable[[float], float], f: Transform) -> tuple[list[float], list[float]]:
@@ -121,9 +121,12 @@ def system_figures(detail: dict[str, Any]) -> tuple[dict[str, dict[str, Any]], s
     radius = _value(detail, "parent_radius") or parent.get("radius")
     if not radius or _value(detail, "semi_major_axis") is None:
         return {}, "", ""
+    siblings = (detail.get("system") or {}).get("siblings") or []
     extents = [v for k in ("apoapsis", "parent_hill_radius", "roche_fluid", "semi_major_axis")
                if (v := _value(detail, k)) is not None]
-    span = max(extents) / radius
+    extents += [s["semi_major_axis"] for s in siblings[:MAX_SIBLINGS] if s.get("semi_major_axis")]
+    nearest = min(radius, _value(detail, "periapsis") or radius)
+    span = max(extents) / nearest
     scales: dict[str, Transform] = {
         "linear": lambda r: r / radius,
         "log": lambda r: max(0.0, 1.0 + math.log10(max(r, 1e-300) / radius)),
@@ -142,8 +145,8 @@ def system_figures(detail: dict[str, Any]) -> tuple[dict[str, dict[str, Any]], s
 def _layout(axis_title: str) -> dict[str, Any]:
     """Equal-aspect axes on a light background."""
     axis = {"title": {"text": axis_title}, "gridcolor": "#e3e3e3", "zeroline": False}
-    return {"height": 520, "margin": {"l": 60, "r": 20, "t": 30, "b": 50},
+    return {"height": 560, "margin": {"l": 60, "r": 20, "t": 20, "b": 110},
             "paper_bgcolor": "#ffffff", "plot_bgcolor": "#fafafa",
             "font": {"family": "system-ui, 'Segoe UI', Helvetica, Arial, sans-serif", "size": 13},
             "xaxis": axis, "yaxis": {**axis, "scaleanchor": "x", "scaleratio": 1},
-            "legend": {"orientation": "h", "y": 1.02, "yanchor": "bottom"}}
+            "legend": {"orientation": "h", "y": -0.14, "yanchor": "top"}}
