@@ -72,7 +72,8 @@ def test_truncated_lognormal_cutoff_found_within_one_bin() -> None:
 
 
 def test_untruncated_lognormal_has_no_artefact() -> None:
-    """The same distribution, whole: the tail fit predicts next to nothing beyond the extremes."""
+    """The same distribution, whole: the geometric tail fit predicts next to nothing beyond the
+    extremes, and no test survives BH (1995) at the default FDR."""
     assert detect_artefacts(_frame(_lognormal(3)), ["radius"]).is_empty()
 
 
@@ -105,7 +106,8 @@ def test_clamp_spike_found_and_its_members_listed() -> None:
 
 
 def test_inner_spike_of_a_default_value_found() -> None:
-    """A default value written for 1% of bodies inside the range."""
+    """A default value written for 1% of bodies inside the range: exact-value count against its
+    two neighbours, conditional binomial test (Przyborowski & Wilenski 1940), BH 1995."""
     sample = _lognormal(6)
     sample[:50] = 3.0e6
     found = _label_rows(detect_artefacts(_frame(sample), ["radius"]))
@@ -114,7 +116,8 @@ def test_inner_spike_of_a_default_value_found() -> None:
 
 @pytest.mark.parametrize("mean", [0.5, 3.0])
 def test_small_integer_counts_are_not_spikes(mean: float) -> None:
-    """Number of moons ~ Poisson: each count is tested against its lattice neighbours."""
+    """Number of moons ~ Poisson: each count is tested against its lattice neighbours (their mean,
+    log-linear at the ends; conditional binomial test), and small-integer ends are natural."""
     moons = np.random.default_rng(7).poisson(mean, 20_000).astype(float)
     assert detect_artefacts(_frame(moons, field="moons"), ["moons"]).is_empty()
 
@@ -163,6 +166,7 @@ def test_small_groups_skipped() -> None:
 
 
 def test_bad_input_says_what_and_where() -> None:
+    """One-line errors naming the column and what to pass instead."""
     table = _frame(_lognormal(11))
     with pytest.raises(ArtefactInputError, match="no column 'mass'"):
         detect_artefacts(table, ["mass"])
@@ -186,6 +190,7 @@ def test_benjamini_hochberg_matches_scipy() -> None:
 
 
 def test_bench_reports_timings_and_finds_nothing_in_smooth_data() -> None:
+    """The function ``bodycensus bench`` calls: figures for a small smooth catalogue."""
     result = bench_artefacts(20_000, seed=13)
     assert result["n_bodies"] == 20_000 and result["fields"] == 15
     assert result["detect_seconds"] > 0 and result["artefacts"] == 0
