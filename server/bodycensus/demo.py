@@ -162,7 +162,7 @@ def _write(frame: pl.DataFrame, out: Path) -> None:
     tmp = out.with_name(f".{out.name}.{os.getpid()}.tmp")
     try:
         if out.name.endswith(".csv.gz"):
-            with open(tmp, "wb") as raw, gzip.GzipFile("", "wb", 6, raw, mtime=0) as packed:
+            with open(tmp, "wb") as raw, gzip.GzipFile("", "wb", 1, raw, mtime=0) as packed:
                 frame.write_csv(packed)
         elif out.name.endswith(".csv"):
             frame.write_csv(tmp)

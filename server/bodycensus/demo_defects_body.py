@@ -27,8 +27,9 @@ def missing_value(p: Planter) -> None:
 
 
 def non_positive(p: Planter) -> None:
-    """A negative rotation period on an unlocked planet (no other rule reads it)."""
-    rows = p.pick(p.is_code(CODE["terrestrial world"], CODE["super-earth"]) & ~p.t["locked"])
+    """A negative rotation period on a neutron star (no other rule reads it; a small label, so
+    the stray sign disturbs few distributions)."""
+    rows = p.pick(p.is_code(CODE["neutron star"]))
     p.t["rotation"][rows] *= -1.0
     p.record("non-positive", rows)
 
@@ -63,6 +64,13 @@ def unit_slip(p: Planter) -> None:
     rows = p.pick(p.is_code(CODE["terrestrial world"]) & p.leaves() & ~p.t["locked"])
     p.t["radius"][rows] *= 1000.0
     p.record("unit-slip", rows)
+
+
+def bad_eccentricity(p: Planter) -> None:
+    """A moon with a negative eccentricity (its periapsis, a(1 - e), stays well outside)."""
+    rows = p.pick(p.sole_moons())
+    p.t["e"][rows] = -(p.t["e"][rows] + 0.05)
+    p.record("bad-eccentricity", rows)
 
 
 def bad_cell(p: Planter) -> None:
@@ -142,6 +150,7 @@ def label_outlier(p: Planter) -> None:
 
 BODY_PLANTINGS: tuple[Callable[[Planter], None], ...] = (  # the scarce targets first
     over_chandrasekhar, over_neutron_star_max, under_hydrogen_burning, brown_dwarf_range,
-    missing_value, non_positive, duplicate_id, orphan_parent, parent_cycle, unit_slip, bad_cell,
+    missing_value, non_positive, duplicate_id, orphan_parent, parent_cycle, unit_slip,
+    bad_eccentricity, bad_cell,
     denser_than_iron, family_density, oversized_cold_body, label_outlier,
 )

@@ -43,10 +43,10 @@ class PlanetKind:
 
 
 STAR_KINDS: tuple[StarKind, ...] = (
-    StarKind("red dwarf", 0.28, 0.25, None),
-    StarKind("orange dwarf star", 0.72, 0.10, None),
-    StarKind("yellow dwarf star", 1.0, 0.08, None),
-    StarKind("blue-white star", 1.7, 0.15, None),
+    StarKind("red dwarf", 0.30, 0.30, None),
+    StarKind("orange dwarf star", 0.70, 0.20, None),
+    StarKind("yellow dwarf star", 1.05, 0.15, None),
+    StarKind("blue-white star", 1.6, 0.20, None),
     StarKind("brown dwarf", 32.0 / 1047.57, 0.18, 1300.0),
     StarKind("white dwarf", 0.68, 0.075, 9000.0),
     StarKind("neutron star", 1.40, 0.035, 6e5),
@@ -57,23 +57,25 @@ COMPANION_SHARES = (0.45, 0.12, 0.06, 0.0, 0.20, 0.17, 0.0, 0.0)
 MAIN_SEQUENCE = ("red dwarf", "orange dwarf star", "yellow dwarf star", "blue-white star")
 
 PLANET_KINDS: tuple[PlanetKind, ...] = (
-    PlanetKind("terrestrial world", 0.20, 0.5, 0.8, "rock", 1.1, 0.12, 24.0, 0.8, 0.5, 1.0),
+    PlanetKind("terrestrial world", 0.20, 0.4, 0.9, "rock", 1.1, 0.12, 24.0, 0.8, 0.5, 1.0),
     PlanetKind("super-earth", 0.14, 4.0, 0.45, "rock", 1.1, 0.12, 20.0, 0.7, 0.5, 1.5),
-    PlanetKind("iron world", 0.04, 0.3, 0.7, "iron", 0.8, 0.04, 30.0, 0.8, 0.1, 0.5),
+    PlanetKind("iron world", 0.04, 0.3, 0.6, "iron", 0.8, 0.04, 30.0, 0.8, 0.1, 0.5),
     PlanetKind("ocean world", 0.07, 2.0, 0.5, "water_ice", 1.35, 0.08, 22.0, 0.6, 0.3, 2.0),
-    PlanetKind("ice world", 0.07, 0.6, 0.6, "water_ice", 1.0, 0.10, 28.0, 0.7, 0.4, 4.0),
+    PlanetKind("ice world", 0.07, 0.5, 0.7, "water_ice", 1.0, 0.10, 28.0, 0.7, 0.4, 4.0),
     PlanetKind("ice giant", 0.10, 15.0, 0.4, "water_ice", 0.42, 0.12, 16.0, 0.25, 2.0, 5.0),
-    PlanetKind("gas giant", 0.10, 300.0, 0.4, "cold_hhe", 1.03, 0.05, 11.0, 0.25, 3.0, 4.5),
-    PlanetKind("asteroid", 0.28, 0.0, 0.0, "rock", 1.0, 0.0, 8.0, 0.8, 0.0, 2.5),
+    PlanetKind("gas giant", 0.10, 300.0, 0.35, "cold_hhe", 1.03, 0.05, 11.0, 0.25, 3.0, 4.5),
+    PlanetKind("dwarf planet", 0.05, 0.03, 1.0, "rock", 0.9, 0.07, 30.0, 0.8, 0.2, 3.0),
+    PlanetKind("icy planetoid", 0.05, 0.03, 1.0, "water_ice", 1.15, 0.10, 30.0, 0.8, 0.2, 4.5),
+    PlanetKind("asteroid", 0.24, 0.0, 0.0, "rock", 1.0, 0.0, 8.0, 0.8, 0.0, 2.5),
     PlanetKind("hot gas giant", 0.0, 250.0, 0.4, "cold_hhe", 1.25, 0.06, 10.0, 0.3, 1.0, 0.0),
 )
 HOT_GIANT_SHARE = 0.06  # chance that a system's innermost planet is a hot gas giant
 ASTEROID_RADIUS_KM = (25.0, 0.9)  # median km, sigma; density below
-ASTEROID_DENSITY = (2200.0, 0.45)  # kg m-3 median, sigma
+ASTEROID_DENSITY = (2000.0, 0.28)  # kg m-3 median, sigma
 
 MOON_LABELS = ("rocky moon", "icy moon")
 MOON_CURVES = (("rock", 0.82, 0.06), ("water_ice", 1.25, 0.10))  # curve, factor median, sigma
-MOON_MASS_FRACTION = (3e-4, -0.35, 0.9)  # median x (M_planet/M_earth)^slope, sigma
+MOON_MASS_FRACTION = (3e-4, -0.35, 0.8)  # median x (M_planet/M_earth)^slope, sigma
 MOON_SPIN = (15.0, 0.7)  # h: median, sigma (unlocked moons)
 
 LABELS: tuple[str, ...] = (

@@ -91,6 +91,19 @@ def place(rng: np.random.Generator, group: np.ndarray, mass: np.ndarray, density
     return a, e
 
 
+def edge_factor(rng: np.random.Generator, mu: float, sigma: float, n: int) -> np.ndarray:
+    """X for placing the innermost sibling at edge x (1 + X): ln(1 + X) is normal (mu, sigma),
+    redrawn in the rare case (> 4 sigma) that it falls below 0.15, so the periapsis-to-edge
+    ratio has a smooth log-normal tail and never touches the edge."""
+    def draw(m: int) -> np.ndarray:
+        return mu + sigma * rng.standard_normal(m)
+
+    y = draw(n)
+    while (low := y < 0.15).any():
+        y[low] = draw(int(low.sum()))
+    return np.expm1(y)
+
+
 def noisy_period(rng: np.random.Generator, a: np.ndarray, parent_mass: np.ndarray,
                  mass: np.ndarray) -> np.ndarray:
     """Kepler period (s) with a small catalogue noise (normal, 0.06 %)."""

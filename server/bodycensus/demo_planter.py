@@ -60,6 +60,7 @@ class Planter:
         """Up to ``count`` (default: per_rule) rows of ``mask``, each in a different unused system."""
         count = self.per_rule if count is None else count
         candidates = self.rng.permutation(np.flatnonzero(mask & ~self.used[self.t["sys"]]))
+        candidates = candidates[: max(1000, 50 * count)]  # plenty of distinct systems, cheaply
         _, first = np.unique(self.t["sys"][candidates], return_index=True)
         chosen = np.sort(candidates[np.sort(first)][:count])
         self.used[self.t["sys"][chosen]] = True

@@ -25,7 +25,7 @@ from bodycensus.demo_kinds import (
     RIGIDITY,
     lognormal,
 )
-from bodycensus.demo_orbits import group_starts, noisy_period, place
+from bodycensus.demo_orbits import edge_factor, group_starts, noisy_period, place
 from bodycensus.demo_stars import age_seconds, redraw, systems
 from bodycensus.physics import bodies, orbits
 from bodycensus.units import AU, HOUR, L_SUN, M_EARTH
@@ -36,6 +36,7 @@ CUTOFF_RADIUS = 6e3  # m; the generator re-rolls every asteroid smaller than thi
 GAP_SPIN = (14.5 * HOUR, 17.5 * HOUR)  # s; the generator re-rolls ice-giant spins in this band
 SPIKE_MASS = 1.75 * M_EARTH  # kg; the default mass a share of ocean worlds is given
 SPIKE_SHARE = 0.04
+AGE_SCATTER = 0.1  # per-body scatter of catalogued ages about their system's age
 PLANETS_PER_STAR = 4.5  # Poisson mean, main-sequence hosts only
 EQUILIBRIUM_T_1AU = 278.6  # K; zero-albedo equilibrium temperature at 1 au from the Sun (memory)
 HOT = PLANET_CODE0 + [k.label for k in PLANET_KINDS].index("hot gas giant")
@@ -93,9 +94,9 @@ def _star_orbiters(rng: np.random.Generator, sysd: Table) -> Table:
     t = {k: v[order] for k, v in t.items()}
     star = t["code"] < PLANET_CODE0
     n = len(star)
-    first_gap = np.where(star, lognormal(rng, 30.0, 0.7, n),
-                         np.where(t["code"] == HOT, lognormal(rng, 2.5, 0.25, n),
-                                  lognormal(rng, 15.0, 0.6, n)))
+    first_gap = np.where(star, edge_factor(rng, 3.4, 0.5, n),
+                         np.where(t["code"] == HOT, edge_factor(rng, 1.25, 0.25, n),
+                                  edge_factor(rng, 2.8, 0.5, n)))
     slack = np.where(star, lognormal(rng, 5.0, 0.4, n), lognormal(rng, 0.25, 0.5, n))
     parent = _parent_of(sysd, t["sys"])
     t["a"], t["e"] = place(rng, t["sys"], t["mass"], bodies.bulk_density(t["mass"], t["radius"]),
@@ -139,7 +140,7 @@ def _moons(rng: np.random.Generator, orb: Table) -> Table:
     n = len(host)
     parent = _parent_of(orb, host)
     a, e = place(rng, host, mass, bodies.bulk_density(mass, radius), parent,
-                 lognormal(rng, 3.0, 0.6, n), lognormal(rng, 0.3, 0.5, n), np.full(n, 0.03))
+                 edge_factor(rng, 1.5, 0.3, n), lognormal(rng, 0.3, 0.5, n), np.full(n, 0.03))
     keep = orbits.apoapsis(a, e) < limit[host]
     t = {"host": host, "code": MOON_CODE0 + icy.astype(int), "mass": mass, "radius": radius,
          "a": a, "e": e, "parent_mass": parent["mass"]}
@@ -152,7 +153,7 @@ MAIN_SEQUENCE_SPIN_H = (480.0, 0.5)
 
 
 def _free_spin(rng: np.random.Generator, code: np.ndarray) -> np.ndarray:
-    """Unlocked rotation periods (s) by kind; ice-giant spins avoid the generator's gap band."""
+    """Primordial rotation periods (s) by kind, before any tidal despinning."""
     median = np.full(len(code), MAIN_SEQUENCE_SPIN_H[0])
     sigma = np.full(len(code), MAIN_SEQUENCE_SPIN_H[1])
     for label, (m, s) in STAR_SPIN_H.items():
@@ -162,20 +163,35 @@ def _free_spin(rng: np.random.Generator, code: np.ndarray) -> np.ndarray:
             kind.spin_median_h, kind.spin_sigma
     median[code >= MOON_CODE0], sigma[code >= MOON_CODE0] = MOON_SPIN
     spin = lognormal(rng, median * HOUR, sigma, len(code))
-    ice = code == CODE["ice giant"]
-    while (bad := ice & (spin >= GAP_SPIN[0]) & (spin <= GAP_SPIN[1])).any():
-        spin[bad] = lognormal(rng, median[bad] * HOUR, sigma[bad], int(bad.sum()))
     spin[code == CODE["black hole"]] = np.nan
     return spin
 
 
-def _lock(t: Table) -> np.ndarray:
-    """Tidally locked: the despin time of the body's family (Gladman et al. 1996) is below its age."""
+def _despin_fraction(t: Table) -> np.ndarray:
+    """How far tides have slowed each orbiting body toward its orbital period: age / despin time
+    (Gladman et al. 1996), capped at 1 (locked); 0 for stars and bodies without an orbit."""
     orbiting = (t["code"] >= PLANET_CODE0) & np.isfinite(t["a"])
     with np.errstate(invalid="ignore"):
         t_lock = orbits.tidal_lock_time(t["a"], t["mass"], t["radius"], t["parent_mass"],
                                         RIGIDITY[t["code"]], QUALITY[t["code"]])
-    return orbiting & (t_lock < age_seconds(t["age"]))
+        fraction = np.clip(age_seconds(t["age"]) / t_lock, 0.0, 1.0)
+    return np.where(orbiting, np.nan_to_num(fraction), 0.0)
+
+
+def _spin(rng: np.random.Generator, t: Table) -> tuple[np.ndarray, np.ndarray]:
+    """Rotation periods (s) and lock flags. Partly despun bodies sit between their primordial
+    spin and their orbital period (in log), so locked and free spins join smoothly; ice-giant
+    spins in the generator's gap band are re-rolled."""
+    w = _despin_fraction(t)
+    period = np.where(w > 0, t["period"], 1.0)
+    free = _free_spin(rng, t["code"])
+    ice = t["code"] == CODE["ice giant"]
+    while True:
+        spin = free ** (1.0 - w) * period**w
+        bad = ice & (spin >= GAP_SPIN[0]) & (spin <= GAP_SPIN[1])
+        if not bad.any():
+            return np.where(w >= 1.0, t["period"], spin), w >= 1.0
+        free[bad] = _free_spin(rng, t["code"][bad])
 
 
 def _stack(sysd: Table, orb: Table, moon: Table) -> Table:
@@ -201,7 +217,7 @@ def _stack(sysd: Table, orb: Table, moon: Table) -> Table:
 def _finish(rng: np.random.Generator, t: Table, sysd: Table) -> Table:
     """Ages, periods, temperatures, spins and lock flags of every row."""
     n = len(t["code"])
-    t["age"] = sysd["age"][t["sys"]] * lognormal(rng, 1.0, 0.01, n)
+    t["age"] = sysd["age"][t["sys"]] * lognormal(rng, 1.0, AGE_SCATTER, n)
     t["period"] = noisy_period(rng, t["a"], t["parent_mass"], t["mass"])
     planet = (t["code"] >= PLANET_CODE0) & (t["tier"] == 1)
     host_lum = sysd["lum"][t["sys"]]
@@ -209,8 +225,7 @@ def _finish(rng: np.random.Generator, t: Table, sysd: Table) -> Table:
                          * (AU / t["a"]) ** 0.5 * lognormal(rng, 1.0, 0.05, n), t["temp"])
     moon = t["tier"] == 2
     t["temp"][moon] = t["temp"][t["parent"][moon]] * lognormal(rng, 1.0, 0.05, int(moon.sum()))
-    t["locked"] = _lock(t)
-    t["rotation"] = np.where(t["locked"], t["period"], _free_spin(rng, t["code"]))
+    t["rotation"], t["locked"] = _spin(rng, t)
     return t
 
 

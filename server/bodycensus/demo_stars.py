@@ -26,7 +26,6 @@ COMPANION_SHARE = 0.12  # systems with a second star
 SYSTEM_AGE = (4.5e9, 0.35)  # years: median, sigma
 # Physical ranges the draws must respect (the brief's limits); laws sit >= 4 sigma inside them.
 MASS_RANGES: dict[str, tuple[float, float]] = {
-    "red dwarf": (0.09 * M_SUN, 1.0 * M_SUN),
     "brown dwarf": (15.0 * M_JUPITER, 70.0 * M_JUPITER),
     "white dwarf": (0.5 * M_SUN, 1.2 * M_SUN),
     "neutron star": (1.2 * M_SUN, 2.0 * M_SUN),
