@@ -10,17 +10,16 @@ from pathlib import Path
 
 import numpy as np
 import polars as pl
-
 from bodycensus.physics import bodies as phys
 from bodycensus.physics import orbits
-from bodycensus.units import AU, M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
+from bodycensus.units import AU, M_EARTH, M_JUPITER, M_SUN, R_JUPITER, R_SUN
 
 HOSTILE_LABEL = '<img src=x onerror="alert(1)">'
 
 
 def _bodies_frame(rng: np.random.Generator) -> pl.DataFrame:
     """3 stars, 60 rocky planets near 1 M_earth, 20 gas giants, 20 moons, 4 hostile-label rows."""
-    rows = [("star-%d" % i, "G2V", "star", None, M_SUN, R_SUN, None, None) for i in range(3)]
+    rows = [(f"star-{i}", "G2V", "star", None, M_SUN, R_SUN, None, None) for i in range(3)]
     for i in range(60):
         m = M_EARTH * rng.uniform(0.5, 2.0)
         rows.append((f"rock-{i}", "Rocky world", "rock", "star-0", m,

@@ -9,13 +9,12 @@ from typing import Any
 
 import polars as pl
 import pytest
-from engine_output import HOSTILE_LABEL, write_engine_output
-
 from bodycensus import aggregates
 from bodycensus.aggregates import band_density, compute_aggregates
 from bodycensus.families import FAMILY_PARAMETERS
 from bodycensus.physics.bodies import composition_radius
 from bodycensus.units import M_EARTH, R_EARTH
+from engine_output import HOSTILE_LABEL, write_engine_output
 
 
 @pytest.fixture(scope="module")

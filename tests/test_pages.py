@@ -10,15 +10,14 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from markupsafe import escape
-from engine_output import HOSTILE_LABEL, write_engine_output
-from web_support import SyncClient, asgi_client
-
 from bodycensus.aggregates import compute_aggregates
 from bodycensus.app import create_app
 from bodycensus.settings import Settings
 from bodycensus.store import Manifest, Store, now, write_json_atomic
 from bodycensus.viewstate import ViewState
+from engine_output import HOSTILE_LABEL, write_engine_output
+from markupsafe import escape
+from web_support import SyncClient, asgi_client
 
 
 def _publish(store: Store) -> str:
@@ -48,7 +47,7 @@ def _get(site: tuple[SyncClient, str], path: str, status: int = 200) -> str:
 
 def _figure(page: str, script_id: str = "figure-data") -> dict[str, Any]:
     found = re.search(rf'<script type="application/json" id="{script_id}">(.*?)</script>', page,
-                      re.S)
+                      re.DOTALL)
     assert found, f"no {script_id} in the page"
     return json.loads(found.group(1))
 
@@ -184,4 +183,4 @@ def test_mapping_step_shows_columns_samples_and_families(tmp_path: Path) -> None
         page = client.get(answer["url"]).text
     assert 'id="mapping-form"' in page and 'data-column="kind"' in page
     assert "<span>1e24</span>" in page
-    assert re.search(r'data-label="Frozen moon".*?<option value="ice" selected>', page, re.S)
+    assert re.search(r'data-label="Frozen moon".*?<option value="ice" selected>', page, re.DOTALL)

@@ -9,10 +9,9 @@ from typing import Any
 
 import plotly.graph_objects as go
 import pytest
-from engine_output import HOSTILE_LABEL, write_engine_output
-
 from bodycensus import plots
 from bodycensus.aggregates import compute_aggregates
+from engine_output import HOSTILE_LABEL, write_engine_output
 
 
 @pytest.fixture(scope="module")

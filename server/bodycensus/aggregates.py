@@ -55,6 +55,18 @@ class Axis:
         value = pl.col(self.column) / self.scale
         return binning.log10_positive(value) if self.log else binning.finite(value)
 
+    def range_exprs(self, name: str) -> list[pl.Expr]:
+        """Min and max of the column's usable raw values (cheaper than of the coordinate)."""
+        col = pl.col(self.column)
+        usable = col.is_finite() & (col > 0) if self.log else col.is_finite()
+        return binning.range_exprs(name, col.filter(usable))
+
+    def coordinate(self, raw: float | None) -> float | None:
+        """A raw value (e.g. a range end from ``range_exprs``) on this axis."""
+        if raw is None:
+            return None
+        return math.log10(raw / self.scale) if self.log else raw / self.scale
+
 
 DIAGRAM_AXES: dict[str, tuple[Axis, ...]] = {
     "density": (Axis("density"),),
@@ -152,17 +164,21 @@ def _labels_and_ranges(bodies: pl.LazyFrame, axes: dict[str, tuple[Axis, ...]],
                        fields: list[str]) -> tuple[pl.DataFrame, dict[str, tuple[Any, Any]]]:
     """Count per label (with its main family and median mass) and every axis range, one pass."""
     mass = binning.finite(pl.col("mass"))
-    labels = bodies.group_by("label").agg(
-        pl.len().alias("count"), pl.col("family").mode().first().alias("family"),
-        mass.median().alias("median_mass"),
-    ).sort(["count", "label"], descending=[True, False], nulls_last=True)
-    exprs = [e for name, group in axes.items() for i, axis in enumerate(group)
-             for e in binning.range_exprs(f"{name}{i}", axis.expr())]
-    exprs += [e for f in fields for e in binning.range_exprs(f, distribution_axis(f).expr())]
-    labels_df, ranges_df = pl.collect_all([labels, bodies.select(exprs)])
+    named = {f"{name}{i}": axis for name, group in axes.items() for i, axis in enumerate(group)}
+    named.update({f: distribution_axis(f) for f in fields})
+    plans = [bodies.group_by("label").agg(pl.len().alias("count"),
+                                          mass.median().alias("median_mass")),
+             bodies.group_by("label", "family").agg(pl.len().alias("n")),
+             bodies.select([e for key, axis in named.items() for e in axis.range_exprs(key)])]
+    counts, pairs, ranges_df = pl.collect_all(plans)
+    main_family = (pairs.sort(["n", "family"], descending=[True, False], nulls_last=True)
+                   .unique("label", keep="first").select("label", "family"))
+    labels_df = (counts.join(main_family, on="label", how="left", nulls_equal=True)
+                 .select("label", "count", "family", "median_mass")
+                 .sort(["count", "label"], descending=[True, False], nulls_last=True))
     row = ranges_df.row(0, named=True)
-    keys = {k.rsplit("__", 1)[0] for k in row}
-    return labels_df, {k: (row[f"{k}__lo"], row[f"{k}__hi"]) for k in keys}
+    return labels_df, {key: (axis.coordinate(row[f"{key}__lo"]), axis.coordinate(row[f"{key}__hi"]))
+                       for key, axis in named.items()}
 
 
 def _counts(labels_df: pl.DataFrame, findings: pl.LazyFrame | None) -> dict[str, Any]:

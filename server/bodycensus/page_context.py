@@ -12,8 +12,8 @@ from collections.abc import Callable
 from typing import Any
 
 from bodycensus import plots
-from bodycensus.queries import MAX_RELATIVES
 from bodycensus.families import FAMILIES
+from bodycensus.queries import MAX_RELATIVES
 from bodycensus.schema import CANONICAL_FIELDS
 from bodycensus.system_plot import system_figures
 from bodycensus.units import UNITS

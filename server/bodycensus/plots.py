@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import html
 import math
+from itertools import pairwise
 from typing import Any
 
 from bodycensus.aggregates import SEVERITIES
@@ -66,7 +67,7 @@ def log_ticks(low: float, high: float) -> dict[str, Any]:
 
 def centres(edges: list[float]) -> list[float]:
     """Bin centres of a list of edges."""
-    return [(a + b) / 2 for a, b in zip(edges[:-1], edges[1:], strict=True)]
+    return [(a + b) / 2 for a, b in pairwise(edges)]
 
 
 def _empty(title: str, why: str) -> Figure:

@@ -12,12 +12,10 @@ from pathlib import Path
 from urllib.parse import urlsplit
 
 import pytest
-from playwright.sync_api import Browser, BrowserContext, Page, Route, sync_playwright
-
-from web_support import live_server
-
 from bodycensus.app import create_app
 from bodycensus.settings import Settings
+from playwright.sync_api import Browser, BrowserContext, Page, Route, sync_playwright
+from web_support import live_server
 
 CHROMIUM = "/usr/bin/chromium"
 ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",

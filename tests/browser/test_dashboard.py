@@ -179,7 +179,7 @@ def test_report_opens_with_no_server(page: Page, browser: Browser, base_url: str
         names = report.evaluate("() => document.querySelector('.report-figure').data"
                                 ".map(t => t.name)")
         assert any(n.startswith("rigid Roche limit") for n in names)
-        assert all(r.startswith("file:") or r.startswith("data:") for r in requests), requests
+        assert all(r.startswith(("file:", "data:")) for r in requests), requests
         report.screenshot(path=screenshots / "07-report.png")
     finally:
         offline.close()
