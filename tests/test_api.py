@@ -1,56 +1,31 @@
-"""The JSON API on the real app: uploads, the mapping step, findings, exports, bodies, views,
-the error shape, size limits, restarts, and one run against uvicorn on 127.0.0.1."""
+"""The JSON API on the real app in process: uploads, the mapping step, findings, exports,
+bodies, views, the error shape and size limits (restarts and uvicorn: test_api_lifecycle.py)."""
 
 from __future__ import annotations
 
 import csv
 import gzip
 import io
-import socket
-import time
 from collections.abc import Iterator
 from pathlib import Path
-from typing import Any
 
-import httpx
 import polars as pl
 import pytest
 from bodycensus.app import create_app
-from bodycensus.settings import Settings
-from bodycensus.store import KILLED, Manifest, Store, now
 from bodycensus.units import M_EARTH
 from web_support import (
     FORMULA_LABEL,
+    LIMIT,
+    ROWS,
     SyncClient,
+    api_settings,
     asgi_client,
-    catalogue_rows,
-    live_server,
+    assert_error,
+    data_entries,
+    upload,
     wait_done,
     write_catalogue,
 )
-
-LIMIT = 1 << 20  # max_upload_bytes in these tests
-ROWS = len(catalogue_rows())
-
-
-def _settings(data_dir: Path) -> Settings:
-    return Settings(data_dir=data_dir, max_upload_bytes=LIMIT, max_columns=50, workers=1)
-
-
-def _upload(client: SyncClient | httpx.Client, name: str, content: bytes, auto: bool = False,
-            ) -> httpx.Response:
-    params = {"auto": "1"} if auto else {}
-    return client.post("/api/catalogues", files={"file": (name, content, "text/csv")},
-                       params=params)
-
-
-def _assert_error(response: httpx.Response, status: int, code: str) -> dict[str, Any]:
-    """The one error shape: exactly error + detail, detail one short line."""
-    assert response.status_code == status, response.text
-    body = response.json()
-    assert set(body) == {"error", "detail"} and body["error"] == code
-    assert body["detail"] and "\n" not in body["detail"] and len(body["detail"]) <= 300
-    return body
 
 
 @pytest.fixture(scope="module")
@@ -63,8 +38,8 @@ def served(tmp_path_factory: pytest.TempPathFactory, source: bytes
            ) -> Iterator[tuple[SyncClient, str, Path]]:
     """One app on one data dir with one ready catalogue, shared by the read-only tests."""
     data_dir = tmp_path_factory.mktemp("data")
-    with asgi_client(create_app(_settings(data_dir))) as client:
-        response = _upload(client, "c.csv", source)
+    with asgi_client(create_app(api_settings(data_dir))) as client:
+        response = upload(client, "c.csv", source)
         assert response.status_code == 202, response.text
         cat_id = response.json()["id"]
         assert wait_done(client, cat_id)["status"] == "ready"
@@ -77,18 +52,12 @@ def findings(served: tuple[SyncClient, str, Path]) -> pl.DataFrame:
     return pl.read_parquet(data_dir / "catalogues" / cat_id / "findings.parquet")
 
 
-def _entries(data_dir: Path) -> set[str]:
-    """Everything under incoming/ and catalogues/ (to prove a refused upload left nothing)."""
-    return {str(p.relative_to(data_dir)) for d in ("incoming", "catalogues")
-            for p in (data_dir / d).rglob("*")}
-
-
 # --- upload and status ---------------------------------------------------------------------
 
 
 def test_upload_answers_202_then_becomes_ready(tmp_path: Path, source: bytes) -> None:
-    with asgi_client(create_app(_settings(tmp_path))) as client:
-        response = _upload(client, "../../etc/c.csv", source)
+    with asgi_client(create_app(api_settings(tmp_path))) as client:
+        response = upload(client, "../../etc/c.csv", source)
         assert response.status_code == 202
         accepted = response.json()
         assert set(accepted) == {"id", "status", "url"} and accepted["status"] == "ingesting"
@@ -173,7 +142,7 @@ def test_body_detail(served: tuple[SyncClient, str, Path]) -> None:
     assert body["system"]["parent"]["id"] == "giant-0" and body["findings"]
     slash = client.get(f"/api/catalogues/{cat_id}/bodies/sys/7")
     assert slash.status_code == 200 and slash.json()["id"] == "sys/7"
-    _assert_error(client.get(f"/api/catalogues/{cat_id}/bodies/nobody"), 404, "not_found")
+    assert_error(client.get(f"/api/catalogues/{cat_id}/bodies/nobody"), 404, "not_found")
 
 
 # --- saved views ---------------------------------------------------------------------------
@@ -190,11 +159,11 @@ def test_views_save_get_list(served: tuple[SyncClient, str, Path]) -> None:
     assert client.get(f"/api/views/{view['slug']}").json() == view
     assert view in client.get(f"/api/catalogues/{cat_id}/views").json()["items"]
     assert client.get(view["url"]).status_code == 200  # the page itself is the front end's
-    _assert_error(client.post("/api/views", json={"catalogue": cat_id, "query": "severity=x",
+    assert_error(client.post("/api/views", json={"catalogue": cat_id, "query": "severity=x",
                                                   "title": "t"}), 400, "bad_input")
-    _assert_error(client.post("/api/views", json={"catalogue": "nope1234", "title": "t"}), 404,
+    assert_error(client.post("/api/views", json={"catalogue": "nope1234", "title": "t"}), 404,
                   "not_found")
-    _assert_error(client.get("/api/views/unknown"), 404, "not_found")
+    assert_error(client.get("/api/views/unknown"), 404, "not_found")
 
 
 # --- the error shape -----------------------------------------------------------------------
@@ -211,7 +180,7 @@ def test_views_save_get_list(served: tuple[SyncClient, str, Path]) -> None:
 def test_error_shape(served: tuple[SyncClient, str, Path], path: str, status: int,
                      code: str) -> None:
     client, cat_id, _ = served
-    _assert_error(client.get(path.replace("{id}", cat_id)), status, code)
+    assert_error(client.get(path.replace("{id}", cat_id)), status, code)
 
 
 def test_pages_get_an_error_page_not_json(served: tuple[SyncClient, str, Path]) -> None:
@@ -240,29 +209,29 @@ def test_a_bad_file_is_refused_and_leaves_nothing(served: tuple[SyncClient, str,
                                                   name: str, content: bytes, auto: bool,
                                                   status: int) -> None:
     client, _, data_dir = served
-    before = _entries(data_dir)
-    body = _assert_error(_upload(client, name, content, auto), status,
+    before = data_entries(data_dir)
+    body = assert_error(upload(client, name, content, auto), status,
                          "too_large" if status == 413 else "bad_input")
     assert name.split(".")[0] in body["detail"] or status == 415
-    assert _entries(data_dir) == before
+    assert data_entries(data_dir) == before
 
 
 def test_requests_that_are_not_uploads(served: tuple[SyncClient, str, Path]) -> None:
     client, _, data_dir = served
-    before = _entries(data_dir)
-    _assert_error(client.post("/api/catalogues", content=b"id\n1\n",
+    before = data_entries(data_dir)
+    assert_error(client.post("/api/catalogues", content=b"id\n1\n",
                               headers={"content-type": "text/csv"}), 415, "bad_input")
-    _assert_error(client.post("/api/catalogues", files={"other": ("c.csv", b"id\n1\n")}), 400,
+    assert_error(client.post("/api/catalogues", files={"other": ("c.csv", b"id\n1\n")}), 400,
                   "bad_input")
-    assert _entries(data_dir) == before
+    assert data_entries(data_dir) == before
 
 
 def test_upload_over_the_limit_is_413_and_leaves_nothing(served: tuple[SyncClient, str, Path]
                                                         ) -> None:
     client, _, data_dir = served
-    before = _entries(data_dir)
-    _assert_error(_upload(client, "big.csv", b"id\n" + b"x\n" * LIMIT), 413, "too_large")
-    assert _entries(data_dir) == before and list((data_dir / "tmp").iterdir()) == []
+    before = data_entries(data_dir)
+    assert_error(upload(client, "big.csv", b"id\n" + b"x\n" * LIMIT), 413, "too_large")
+    assert data_entries(data_dir) == before and list((data_dir / "tmp").iterdir()) == []
 
 
 def test_a_file_that_breaks_during_ingest_fails_in_one_line(served: tuple[SyncClient, str, Path]
@@ -270,13 +239,13 @@ def test_a_file_that_breaks_during_ingest_fails_in_one_line(served: tuple[SyncCl
     client, _, data_dir = served
     lines = ["id,mass [kg],radius [m]"] + [f"b{i},1e20,1e5" for i in range(1, 2000)]
     lines[1500] = 'b1500,"1e20,1e5'  # an unterminated quote far past the sniffed rows
-    accepted = _upload(client, "quote.csv", "\n".join(lines).encode()).json()
+    accepted = upload(client, "quote.csv", "\n".join(lines).encode()).json()
     done = wait_done(client, accepted["id"])
     assert done["status"] == "failed" and "\n" not in done["error"] and "quote" in done["error"]
     assert done["error"].startswith("quote.csv: ")
     assert [p.name for p in (data_dir / "incoming" / accepted["id"]).iterdir()] == [
         "manifest.json"]
-    _assert_error(client.get(f"/api/catalogues/{accepted['id']}/findings"), 409, "conflict")
+    assert_error(client.get(f"/api/catalogues/{accepted['id']}/findings"), 409, "conflict")
     assert client.delete(f"/api/catalogues/{accepted['id']}").status_code == 204
 
 
@@ -287,18 +256,18 @@ def test_mapping_step(served: tuple[SyncClient, str, Path]) -> None:
     client, _, data_dir = served
     header = ["id", "name", "type", "parent", "mass", "radius", "a", "eccentricity", "period"]
     content = write_catalogue(data_dir.parent / "plain.csv", n_planets=20, header=header)
-    accepted = _upload(client, "plain.csv", content.read_bytes()).json()
+    accepted = upload(client, "plain.csv", content.read_bytes()).json()
     assert accepted["status"] == "mapping"
     waiting = client.get(f"/api/catalogues/{accepted['id']}").json()
     proposal = waiting["proposal"]
     assert proposal["columns"] == header and proposal["samples"]["type"][0] == "G2V"
     assert proposal["reasons"] and proposal["families"]["Icy moon"] == "ice"
     url = f"/api/catalogues/{accepted['id']}"
-    _assert_error(client.get(f"{url}/findings"), 409, "conflict")
-    _assert_error(client.post(f"{url}/mapping", json={"units": {"mass": "furlong"}}), 422,
+    assert_error(client.get(f"{url}/findings"), 409, "conflict")
+    assert_error(client.post(f"{url}/mapping", json={"units": {"mass": "furlong"}}), 422,
                   "bad_input")
-    _assert_error(client.post(f"{url}/mapping", json={"map": {"id": "nope"}}), 422, "bad_input")
-    _assert_error(client.post(f"{url}/mapping", json={"families": {"G2V": "dragon"}}), 422,
+    assert_error(client.post(f"{url}/mapping", json={"map": {"id": "nope"}}), 422, "bad_input")
+    assert_error(client.post(f"{url}/mapping", json={"families": {"G2V": "dragon"}}), 422,
                   "bad_input")
     choice = {"units": {"mass": "earth_mass", "radius": "km", "semi_major_axis": "au",
                         "period": "d"}, "families": {"Icy moon": "rock"}}
@@ -310,54 +279,8 @@ def test_mapping_step(served: tuple[SyncClient, str, Path]) -> None:
     body = client.get(f"{url}/bodies/moon-1").json()
     assert next(f for f in body["fields"] if f["field"] == "mass")["value"] == pytest.approx(
         1.7e-4 * M_EARTH)
-    _assert_error(client.post(f"{url}/mapping", json=choice), 409, "conflict")
+    assert_error(client.post(f"{url}/mapping", json=choice), 409, "conflict")
     assert client.delete(url).status_code == 204
-
-
-# --- restarts ------------------------------------------------------------------------------
-
-
-def test_restart_keeps_catalogues_and_views(tmp_path: Path, source: bytes) -> None:
-    with asgi_client(create_app(_settings(tmp_path))) as client:
-        cat_id = _upload(client, "c.csv", source).json()["id"]
-        wait_done(client, cat_id)
-        view = client.post("/api/views", json={"catalogue": cat_id, "query": "severity=error",
-                                               "title": "kept"}).json()
-        before = client.get(f"/api/catalogues/{cat_id}/findings").json()
-    with asgi_client(create_app(_settings(tmp_path))) as client:
-        assert client.get(f"/api/catalogues/{cat_id}").json()["status"] == "ready"
-        assert client.get(f"/api/views/{view['slug']}").json() == view
-        assert client.get(f"/api/catalogues/{cat_id}/findings").json() == before
-        assert client.delete(f"/api/catalogues/{cat_id}").status_code == 204
-        _assert_error(client.get(f"/api/catalogues/{cat_id}"), 404, "not_found")
-        _assert_error(client.get(f"/api/views/{view['slug']}"), 404, "not_found")
-    assert list((tmp_path / "catalogues").iterdir()) == []
-
-
-def test_an_ingest_cut_off_by_a_kill_is_failed_after_restart(tmp_path: Path,
-                                                             source: bytes) -> None:
-    store = Store(tmp_path)  # what a server killed mid-ingest leaves behind
-    cat_id, path = store.new_upload(".csv")
-    path.write_bytes(source)
-    store.open_upload(Manifest(id=cat_id, name="c.csv", status="mapping", created=now()))
-    store.claim(cat_id, "mapping", status="ingesting")
-    (store.workdir(cat_id) / "bodies.parquet").write_bytes(b"half")
-    with asgi_client(create_app(_settings(tmp_path))) as client:
-        failed = client.get(f"/api/catalogues/{cat_id}").json()
-        assert (failed["status"], failed["error"]) == ("failed", KILLED)
-        assert client.delete(f"/api/catalogues/{cat_id}").status_code == 204
-        again = _upload(client, "c.csv", source).json()
-        assert wait_done(client, again["id"])["status"] == "ready"
-
-
-def test_demo_catalogue_is_added_once(tmp_path: Path) -> None:
-    settings = Settings(data_dir=tmp_path, demo=True, workers=1)
-    with asgi_client(create_app(settings)) as client:
-        [demo] = client.get("/api/catalogues").json()["items"]
-        assert demo["demo"] and wait_done(client, demo["id"])["rows"] == 20_000
-    with asgi_client(create_app(settings)) as client:
-        assert [c["id"] for c in client.get("/api/catalogues").json()["items"]] == [demo["id"]]
-    assert list((tmp_path / "tmp").iterdir()) == []
 
 
 # --- static files and the schema -----------------------------------------------------------
@@ -376,45 +299,3 @@ def test_plotly_and_openapi_are_served_locally(served: tuple[SyncClient, str, Pa
     assert {"FindingsPage", "BodyOut", "ErrorOut"} <= set(schema["components"]["schemas"])
 
 
-# --- a real server -------------------------------------------------------------------------
-
-
-def test_real_server_upload_and_limit(tmp_path: Path) -> None:
-    source = write_catalogue(tmp_path / "real.csv", n_planets=300)
-    data_dir = tmp_path / "data"
-    with live_server(create_app(_settings(data_dir))) as base, \
-            httpx.Client(base_url=base, timeout=30) as client:
-        with source.open("rb") as handle:
-            response = client.post("/api/catalogues", files={"file": ("real.csv", handle)})
-        assert response.status_code == 202
-        done = wait_done(client, response.json()["id"])
-        assert (done["status"], done["rows"]) == ("ready", len(catalogue_rows(300)))
-        page = client.get(f"/api/catalogues/{done['id']}/findings", params={"limit": 2}).json()
-        assert page["total"] > 2 and len(page["items"]) == 2
-        before = _entries(data_dir)
-
-        def chunks() -> Iterator[bytes]:  # no content-length: the limit must hold mid-stream
-            yield b"--b\r\nContent-Disposition: form-data; name=\"file\"; filename=\"x.csv\"\r\n\r\n"
-            for _ in range(24):
-                yield b"id\n" + b"y" * 65536
-        big = client.post("/api/catalogues", content=chunks(),
-                          headers={"content-type": "multipart/form-data; boundary=b"})
-        _assert_error(big, 413, "too_large")
-        assert _entries(data_dir) == before
-        assert _send_half_and_hang_up(base, data_dir) != before  # it reached the disk ...
-        deadline = time.monotonic() + 10
-        while _entries(data_dir) != before and time.monotonic() < deadline:
-            time.sleep(0.05)
-        assert _entries(data_dir) == before  # ... and went when the client hung up
-
-
-def _send_half_and_hang_up(base: str, data_dir: Path) -> set[str]:
-    """Start a 1 MB upload, send part of it, and hang up; the data dir just before that."""
-    host, port = base.removeprefix("http://").split(":")
-    head = (b"--b\r\nContent-Disposition: form-data; name=\"file\"; filename=\"cut.csv\"\r\n\r\n"
-            b"id\n" + b"z\n" * 100_000)
-    with socket.create_connection((host, int(port))) as sock:
-        sock.sendall(b"POST /api/catalogues HTTP/1.1\r\nHost: x\r\nContent-Length: 1000000\r\n"
-                     b"Content-Type: multipart/form-data; boundary=b\r\n\r\n" + head)
-        time.sleep(0.3)  # let the server write the first part to disk before the hang-up
-        return _entries(data_dir)

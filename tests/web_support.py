@@ -21,6 +21,7 @@ from typing import Any
 import anyio.from_thread
 import httpx
 import uvicorn
+from bodycensus.settings import Settings
 from fastapi import FastAPI
 
 AU_KM = 1.495978707e8  # km; IAU 2012 Resolution B2
@@ -135,3 +136,35 @@ def wait_done(client: SyncClient | httpx.Client, cat_id: str, timeout: float = 6
             return body
         time.sleep(0.05)
     raise AssertionError(f"catalogue {cat_id} still {body['status']} after {timeout} s")
+
+
+LIMIT = 1 << 20  # max_upload_bytes in the API tests
+ROWS = len(catalogue_rows())
+
+
+def api_settings(data_dir: Path) -> Settings:
+    """Settings for API tests: a small upload limit, 50 columns at most, one ingest worker."""
+    return Settings(data_dir=data_dir, max_upload_bytes=LIMIT, max_columns=50, workers=1)
+
+
+def upload(client: SyncClient | httpx.Client, name: str, content: bytes, auto: bool = False,
+            ) -> httpx.Response:
+    """Upload ``content`` as multipart field ``file`` named ``name``."""
+    params = {"auto": "1"} if auto else {}
+    return client.post("/api/catalogues", files={"file": (name, content, "text/csv")},
+                       params=params)
+
+
+def assert_error(response: httpx.Response, status: int, code: str) -> dict[str, Any]:
+    """The one error shape: exactly error + detail, detail one short line."""
+    assert response.status_code == status, response.text
+    body = response.json()
+    assert set(body) == {"error", "detail"} and body["error"] == code
+    assert body["detail"] and "\n" not in body["detail"] and len(body["detail"]) <= 300
+    return body
+
+
+def data_entries(data_dir: Path) -> set[str]:
+    """Everything under incoming/ and catalogues/ (to prove a refused upload left nothing)."""
+    return {str(p.relative_to(data_dir)) for d in ("incoming", "catalogues")
+            for p in (data_dir / d).rglob("*")}
