@@ -14,7 +14,9 @@ import pytest
 import zstandard
 from astropy import constants as const
 from astropy import units as u
+from bodycensus import ingest as ingest_module
 from bodycensus.ingest import IngestError, IngestLimits, IngestReport, ingest
+from bodycensus.schema import guess_mapping
 from polars.testing import assert_frame_equal
 
 HEADER = ["ID", "Name", "type", "parent", "Mass (M_earth)", "radius_km", "a (AU)", "e",
@@ -335,3 +337,34 @@ def test_failed_ingest_keeps_the_previous_table(tmp_path: Path) -> None:
         ingest(_write_text(tmp_path / "bad.csv", "id,mass\nb1,1,2\n"), dest)
     assert pl.read_parquet(dest)["id"].to_list() == ["b1"]
     assert sorted(p.name for p in tmp_path.iterdir()) == ["bad.csv", "good.csv", "t.parquet"]
+
+
+@pytest.mark.parametrize("fmt", ["csv", "ndjson", "parquet"])
+def test_the_normalising_plan_runs_fully_on_the_streaming_engine(tmp_path: Path, fmt: str) -> None:
+    # Bounded memory on huge files needs every node streaming: polars marks an in-memory
+    # fallback (e.g. replace_strict in polars 2.1) with this fill colour in its physical graph.
+    source = _catalogue(tmp_path, fmt, "")
+    kind, delimiter = ("delimited", ",") if fmt == "csv" else (fmt, None)
+    frame = ingest_module._scan(source, kind, delimiter)
+    schema = pl.Schema({n: t for n, t in frame.collect_schema().items()
+                        if n != ingest_module._ROW})
+    plan = ingest_module._normalise(frame, schema, guess_mapping(schema.names()))
+    graph = plan.show_graph(engine="streaming", plan_stage="physical", raw_output=True)
+    assert "multi-scan" in graph and "in-memory engine fallback" in graph  # the legend
+    assert 'fillcolor="0.0 0.3 1.0"' not in graph
+
+
+@pytest.mark.parametrize(("name", "content"), [
+    ("noise.csv", bytes(range(256)) * 8),
+    ("wide.txt", "id,mass\nb1,1\n".encode("utf-16")),
+    ("array.json", b'[{"id": "b1", "mass": 1}]'),
+])
+def test_binary_utf16_and_json_arrays_are_refused_in_one_line(
+        tmp_path: Path, name: str, content: bytes) -> None:
+    assert "binary data, UTF-16 text or a JSON array" in _error(tmp_path, name, content)
+
+
+def test_a_long_header_is_listed_shortly_in_errors(tmp_path: Path) -> None:
+    header = ",".join(f"col{i}" for i in range(30)) + ",x" + "y" * 200
+    message = _error(tmp_path, "wide.csv", header + "\n" + ",".join("1" * 31) + "\n")
+    assert "'col19' and 11 more; use --map id=COLUMN" in message and "yyyy" not in message

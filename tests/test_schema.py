@@ -11,6 +11,7 @@ from bodycensus.schema import (
     FIELD_TYPES,
     NUMERIC_FIELDS,
     SchemaError,
+    describe_columns,
     guess_mapping,
     parse_assignment,
     read_header,
@@ -191,3 +192,9 @@ def test_map_to_a_missing_column_lists_the_columns() -> None:
     with pytest.raises(SchemaError, match=r"no column 'Mass' in the file; its columns are "
                                           r"'id', 'mass_kg'"):
         guess_mapping(["id", "mass_kg"], map_overrides={"mass": "Mass"})
+
+
+def test_describe_columns_shortens_long_lists() -> None:
+    assert describe_columns([]) == "(no columns)"
+    assert describe_columns(["a", "b" * 50]) == "'a', '" + "b" * 37 + "...'"
+    assert describe_columns([str(i) for i in range(25)], most=3) == "'0', '1', '2' and 22 more"

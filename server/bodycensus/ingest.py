@@ -30,15 +30,15 @@ from bodycensus.schema import (
     NUMERIC_FIELDS,
     Mapping,
     SchemaError,
+    describe_columns,
     guess_mapping,
 )
 
 Progress = Callable[[str, int], None]
-_ROW = "__bodycensus_row__"
+_ROW, _PRESENT, _BAD = "__bodycensus_row__", "__bodycensus_present__", "__bodycensus_bad__"
 _CHUNK = 1 << 20
 _DELIMITERS = (",", "\t", ";")
-_WORDS = {**dict.fromkeys(("true", "yes", "y", "t", "1", "1.0"), True),
-          **dict.fromkeys(("false", "no", "n", "f", "0", "0.0"), False)}
+_TRUE, _FALSE = ["true", "yes", "y", "t", "1", "1.0"], ["false", "no", "n", "f", "0", "0.0"]
 _EXTENSIONS = {
     ".csv": "delimited", ".tsv": "delimited", ".tab": "delimited", ".txt": "delimited",
     ".ndjson": "ndjson", ".jsonl": "ndjson", ".parquet": "parquet", ".pq": "parquet",
@@ -140,13 +140,15 @@ def _first_line(err: BaseException) -> str:
 def _detect_format(source: Path, plain: Path) -> str:
     """delimited, ndjson or parquet: by extension (under any .gz/.zst), then by content."""
     inner = source.with_suffix("") if source.suffix.lower() in _COMPRESSIONS else source
-    if inner.suffix.lower() in _EXTENSIONS:
-        return _EXTENSIONS[inner.suffix.lower()]
     with plain.open("rb") as fh:
         head = fh.read(4096)
-    if head.startswith(b"PAR1"):
-        return "parquet"
-    return "ndjson" if head.lstrip(b"\xef\xbb\xbf \t\r\n").startswith(b"{") else "delimited"
+    start = head.lstrip(b"\xef\xbb\xbf \t\r\n")[:1]
+    fmt = _EXTENSIONS.get(inner.suffix.lower()) or (
+        "parquet" if head.startswith(b"PAR1") else "ndjson" if start == b"{" else "delimited")
+    if fmt != "parquet" and (b"\x00" in head or start == b"["):
+        raise IngestError(f"{source.name}: binary data, UTF-16 text or a JSON array; export it as "
+                          "UTF-8 CSV/TSV, NDJSON (one object per line) or Parquet")
+    return fmt
 
 
 def _sniff_delimiter(plain: Path) -> str:
@@ -247,34 +249,27 @@ def _clean(text: pl.Expr) -> pl.Expr:
     return pl.when(stripped != "").then(stripped)
 
 
-def _number(col: pl.Expr, dtype: pl.DataType, factor: float) -> tuple[pl.Expr, pl.Expr]:
-    """The value times ``factor`` (null when bad), and whether a present cell was bad."""
-    if dtype.is_numeric() or dtype == pl.Boolean:
-        present, raw = col.is_not_null(), col.cast(pl.Float64)
-    else:
-        text = _clean(_to_string(col, dtype))
-        present, raw = text.is_not_null(), text.cast(pl.Float64, strict=False)
-    value = raw * factor
-    bad = present & (value.is_null() | value.is_nan() | value.is_infinite())
-    return pl.when(~bad).then(value), bad
-
-
-def _flag(col: pl.Expr, dtype: pl.DataType) -> tuple[pl.Expr, pl.Expr]:
-    """A yes/no cell as a boolean (true/false, yes/no, y/n, 1/0), and whether it was unreadable."""
-    if dtype == pl.Boolean:
-        return col, pl.lit(False)
-    text = _clean(_to_string(col, dtype)).str.to_lowercase()
-    value = text.replace_strict(_WORDS, default=None, return_dtype=pl.Boolean)
-    return value, text.is_not_null() & value.is_null()
-
-
-def _field(name: str, col: pl.Expr, dtype: pl.DataType, factor: float) -> tuple[pl.Expr, pl.Expr]:
-    """One canonical field from its source column, and its bad-cell flag."""
+def _parse(name: str, col: pl.Expr, dtype: pl.DataType, factor: float) -> tuple[pl.Expr, ...]:
+    """A field's value (non-finite values kept for now) and whether its cell held anything."""
+    if name in NUMERIC_FIELDS and (dtype.is_numeric() or dtype == pl.Boolean):
+        return col.cast(pl.Float64) * factor, col.is_not_null()
+    if name == "tidally_locked" and dtype == pl.Boolean:
+        return col, col.is_not_null()
+    text = _clean(_to_string(col, dtype))
     if name in NUMERIC_FIELDS:
-        return _number(col, dtype, factor)
-    if name == "tidally_locked":
-        return _flag(col, dtype)
-    return _clean(_to_string(col, dtype)), pl.lit(False)
+        return text.cast(pl.Float64, strict=False) * factor, text.is_not_null()
+    if name == "tidally_locked":  # is_in streams; replace_strict held the whole column (polars 2.1)
+        word = text.str.to_lowercase()
+        return pl.when(word.is_in(_TRUE)).then(True).when(word.is_in(_FALSE)).then(False), \
+            text.is_not_null()
+    return text, pl.lit(False)
+
+
+def _is_bad(name: str) -> pl.Expr:
+    """A present cell whose value came out null or (for numbers) non-finite."""
+    value = pl.col(name)
+    readable = value.is_finite() if name in NUMERIC_FIELDS else value.is_not_null()
+    return (pl.col(_PRESENT + name) & ~readable.fill_null(False)).alias(_BAD + name)
 
 
 def _output_name(column: str) -> str:
@@ -284,22 +279,26 @@ def _output_name(column: str) -> str:
 
 
 def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping) -> pl.LazyFrame:
-    """The normalised table: canonical fields in SI, _row, _bad, then the unknown columns."""
-    exprs, flags = [], []
-    for name in CANONICAL_FIELDS:
-        choice = mapping.choices.get(name)
-        if choice is None:
-            exprs.append(pl.lit(None, dtype=FIELD_TYPES[name]).alias(name))
-            continue
-        value, bad = _field(name, pl.col(choice.column), schema[choice.column], choice.factor())
-        exprs.append(value.cast(FIELD_TYPES[name]).alias(name))
-        flags.append(pl.when(bad).then(pl.lit(name)))
+    """The normalised table: canonical fields in SI, _row, _bad, then the unknown columns.
+
+    Three plain selects (parse, flag, assemble) keep each expression small for the streaming
+    engine: every cell is parsed once."""
+    parsed, mapped = [], [f for f in CANONICAL_FIELDS if f in mapping.choices]
+    for name in mapped:
+        choice = mapping.choices[name]
+        value, present = _parse(name, pl.col(choice.column), schema[choice.column],
+                                choice.factor())
+        parsed += [value.cast(FIELD_TYPES[name]).alias(name), present.alias(_PRESENT + name)]
+    unknown = [_to_string(pl.col(c), schema[c]).alias(_output_name(c))
+               for c in mapping.unknown_columns]
+    flags = [pl.when(pl.col(_BAD + f)).then(pl.lit(f)) for f in mapped]
     joined = pl.concat_str(flags, separator=",", ignore_nulls=True) if flags else pl.lit("")
-    exprs += [pl.col(_ROW).cast(pl.Int64).alias("_row"),
-              pl.when(joined != "").then(joined).cast(pl.String).alias("_bad")]
-    exprs += [_to_string(pl.col(c), schema[c]).alias(_output_name(c))
-              for c in mapping.unknown_columns]
-    return frame.select(exprs)
+    fields = [pl.when(~pl.col(_BAD + f)).then(pl.col(f)).alias(f) if f in mapped
+              else pl.lit(None, dtype=FIELD_TYPES[f]).alias(f) for f in CANONICAL_FIELDS]
+    return (frame.select(*parsed, pl.col(_ROW).cast(pl.Int64).alias("_row"), *unknown)
+            .with_columns(_is_bad(f) for f in mapped)
+            .select(*fields, "_row", pl.when(joined != "").then(joined).cast(pl.String)
+                    .alias("_bad"), *(_output_name(c) for c in mapping.unknown_columns)))
 
 
 def _fsync(path: Path) -> None:
@@ -347,8 +346,8 @@ def _map(source: Path, columns: list[str], map_overrides: dict[str, str] | None,
     except SchemaError as err:
         raise IngestError(f"{source.name}: {err}") from err
     if "id" not in mapping.choices:
-        listed = ", ".join(repr(c) for c in columns)
-        raise IngestError(f"{source.name}: no id column among {listed}; use --map id=COLUMN")
+        raise IngestError(f"{source.name}: no id column among {describe_columns(columns)}; "
+                          "use --map id=COLUMN")
     return mapping
 
 

@@ -249,15 +249,22 @@ def _guess_columns(columns: list[str]) -> tuple[dict[str, tuple[str, Unit | None
     return found, conflicts
 
 
+def describe_columns(columns: list[str], most: int = 20) -> str:
+    """A file's column names for an error message: quoted, shortened, at most ``most`` of them."""
+    if not columns:
+        return "(no columns)"
+    shown = [repr(c if len(c) <= 40 else c[:37] + "...") for c in columns[:most]]
+    more = f" and {len(columns) - most} more" if len(columns) > most else ""
+    return ", ".join(shown) + more
+
+
 def _apply_map_overrides(found: dict, columns: list[str], overrides: dict[str, str]) -> None:
     """Point each overridden field at its named column (checked against the file's columns)."""
     for raw_field, column in overrides.items():
         name = _check_field(raw_field)
         if column not in columns:
-            listed = ", ".join(repr(c) for c in columns)
-            raise SchemaError(
-                f"--map {name}={column}: no column '{column}' in the file; its columns are {listed}"
-            )
+            raise SchemaError(f"--map {name}={column}: no column '{column}' in the file; "
+                              f"its columns are {describe_columns(columns)}")
         for other, (taken, _) in list(found.items()):
             if taken == column and other != name:
                 del found[other]
