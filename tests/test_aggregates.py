@@ -48,7 +48,12 @@ def test_density_histogram_counts_every_body_of_the_label(aggs: dict[str, Any]) 
     series = {s["label"]: s for s in aggs["density"]["series"]}
     assert sum(series["Rocky world"]["counts"]) == 60
     assert sum(series["G2V"]["counts"]) == 3
-    assert len(aggs["density"]["edges"]) == aggregates.BINS + 1
+    for one in aggs["density"]["series"]:
+        assert len(one["edges"]) == aggregates.BINS + 1
+    # each label has bins of its own, spanning its data and (within reach) its family's band
+    rock, star = series["Rocky world"], series["G2V"]
+    assert rock["edges"][0] <= rock["band"][0] and rock["edges"][-1] >= rock["band"][1]
+    assert star["edges"][0] < math.log10(1410) < rock["edges"][0]  # the Sun: 1410 kg m-3
 
 
 def test_rock_band_at_earth_mass_holds_the_earth() -> None:

@@ -28,6 +28,7 @@ from bodycensus.units import M_EARTH, M_SUN, R_EARTH
 SEVERITIES: tuple[str, ...] = ("error", "impossible", "unstable", "suspect", "note")
 SEVERITY_RANK: dict[str, int] = {s: i for i, s in enumerate(SEVERITIES)}
 BINS, BINS_2D, FLAGGED_CAP, LABEL_CAP = 60, 70, 2000, 40
+BAND_REACH = 2.0  # decades of density beyond a label's data that its histogram may show
 
 _BODY_RULES = ("denser-than-iron", "family-density", "oversized-cold-body", "over-chandrasekhar",
                "over-neutron-star-max", "under-hydrogen-burning", "brown-dwarf-range",
@@ -166,15 +167,17 @@ def _labels_and_ranges(bodies: pl.LazyFrame, axes: dict[str, tuple[Axis, ...]],
     mass = binning.finite(pl.col("mass"))
     named = {f"{name}{i}": axis for name, group in axes.items() for i, axis in enumerate(group)}
     named.update({f: distribution_axis(f) for f in fields})
-    plans = [bodies.group_by("label").agg(pl.len().alias("count"),
-                                          mass.median().alias("median_mass")),
+    per_label = [pl.len().alias("count"), mass.median().alias("median_mass")]
+    if "density" in axes:  # each label's density histogram gets bins of its own
+        per_label += axes["density"][0].range_exprs("density")
+    plans = [bodies.group_by("label").agg(per_label),
              bodies.group_by("label", "family").agg(pl.len().alias("n")),
              bodies.select([e for key, axis in named.items() for e in axis.range_exprs(key)])]
     counts, pairs, ranges_df = pl.collect_all(plans)
     main_family = (pairs.sort(["n", "family"], descending=[True, False], nulls_last=True)
                    .unique("label", keep="first").select("label", "family"))
     labels_df = (counts.join(main_family, on="label", how="left", nulls_equal=True)
-                 .select("label", "count", "family", "median_mass")
+                 .select("label", "count", "family", pl.exclude("label", "count", "family"))
                  .sort(["count", "label"], descending=[True, False], nulls_last=True))
     row = ranges_df.row(0, named=True)
     return labels_df, {key: (axis.coordinate(row[f"{key}__lo"]), axis.coordinate(row[f"{key}__hi"]))
@@ -215,6 +218,8 @@ def _diagrams(bodies: pl.LazyFrame, findings: pl.LazyFrame | None,
                                   BINS_2D if len(group) == 2 else BINS)
                     for i in range(len(group))] for name, group in axes.items()}
     names = [n for n in axes if all(edges[n])]
+    if "density" in names:
+        edges["density"] = [density_edges(labels_df, top)]
     plans = [_diagram_plan(bodies, n, axes[n], edges[n], top) for n in names]
     flagged_plans = [_flagged_plan(findings, bodies, n, axes[n]) for n in names
                      if findings is not None]
@@ -236,14 +241,46 @@ def _with_references(key: str, ranges: dict[str, tuple[Any, Any]]) -> tuple[Any,
     return min(low, min(refs) - pad), max(high, max(refs) + pad)
 
 
+def density_edges(labels_df: pl.DataFrame, top: list[str]) -> dict[str, list[float]]:
+    """Log10 density bin edges per label: its own data range, widened to show its family's
+    plausible band (at most ``BAND_REACH`` decades beyond the data)."""
+    out = {}
+    for row in labels_df.filter(pl.col("label").is_in(top)).iter_rows(named=True):
+        if row["density__lo"] is None:
+            continue
+        low, high = math.log10(row["density__lo"]), math.log10(row["density__hi"])
+        band = _band(row)
+        if band:
+            low = min(low, max(band[0], low - BAND_REACH))
+            high = max(high, min(band[1], high + BAND_REACH))
+        out[row["label"]] = binning.edges(low, high, BINS)
+    return out
+
+
+def _band(row: dict[str, Any]) -> list[float] | None:
+    """The log10 plausible density band of a label's main family at its median mass."""
+    params = FAMILY_PARAMETERS.get(row["family"] or "unknown")
+    if params is None or params.density_band is None:
+        return None
+    band = band_density(params.density_band, row["median_mass"])
+    return [math.log10(b) for b in band] if band else None
+
+
 def _diagram_plan(bodies: pl.LazyFrame, name: str, axes: tuple[Axis, ...],
-                  edges: list[list[float]], top: list[str]) -> pl.LazyFrame:
-    """The counting plan of one diagram (per label for the density histogram)."""
+                  edges: list[Any], top: list[str]) -> pl.LazyFrame:
+    """The counting plan of one diagram (on each label's own bins for the density histogram)."""
     if len(axes) == 2:
         return binning.counts_2d_plan(bodies, axes[0].expr(), edges[0], axes[1].expr(), edges[1])
     if name == "density":
-        subset = bodies.filter(pl.col("label").is_in(top))
-        return binning.counts_plan(subset, axes[0].expr(), edges[0], group="label")
+        per_label = pl.LazyFrame({"label": list(edges[0]),
+                                  "lo": [e[0] for e in edges[0].values()],
+                                  "width": [(e[-1] - e[0]) / BINS for e in edges[0].values()]},
+                                 schema={"label": pl.String, "lo": pl.Float64,
+                                         "width": pl.Float64})
+        index = ((axes[0].expr() - pl.col("lo")) / pl.col("width")).floor().cast(pl.Int64)
+        return (bodies.join(per_label, on="label", how="inner")
+                .select("label", index.clip(0, BINS - 1).alias("bin")).drop_nulls()
+                .group_by("label", "bin").agg(pl.len().alias("n")))
     return binning.counts_plan(bodies, axes[0].expr(), edges[0])
 
 
@@ -263,7 +300,7 @@ def _flagged_plan(findings: pl.LazyFrame, bodies: pl.LazyFrame, name: str,
                     *list("xy"[:len(axes)])))
 
 
-def _diagram_result(name: str, edges: list[list[float]], counts: pl.DataFrame,
+def _diagram_result(name: str, edges: list[Any], counts: pl.DataFrame,
                     flagged: list[dict[str, Any]], labels_df: pl.DataFrame,
                     top: list[str]) -> dict[str, Any]:
     """Assemble one diagram's JSON from its collected counts."""
@@ -271,7 +308,7 @@ def _diagram_result(name: str, edges: list[list[float]], counts: pl.DataFrame,
     if len(edges) == 2:
         out.update(x_edges=edges[0], y_edges=edges[1],
                    z=binning.dense_matrix(counts, len(edges[0]) - 1, len(edges[1]) - 1))
-    else:
+    elif name != "density":
         out["edges"] = edges[0]
     if name == "density":
         out["series"] = _density_series(counts, edges[0], labels_df, top)
@@ -286,20 +323,15 @@ def _diagram_result(name: str, edges: list[list[float]], counts: pl.DataFrame,
     return out
 
 
-def _density_series(counts: pl.DataFrame, edges: list[float], labels_df: pl.DataFrame,
-                    top: list[str]) -> list[dict[str, Any]]:
-    """Per label: its density counts and its family's plausible band at the label's median mass."""
-    by_label = binning.dense_counts_by(counts, "label", len(edges) - 1)
+def _density_series(counts: pl.DataFrame, edges: dict[str, list[float]],
+                    labels_df: pl.DataFrame, top: list[str]) -> list[dict[str, Any]]:
+    """Per label with densities: its bins, counts and family band at the label's median mass."""
+    by_label = binning.dense_counts_by(counts, "label", BINS)
     info = {r["label"]: r for r in labels_df.iter_rows(named=True)}
-    series = []
-    for label in top:
-        family, median = info[label]["family"], info[label]["median_mass"]
-        params = FAMILY_PARAMETERS.get(family or "unknown")
-        band = band_density(params.density_band, median) if params and params.density_band else None
-        series.append({"label": label, "family": family, "median_mass": median,
-                       "counts": by_label.get(label, [0] * (len(edges) - 1)),
-                       "band": [math.log10(b) for b in band] if band else None})
-    return series
+    return [{"label": label, "family": info[label]["family"],
+             "median_mass": info[label]["median_mass"], "edges": edges[label],
+             "counts": by_label.get(label, [0] * BINS), "band": _band(info[label])}
+            for label in top if label in edges]
 
 
 def _mass_radius_curves(x_edges: list[float]) -> list[dict[str, Any]]:

@@ -135,7 +135,7 @@ def density_figure(aggs: dict[str, Any], label: str | None = None) -> Figure:
     if not diagram or not diagram["series"]:
         return _empty("Density", "No body has both a mass and a radius.")
     series = next((s for s in diagram["series"] if s["label"] == label), diagram["series"][0])
-    edges = diagram["edges"]
+    edges = series["edges"]
     flagged = [r for r in diagram["flagged"] if r.get("label") == series["label"]]
     data = [_bars(edges, series["counts"], series["label"])]
     data += flagged_traces(flagged, _on_bars(flagged, edges, series["counts"]))
@@ -264,8 +264,9 @@ def distribution_figure(aggs: dict[str, Any], field: str | None = None,
     series = [s for s in spec["series"] if label in (None, "", s["label"])]
     data = [_step(spec["edges"], s, i) for i, s in enumerate(series)]
     shown = {s["label"] for s in series}
-    artefacts = [a for a in aggs["distributions"]["artefacts"]
-                 if a["field"] == field and (a["label"] in shown or a["scope"] == "family")]
+    families = {lb["family"] for lb in aggs.get("labels", []) if lb["label"] in shown}
+    artefacts = [a for a in aggs["distributions"]["artefacts"] if a["field"] == field and
+                 a["label"] in (families if a["scope"] == "family" else shown)]
     top = max((max(s["counts"]) for s in series), default=1)
     shapes, marks = _artefact_marks(artefacts, spec["log"], top)
     unit = f" ({spec['unit']})" if spec.get("unit") not in (None, "", "1") else ""

@@ -12,9 +12,9 @@ from pathlib import Path
 from typing import Any
 
 import pytest
+from bodycensus.demo import write_demo
 from conftest import new_context
 from playwright.sync_api import Browser, Page, expect
-from web_support import write_catalogue
 
 HOSTILE_LABEL = "<img src=x onerror=alert(1)>"
 FIGURE_INFO = """() => {
@@ -37,12 +37,17 @@ FLAGGED_POINT = """() => {
 
 @pytest.fixture(scope="module")
 def catalogue_file(tmp_path_factory: pytest.TempPathFactory) -> Path:
-    """About 3,000 bodies with planted defects, plus two bodies whose label is HTML."""
-    path = write_catalogue(tmp_path_factory.mktemp("upload") / "sector.csv", n_planets=2900)
-    with path.open("a", newline="", encoding="utf-8") as handle:
+    """The demo catalogue (3,000 bodies, planted defects) plus two bodies whose type is HTML."""
+    path, _truth = write_demo(tmp_path_factory.mktemp("upload") / "sector.csv", n_bodies=3000)
+    with path.open("r+", newline="", encoding="utf-8") as handle:
+        header = next(csv.reader(handle))
+        handle.seek(0, 2)
         writer = csv.writer(handle)
         for i in range(2):
-            writer.writerow([f"odd-{i}", "Odd", HOSTILE_LABEL, "", 1.0, 6371.0, "", "", ""])
+            row = dict.fromkeys(header, "")
+            row.update({"id": f"odd-{i}", "type": HOSTILE_LABEL, "mass (earth_mass)": "1.0",
+                        "radius_km": "6371"})
+            writer.writerow([row[c] for c in header])
     return path
 
 
@@ -134,11 +139,12 @@ def test_findings_list_filters_and_links_bodies(page: Page, base_url: str, catal
 def test_saved_view_opens_the_same_state_in_a_new_browser(page: Page, browser: Browser,
                                                           base_url: str, catalogue: str,
                                                           screenshots: Path) -> None:
-    _figure(page, f"{base_url}/catalogues/{catalogue}/diagrams?diagram=distributions&field=radius"
-                  "&label=Icy+moon")
+    info = _figure(page, f"{base_url}/catalogues/{catalogue}/diagrams?diagram=distributions"
+                         "&field=radius&label=asteroid")
+    assert "cutoff" in info["shapes"]  # the demo's planted radius floor
     page.click("#save-view")
-    page.fill("#save-form input[name=title]", "Moon radii")
-    page.fill("#save-form textarea[name=note]", "All moons share one radius: a clamp?")
+    page.fill("#save-form input[name=title]", "Asteroid radii")
+    page.fill("#save-form textarea[name=note]", "A hard floor in radius: a clamp?")
     page.click("#save-submit")
     link = page.locator("#saved-url")
     expect(link).to_be_visible()
@@ -148,18 +154,18 @@ def test_saved_view_opens_the_same_state_in_a_new_browser(page: Page, browser: B
     try:
         other = fresh.new_page()
         other.goto(url)
-        expect(other.locator("#saved-title")).to_have_text("Moon radii")
-        expect(other.locator("#saved-note")).to_have_text("All moons share one radius: a clamp?")
+        expect(other.locator("#saved-title")).to_have_text("Asteroid radii")
+        expect(other.locator("#saved-note")).to_have_text("A hard floor in radius: a clamp?")
         other.wait_for_selector("#figure[data-drawn=true]", timeout=30_000)
         expect(other.locator("select[name=field]")).to_have_value("radius")
-        expect(other.locator("select[name=label]")).to_have_value("Icy moon")
+        expect(other.locator("select[name=label]")).to_have_value("asteroid")
         names = other.evaluate("() => document.getElementById('figure').data.map(t => t.name)")
-        assert names == ["Icy moon"]
+        assert names == ["asteroid"]
         other.screenshot(path=screenshots / "06-saved-view.png", full_page=True)
     finally:
         fresh.close()
     page.goto(f"{base_url}/catalogues/{catalogue}")
-    expect(page.locator("#saved-views")).to_contain_text("Moon radii")
+    expect(page.locator("#saved-views")).to_contain_text("Asteroid radii")
 
 
 def test_report_opens_with_no_server(page: Page, browser: Browser, base_url: str, catalogue: str,
