@@ -262,14 +262,20 @@ def test_heavier_than_parent(tmp_path: Path) -> None:
 
 
 def test_binary_barycentre(tmp_path: Path) -> None:
-    # Sun-Jupiter barycentre ~742,000 km from the Sun's centre, outside it (REFERENCES.md).
+    # Pluto-Charon: barycentre ~2,000 km from Pluto's centre, outside Pluto (REFERENCES.md; Charon
+    # 1.586e21 kg at 19,591 km from memory). Sun-Jupiter's (~742,000 km) is outside the Sun too,
+    # but q = 0.001 is a planet and host, below the binary mass ratio 0.01 (common practice).
+    pluto = {"id": "pluto", "label": "dwarf planet", "family": "rock_ice", "parent": "S",
+             "mass": 1.303e22, "radius": 1.1883e6, "semi_major_axis": 39.48 * AU,
+             "eccentricity": 0.2488}
+    charon = {"id": "charon", "label": "icy moon", "family": "rock_ice", "parent": "pluto",
+              "mass": 1.586e21, "radius": 6.06e5, "semi_major_axis": 1.9591e7, "eccentricity": 0.0}
     jupiter = {**_planet("J", 5.2, 0.0, 1.89819e27), "radius": 6.9911e7, "label": "gas giant",
                "family": "gas_giant"}
-    rows = [SUN_LIKE, EARTH_LIKE, jupiter]
-    result = run(rows, tmp_path)
-    assert fired(result, "binary-barycentre") == {"J": "note"}
+    result = run([SUN_LIKE, EARTH_LIKE, jupiter, pluto, charon], tmp_path)
+    assert fired(result, "binary-barycentre") == {"charon": "note"}
     offset = result.findings.filter(rule="binary-barycentre")["value"][0]
-    assert offset == pytest.approx(742_000e3, rel=2e-2)
+    assert offset == pytest.approx(2_000e3, rel=0.1)
 
 
 def test_tidal_lock_age(tmp_path: Path) -> None:

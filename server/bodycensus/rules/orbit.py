@@ -23,6 +23,9 @@ class OrbitSettings:
     gravity_bound_radius: float = 200e3  # m
     kepler_tolerance: float = 0.05  # fractional period mismatch before `kepler-mismatch` (common practice)
     lock_time_factor: float = 10.0  # tidal Q and rigidity are uncertain by ~10x (common practice)
+    # Pairs lighter than this mass ratio are planet and host, not a binary, even when their
+    # barycentre lies outside the host (Sun-Jupiter: q = 0.001); Pluto-Charon has q = 0.12.
+    binary_mass_ratio: float = 0.01  # common practice
 
 
 _A, _PERI, _APO = pl.col("_a"), pl.col("periapsis"), pl.col("apoapsis")
@@ -164,13 +167,15 @@ def _heavier_than_parent() -> Rule:
     )
 
 
-def _binary_barycentre() -> Rule:
+def _binary_barycentre(settings: OrbitSettings) -> Rule:
     offset = pl.col("barycentre_offset")
+    binary = pl.col("_mass") >= settings.binary_mass_ratio * pl.col("parent_mass")
     return Rule(
-        id="binary-barycentre", title="The pair's barycentre lies outside the parent",
+        id="binary-barycentre", title="A binary: the barycentre lies outside the parent",
         severity="note", source="two-body barycentre a m/(M+m) (Newtonian mechanics)",
         needs=("barycentre_offset", "parent_radius"), value=offset,
         limit=pl.col("parent_radius"), unit="m", scope="orbit",
+        fires=(offset > pl.col("parent_radius")) & binary,
         message=pl.format("barycentre is {} km from the parent's centre, outside its radius {} km",
                           _km(offset), _km(pl.col("parent_radius"))),
     )
@@ -196,6 +201,6 @@ def orbit_rules(settings: OrbitSettings = OrbitSettings()) -> tuple[Rule, ...]:
     return (
         _periapsis_inside_parent(), _inside_rigid_roche(settings), _inside_fluid_roche(),
         _roche_lobe_overflow(), *_hill_rules(), _kepler_mismatch(settings), *_sibling_rules(),
-        _heavier_than_parent(), _binary_barycentre(), _tidal_lock_age(settings),
+        _heavier_than_parent(), _binary_barycentre(settings), _tidal_lock_age(settings),
     )
 
