@@ -69,6 +69,8 @@ def _derive(frame: pl.DataFrame) -> pl.DataFrame:
                                        pl.col("density")),
         hill_radius=orbits.hill_radius(pl.col("semi_major_axis"), pl.col("eccentricity"),
                                        pl.col("mass"), pl.col("parent_mass")),
+        _band_low=pl.lit(1.0),  # a work column of the engine, as the real one writes
+        colour=pl.lit("grey"),  # a column of the file that maps to no field
     )
 
 

@@ -26,7 +26,8 @@ def _publish(store: Store) -> str:
     store.open_upload(Manifest(id=cat_id, name="Test sector", status="ingesting", created=now()))
     work = write_engine_output(store.workdir(cat_id))
     write_json_atomic(work / "aggregates.json", compute_aggregates(work))
-    store.publish(cat_id, rows=107, summary={"bad_cells": {"mass": 2}, "unmapped_labels": []})
+    store.publish(cat_id, rows=107, summary={"bad_cells": {"mass": 2}, "unmapped_labels": []},
+                  mapping={"unknown_columns": ["colour"]})
     return cat_id
 
 
@@ -134,6 +135,7 @@ def test_body_page_shows_fields_findings_and_system(site: tuple[SyncClient, str]
     names = {t["name"] for t in linear["data"]}
     assert {"rigid Roche zone", "fluid Roche zone", "its Hill sphere"} <= names
     assert 'id="system-data-log"' in page
+    assert "<code>colour</code>" in page and "_band_low" not in page  # file columns only
     assert f"/api/catalogues/{site[1]}/bodies/moon-0" in _hrefs(page)
 
 

@@ -122,7 +122,14 @@ def _relatives(system: dict[str, Any]) -> list[dict[str, Any]]:
     return rows
 
 
-def body_extras(detail: dict[str, Any]) -> dict[str, Any]:
+def file_columns(detail: dict[str, Any], mapping: dict[str, Any] | None) -> dict[str, Any]:
+    """The body's values in the file's own unmapped columns (not the engine's work columns)."""
+    unknown = set((mapping or {}).get("unknown_columns") or
+                  ((mapping or {}).get("mapping") or {}).get("unknown_columns") or [])
+    return {k: v for k, v in (detail.get("extra") or {}).items() if k in unknown}
+
+
+def body_extras(detail: dict[str, Any], mapping: dict[str, Any] | None) -> dict[str, Any]:
     """Body screen extras: name, label, worst severity, derived rows, relatives, drawings."""
     fields = {f["field"]: f["value"] for f in detail["fields"]}
     figures, default, caption = system_figures(detail)
@@ -132,7 +139,7 @@ def body_extras(detail: dict[str, Any]) -> dict[str, Any]:
         "worst": detail["findings"][0]["severity"] if detail["findings"] else None,
         "derived": [{"name": k, "value": v, "unit": DERIVED_UNITS.get(k, "")}
                     for k, v in detail["derived"].items()],
-        "relatives": _relatives(system),
+        "relatives": _relatives(system), "file_columns": file_columns(detail, mapping),
         "relatives_capped": any(len(system.get(k) or []) >= MAX_RELATIVES
                                 for k in ("siblings", "children")),
         "system_figures": figures, "system_default": default, "system_caption": caption,

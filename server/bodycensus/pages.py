@@ -170,7 +170,7 @@ def body_context(store: Store, cat_id: str, body_id: str) -> dict[str, Any]:
     return {"screen": "body", "catalogue": manifest.to_json(), "body": detail,
             "query": state.to_query(), "default_query": state.to_query(),
             "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/bodies/"
-                        f"{quote(body_id, safe='')}", **body_extras(detail)}
+                        f"{quote(body_id, safe='')}", **body_extras(detail, manifest.mapping)}
 
 
 @router.get("/catalogues/{catalogue_id}/bodies/{body_id:path}", response_class=HTMLResponse)
