@@ -62,9 +62,9 @@ def _si(cat: pl.DataFrame) -> dict[str, np.ndarray]:
     return out
 
 
-@pytest.fixture(scope="session")
-def demo() -> Demo:
-    catalogue, truth = generate_demo(N, seed=7)
+@pytest.fixture(scope="session", params=[7, 2024])
+def demo(request: pytest.FixtureRequest) -> Demo:
+    catalogue, truth = generate_demo(N, seed=request.param)
     ids = catalogue["id"].to_list()
     row = {v: i for i, v in reversed(list(enumerate(ids)))}
     parent = np.array([row.get(p, -1) if p else -1 for p in catalogue["orbits"].to_list()])
@@ -388,3 +388,13 @@ def test_artefacts_are_where_the_truth_says(demo: Demo) -> None:
     held = np.isclose(mass, spike["at"], rtol=1e-9)
     assert 0.025 < held.mean() < 0.06
     assert np.unique(mass[~held], return_counts=True)[1].max() <= 3
+
+
+def test_clean_companion_stars_fit_their_roche_lobes(demo: Demo) -> None:
+    s, star = demo.si, np.isin(demo.si["family"], ["star", "brown_dwarf", "white_dwarf"])
+    rows = np.flatnonzero(_orbiting(demo) & star)
+    assert len(rows) > 100
+    # Eggleton 1983: r_L / a = 0.49 q^(2/3) / (0.6 q^(2/3) + ln(1 + q^(1/3))), at periapsis.
+    lobe = orbits.roche_lobe_radius(orbits.periapsis(s["a"][rows], s["e"][rows]),
+                                    s["mass"][rows] / s["mass"][demo.parent[rows]])
+    assert np.all(s["radius"][rows] < 0.5 * lobe)

@@ -67,13 +67,14 @@ def _misses(a: np.ndarray, e: np.ndarray, edge: np.ndarray, first: np.ndarray) -
 
 def place(rng: np.random.Generator, group: np.ndarray, mass: np.ndarray, density: np.ndarray,
           parent: dict[str, np.ndarray], first_gap: np.ndarray, slack: np.ndarray,
-          e_cap: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+          e_cap: np.ndarray, min_edge: np.ndarray | float = 0.0) -> tuple[np.ndarray, np.ndarray]:
     """Semi-major axes (m) and eccentricities of siblings sorted by ``group``, innermost first.
 
-    ``parent`` holds per-body ``mass``, ``radius`` and ``density`` of the parent.
+    ``parent`` holds per-body ``mass``, ``radius`` and ``density`` of the parent; ``min_edge``
+    is a length the edge never falls below (so tiny remnants do not pull companions in).
     """
     first, start = group_starts(group)
-    own_edge = np.maximum(parent["radius"],
+    own_edge = np.maximum(np.maximum(parent["radius"], min_edge),
                           orbits.roche_fluid(parent["radius"], parent["density"], density))
     edge = np.maximum.reduceat(own_edge, np.flatnonzero(first))[np.cumsum(first) - 1] \
         if len(group) else own_edge
@@ -91,15 +92,16 @@ def place(rng: np.random.Generator, group: np.ndarray, mass: np.ndarray, density
     return a, e
 
 
-def edge_factor(rng: np.random.Generator, mu: float, sigma: float, n: int) -> np.ndarray:
+def edge_factor(rng: np.random.Generator, mu: float, sigma: float, n: int,
+                floor: float = 0.15) -> np.ndarray:
     """X for placing the innermost sibling at edge x (1 + X): ln(1 + X) is normal (mu, sigma),
-    redrawn in the rare case (> 4 sigma) that it falls below 0.15, so the periapsis-to-edge
-    ratio has a smooth log-normal tail and never touches the edge."""
+    redrawn in the rare case (callers keep it > 3.5 sigma) that it falls below ``floor``, so the
+    periapsis-to-edge ratio has a smooth log-normal tail and never touches the edge."""
     def draw(m: int) -> np.ndarray:
         return mu + sigma * rng.standard_normal(m)
 
     y = draw(n)
-    while (low := y < 0.15).any():
+    while (low := y < floor).any():
         y[low] = draw(int(low.sum()))
     return np.expm1(y)
 

@@ -28,7 +28,7 @@ from bodycensus.demo_kinds import (
 from bodycensus.demo_orbits import edge_factor, group_starts, noisy_period, place
 from bodycensus.demo_stars import age_seconds, redraw, systems
 from bodycensus.physics import bodies, orbits
-from bodycensus.units import AU, HOUR, L_SUN, M_EARTH
+from bodycensus.units import AU, HOUR, L_SUN, M_EARTH, M_SUN
 
 Table = dict[str, np.ndarray]
 
@@ -37,6 +37,7 @@ GAP_SPIN = (14.5 * HOUR, 17.5 * HOUR)  # s; the generator re-rolls ice-giant spi
 SPIKE_MASS = 1.75 * M_EARTH  # kg; the default mass a share of ocean worlds is given
 SPIKE_SHARE = 0.04
 AGE_SCATTER = 0.1  # per-body scatter of catalogued ages about their system's age
+STAR_PAIR_SCALE = 0.01 * AU  # edge scale for star pairs, x (M / M_sun)^(1/3): a sun's Roche reach
 PLANETS_PER_STAR = 4.5  # Poisson mean, main-sequence hosts only
 EQUILIBRIUM_T_1AU = 278.6  # K; zero-albedo equilibrium temperature at 1 au from the Sun (memory)
 HOT = PLANET_CODE0 + [k.label for k in PLANET_KINDS].index("hot gas giant")
@@ -94,13 +95,16 @@ def _star_orbiters(rng: np.random.Generator, sysd: Table) -> Table:
     t = {k: v[order] for k, v in t.items()}
     star = t["code"] < PLANET_CODE0
     n = len(star)
-    first_gap = np.where(star, edge_factor(rng, 3.4, 0.5, n),
+    # A companion star alone with its primary sits anywhere from tenths of an au to tens of au
+    # (the floor keeps it well inside its Roche lobe); one beyond planets, a few times farther.
+    first_gap = np.where(star, edge_factor(rng, 4.7, 1.1, n, floor=1.0),
                          np.where(t["code"] == HOT, edge_factor(rng, 1.25, 0.25, n),
                                   edge_factor(rng, 2.8, 0.5, n)))
-    slack = np.where(star, lognormal(rng, 5.0, 0.4, n), lognormal(rng, 0.25, 0.5, n))
+    slack = np.where(star, lognormal(rng, 3.0, 0.8, n), lognormal(rng, 0.25, 0.5, n))
     parent = _parent_of(sysd, t["sys"])
+    stellar_scale = np.where(star, STAR_PAIR_SCALE * (parent["mass"] / M_SUN) ** (1 / 3), 0.0)
     t["a"], t["e"] = place(rng, t["sys"], t["mass"], bodies.bulk_density(t["mass"], t["radius"]),
-                           parent, first_gap, slack, np.where(star, 0.15, 0.06))
+                           parent, first_gap, slack, np.where(star, 0.15, 0.06), stellar_scale)
     t["parent_mass"] = parent["mass"]
     return t
 
@@ -188,7 +192,7 @@ def _spin(rng: np.random.Generator, t: Table) -> tuple[np.ndarray, np.ndarray]:
     ice = t["code"] == CODE["ice giant"]
     while True:
         spin = free ** (1.0 - w) * period**w
-        bad = ice & (spin >= GAP_SPIN[0]) & (spin <= GAP_SPIN[1])
+        bad = ice & (spin >= GAP_SPIN[0] * 0.9999) & (spin <= GAP_SPIN[1] * 1.0001)  # rounding
         if not bad.any():
             return np.where(w >= 1.0, t["period"], spin), w >= 1.0
         free[bad] = _free_spin(rng, t["code"][bad])
