@@ -133,3 +133,11 @@ def test_figures_of_the_aggregates_file_shape(tmp_path: Path, aggs: dict[str, An
     path.write_text(json.dumps(aggs))
     again = json.loads(path.read_text())
     assert plots.roche_figure(again) == plots.roche_figure(aggs)
+
+
+def test_one_label_distribution_zooms_to_its_values(aggs: dict[str, Any]) -> None:
+    spec = aggs["distributions"]["fields"]["mass"]
+    fig = plots.distribution_figure(aggs, "mass", "Icy moon")
+    low, high = fig["layout"]["xaxis"]["range"]
+    assert low < math.log10(1e21) < high
+    assert high - low < (spec["edges"][-1] - spec["edges"][0]) / 2  # moons only, not every label

@@ -272,9 +272,28 @@ def distribution_figure(aggs: dict[str, Any], field: str | None = None,
     unit = f" ({spec['unit']})" if spec.get("unit") not in (None, "", "1") else ""
     layout = _layout(f"Distribution of {field}" + (f" for {text(label)}" if label else ""),
                      f"{field}{unit}", "bodies", shapes=shapes)
+    low, high = _occupied(spec["edges"], series, artefacts, spec["log"])
+    layout["xaxis"]["range"] = [low, high]
     if spec["log"]:
-        layout["xaxis"].update(log_ticks(spec["edges"][0], spec["edges"][-1]))
+        layout["xaxis"].update(log_ticks(low, high))
     return {"data": data + marks, "layout": layout}
+
+
+def _occupied(edges: list[float], series: list[dict[str, Any]], artefacts: list[dict[str, Any]],
+              log: bool) -> tuple[float, float]:
+    """The x range holding the shown labels' values and their artefacts, with a bin of margin."""
+    used = [i for s in series for i, n in enumerate(s["counts"]) if n]
+    if not used:
+        return edges[0], edges[-1]
+    width = edges[1] - edges[0]
+    low, high = edges[min(used)] - width, edges[max(used) + 1] + width
+    for a in artefacts:
+        for key in ("at", "low", "high"):
+            value = a.get(key)
+            if value is not None and (value > 0 or not log):
+                x = math.log10(value) if log else value
+                low, high = min(low, x - width), max(high, x + width)
+    return low, high
 
 
 def _step(edges: list[float], series: dict[str, Any], i: int) -> dict[str, Any]:
