@@ -189,3 +189,27 @@ def test_report_opens_with_no_server(page: Page, browser: Browser, base_url: str
         report.screenshot(path=screenshots / "07-report.png")
     finally:
         offline.close()
+
+
+def test_mapping_step_corrects_fields_and_units(page: Page, base_url: str, tmp_path: Path,
+                                               screenshots: Path) -> None:
+    source = tmp_path / "no-units.csv"
+    source.write_text("id,kind,m,r\na,Frozen moon,0.01,1500\nb,Rocky world,1.0,6371\n"
+                      "c,Rocky world,2.0,7900\n", encoding="utf-8")
+    page.goto(f"{base_url}/")
+    page.set_input_files("#file-input", str(source))
+    expect(page.locator("#mapping-form")).to_be_visible(timeout=30_000)
+    expect(page.locator("tr[data-column=m] .samples")).to_contain_text("0.01")
+    page.select_option("tr[data-column=m] select[name=field]", "mass")
+    page.select_option("tr[data-column=m] select[name=unit]", "earth_mass")
+    page.select_option("tr[data-column=r] select[name=field]", "radius")
+    page.select_option("tr[data-column=r] select[name=unit]", "km")
+    page.select_option("tr[data-label='Frozen moon'] select[name=family]", "ice")
+    page.screenshot(path=screenshots / "08-mapping.png", full_page=True)
+    page.click("#mapping-form button[type=submit]")
+    expect(page.locator("#by-severity")).to_be_visible(timeout=60_000)
+    expect(page.locator("#by-family")).to_contain_text("ice")
+    cat_id = page.url.rstrip("/").rsplit("/", 1)[1]
+    body = page.request.get(f"{base_url}/api/catalogues/{cat_id}/bodies/b").json()
+    radius = next(f for f in body["fields"] if f["field"] == "radius")
+    assert radius["value"] == pytest.approx(6.371e6)  # km converted to m
