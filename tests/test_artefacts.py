@@ -90,6 +90,20 @@ def test_gap_found_with_its_interval() -> None:
     assert artefact_members(table, row).is_empty()
 
 
+def test_few_far_outliers_make_no_gap() -> None:
+    """A handful of bodies far from the bulk are outliers, not a band the generator skipped."""
+    sample = _lognormal(11)
+    sample[:4] *= 1000.0  # four radii read in metres where km were meant
+    assert detect_artefacts(_frame(sample), ["radius"]).filter(kind="gap").is_empty()
+
+
+def test_tiny_or_constant_groups_do_not_crash() -> None:
+    """Fewer bins than a gap's context once crashed the gap scan (regression)."""
+    table = pl.DataFrame({"label": ["x"] * 202, "family": ["rock"] * 202,
+                          "eccentricity": [0.02] * 200 + [0.01] * 2})
+    assert detect_artefacts(table.lazy(), ["eccentricity"]).filter(kind="gap").is_empty()
+
+
 def test_clamp_spike_found_and_its_members_listed() -> None:
     """3% of values clamped to the largest allowed value: exact-value count against its
     neighbours, conditional binomial test (Przyborowski & Wilenski 1940), BH 1995."""

@@ -50,6 +50,9 @@ class ArtefactConfig:
     min_excess: float = 10.0  # spike: at least this many bodies above the neighbours' count
     spike_ratio: float = 3.0  # spike: and at least this many times the neighbours' count
     tail_bins: int = 5  # bins of context on each side of a gap
+    # A gap needs this share of the group on each side: a few outliers far from the bulk are
+    # outliers (label-outlier's job), not a band the generator skipped.
+    min_side_share: float = 0.02
     beyond_bins: int = 2  # bins past an edge over which a smooth tail is extrapolated
     max_bins: int = 2048  # the grid never has more bins than this
     max_levels: int = 64  # a lattice field spanning at most this many points is discrete
@@ -261,6 +264,11 @@ def _gaps(s: np.ndarray, grid: Grid, counts: np.ndarray, unit: str,
     left = np.searchsorted(t_edges, to_t(low), side="right") - 1
     right = np.searchsorted(t_edges, to_t(high), side="right")
     inside = (left >= k) & (right + k <= len(counts))  # not within k bins of an end
+    if len(counts) < 2 * k + 1 or not inside.any():
+        return []
+    below = wide + 1  # values at or below the gap's lower end
+    side = np.minimum(below, len(s) - below)
+    inside &= side >= max(config.min_side_share * len(s), config.min_expected)
     cum = np.r_[0.0, np.cumsum(counts)]
     left, right = np.clip(left, k, None), np.clip(right, None, len(counts) - k)
     left_n, right_n = cum[left] - cum[left - k], cum[right + k] - cum[right]

@@ -13,13 +13,14 @@ from pathlib import Path
 
 from bodycensus import __version__
 from bodycensus.cli_check import add_check_parser, run_check
+from bodycensus.errors import BodycensusError
 from bodycensus.families import FamilyMappingError
 from bodycensus.ingest import IngestError
 from bodycensus.schema import SchemaError
 from bodycensus.units import UnknownUnitError
 
 BAD_INPUT = 2
-_INPUT_ERRORS = (IngestError, SchemaError, UnknownUnitError, FamilyMappingError,
+_INPUT_ERRORS = (IngestError, SchemaError, UnknownUnitError, FamilyMappingError, BodycensusError,
                  FileNotFoundError, IsADirectoryError, PermissionError)
 
 
@@ -45,6 +46,9 @@ def _add_demo(commands: argparse._SubParsersAction) -> None:
     demo.add_argument("--seed", type=int, default=7, help="random seed (default 7)")
     demo.add_argument("--out", type=Path, required=True,
                       help="output file; .csv, .csv.gz, .parquet or .ndjson")
+    demo.add_argument("--score", action="store_true",
+                      help="then check it and print recall per planted defect and the rate of "
+                           "clean bodies called impossible")
 
 
 def _add_bench(commands: argparse._SubParsersAction) -> None:
@@ -87,7 +91,26 @@ def _demo(args: argparse.Namespace) -> int:
 
     catalogue, truth = write_demo(args.out, n_bodies=args.bodies, seed=args.seed)
     print(f"wrote {catalogue} and {truth}")
+    if args.score:
+        print(score_demo(catalogue, truth), end="")
     return 0
+
+
+def score_demo(catalogue: Path, truth: Path) -> str:
+    """Check a demo catalogue and score it against its truth file."""
+    import tempfile
+
+    import polars as pl
+
+    from bodycensus.engines.local import check_file
+    from bodycensus.scoring import score, score_text
+
+    with tempfile.TemporaryDirectory(prefix="bodycensus-score-") as workdir:
+        result = check_file(catalogue, Path(workdir))
+        ids = pl.scan_parquet(result.bodies).select("id").collect()["id"]
+        truth_table = pl.read_csv(truth, infer_schema_length=0).with_columns(
+            pl.col("at").cast(pl.Float64, strict=False))
+        return score_text(score(result.findings, result.artefacts, truth_table, ids))
 
 
 def _bench(args: argparse.Namespace) -> int:

@@ -68,9 +68,8 @@ class _ProgressPrinter:
     def __init__(self, stream: TextIO) -> None:
         self.stream, self.started, self.rows = stream, time.monotonic(), 0
 
-    def __call__(self, stage: str, value: float) -> None:
-        if stage == "read" and value > 1:
-            self.rows = int(value)
+    def __call__(self, stage: str, fraction: float, rows: int | None = None) -> None:
+        self.rows = rows if rows is not None else self.rows
         elapsed = time.monotonic() - self.started
         print(f"bodycensus check: {stage:<9} rows {self.rows:>12,}  {elapsed:7.1f} s",
               file=self.stream, flush=True)

@@ -70,7 +70,7 @@ class _Progress:
         self.store, self.cat_id = store, cat_id
         self.last = (None, -1.0, 0.0)
 
-    def __call__(self, stage: str, fraction: float) -> None:
+    def __call__(self, stage: str, fraction: float, rows: int | None = None) -> None:
         start, end = STAGES.get(stage, (0.0, 1.0))
         within = min(max(float(fraction), 0.0), 1.0) if math.isfinite(fraction) else 0.0
         overall = start + (end - start) * within

@@ -8,10 +8,10 @@ from __future__ import annotations
 
 import os
 import time
-from collections.abc import Callable, Mapping
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import Any, Protocol
 
 import polars as pl
 
@@ -25,7 +25,10 @@ from bodycensus.rules.context import derive
 from bodycensus.rules.graph import cycle_members
 from bodycensus.rules.orbit import OrbitSettings
 
-Progress = Callable[[str, float], None]
+class Progress(Protocol):
+    """Told each stage's start (fraction 0) and end (1), with the row count once it is known."""
+
+    def __call__(self, stage: str, fraction: float, rows: int | None = None) -> None: ...
 
 # Fields the artefact detector scans: raw measurements and the derived ones a generator shapes.
 ARTEFACT_FIELDS: tuple[str, ...] = (
@@ -65,7 +68,7 @@ class CheckResult:
         return min(SEVERITY_RANK[s] for s in self.findings["severity"].unique())
 
 
-def _noop(stage: str, fraction: float) -> None:
+def _noop(stage: str, fraction: float, rows: int | None = None) -> None:
     """Progress sink used when the caller does not watch."""
 
 
@@ -128,10 +131,10 @@ def check_file(source: Path, workdir: Path, options: CheckOptions = CheckOptions
     workdir.mkdir(parents=True, exist_ok=True)
     normalised = workdir / "normalised.parquet"
     started = time.monotonic()
+    progress("read", 0.0)
     report = ingest(source, normalised, map_overrides=dict(options.map_overrides),
-                    unit_overrides=dict(options.unit_overrides), limits=options.limits,
-                    progress=lambda stage, rows: progress("read", float(rows)))
-    progress("read", 1.0)
+                    unit_overrides=dict(options.unit_overrides), limits=options.limits)
+    progress("read", 1.0, rows=report.rows)
     result = check_table(pl.scan_parquet(normalised), workdir, options, progress, report)
     normalised.unlink(missing_ok=True)
     result.summary["seconds"] = round(time.monotonic() - started, 3)

@@ -31,6 +31,7 @@ class OrbitSettings:
 _A, _PERI, _APO = pl.col("_a"), pl.col("periapsis"), pl.col("apoapsis")
 _NOT_STELLAR = frozenset({"iron", "rock", "rock_ice", "ice", "ocean", "minor", "gas_giant",
                           "ice_giant", "brown_dwarf", "unknown"})
+_SELF_LUMINOUS = STELLAR_FAMILIES | {"brown_dwarf"}  # pairs whose mass transfer Eggleton describes
 _ROCHE_SOURCE = "Roche 1849 (fluid, 2.44); Shu 1982 The Physical Universe (rigid, 1.26)"
 
 
@@ -87,8 +88,8 @@ def _roche_lobe_overflow() -> Rule:
         severity="unstable", source="Eggleton 1983, ApJ 268, 368 (Roche-lobe radius)",
         needs=("periapsis", "_mass", "parent_mass", "_radius", "parent_radius"), value=fill,
         limit=pl.lit(1.0), unit="lobe fill", scope="orbit",
-        families=STELLAR_FAMILIES | {"brown_dwarf"},
-        fires=(fill > 1.0) & pl.col("parent_family").is_in(sorted(STELLAR_FAMILIES)),
+        families=_SELF_LUMINOUS,
+        fires=(fill > 1.0) & pl.col("parent_family").is_in(sorted(_SELF_LUMINOUS)),
         message=pl.format("at periapsis the {} fills {}x its Roche lobe",
                           pl.when(own >= primary).then(pl.lit("body")).otherwise(
                               pl.lit("primary")), fmt(fill)),
