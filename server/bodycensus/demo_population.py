@@ -33,7 +33,7 @@ from bodycensus.units import AU, HOUR, L_SUN, M_EARTH, M_SUN
 Table = dict[str, np.ndarray]
 
 CUTOFF_RADIUS = 6e3  # m; the generator re-rolls every asteroid smaller than this
-GAP_SPIN = (14.5 * HOUR, 17.5 * HOUR)  # s; the generator re-rolls ice-giant spins in this band
+GAP_SPIN = (13.0 * HOUR, 20.0 * HOUR)  # s; the generator re-rolls ice-giant spins in this band
 SPIKE_MASS = 1.75 * M_EARTH  # kg; the default mass a share of ocean worlds is given
 SPIKE_SHARE = 0.04
 AGE_SCATTER = 0.1  # per-body scatter of catalogued ages about their system's age
@@ -98,8 +98,8 @@ def _star_orbiters(rng: np.random.Generator, sysd: Table) -> Table:
     # A companion star alone with its primary sits anywhere from tenths of an au to tens of au
     # (the floor keeps it well inside its Roche lobe); one beyond planets, a few times farther.
     first_gap = np.where(star, edge_factor(rng, 4.7, 1.1, n, floor=1.0),
-                         np.where(t["code"] == HOT, edge_factor(rng, 1.25, 0.25, n),
-                                  edge_factor(rng, 2.8, 0.5, n)))
+                         np.where(t["code"] == HOT, edge_factor(rng, 1.5, 0.4, n),
+                                  edge_factor(rng, 2.6, 0.65, n)))
     slack = np.where(star, lognormal(rng, 3.0, 0.8, n), lognormal(rng, 0.25, 0.5, n))
     parent = _parent_of(sysd, t["sys"])
     stellar_scale = np.where(star, STAR_PAIR_SCALE * (parent["mass"] / M_SUN) ** (1 / 3), 0.0)
@@ -144,7 +144,7 @@ def _moons(rng: np.random.Generator, orb: Table) -> Table:
     n = len(host)
     parent = _parent_of(orb, host)
     a, e = place(rng, host, mass, bodies.bulk_density(mass, radius), parent,
-                 edge_factor(rng, 1.5, 0.3, n), lognormal(rng, 0.3, 0.5, n), np.full(n, 0.03))
+                 edge_factor(rng, 1.7, 0.4, n), lognormal(rng, 0.3, 0.5, n), np.full(n, 0.03))
     keep = orbits.apoapsis(a, e) < limit[host]
     t = {"host": host, "code": MOON_CODE0 + icy.astype(int), "mass": mass, "radius": radius,
          "a": a, "e": e, "parent_mass": parent["mass"]}
