@@ -10,8 +10,10 @@ from pathlib import Path
 
 import pytest
 
+from bodycensus.engines.local import CheckOptions, check_file
 from bodycensus.families import FAMILIES
 from bodycensus.physics import bodies, orbits
+from bodycensus.physics.orbits import kepler_period
 from bodycensus.rules import RULE_IDS, all_rules
 from bodycensus.rules.base import SEVERITIES
 from bodycensus.units import AU, M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
@@ -297,3 +299,27 @@ def test_label_outlier(tmp_path: Path) -> None:
     rows[-1] = {**rows[-1], "radius": rows[-1]["radius"] * 1.15}
     result = run(rows, tmp_path)
     assert set(fired(result, "label-outlier")) == {"p59"}
+
+
+def test_every_fired_finding_is_past_its_limit(tmp_path: Path) -> None:
+    # Invariant over the bundled demo catalogue: a rule that fires "above" reports a value above
+    # its limit (and "below" below). It once failed when a window statistic was recomputed over
+    # the flagged rows only.
+    sample = next(p for p in Path(__file__).parents[1].joinpath("sample_data").glob("*.csv")
+                  if ".truth." not in p.name)
+    findings = check_file(sample, tmp_path, CheckOptions(artefacts=False)).findings
+    directions = {rule.id: rule.direction for rule in all_rules()}
+    for row in findings.iter_rows(named=True):
+        direction = directions[row["rule"]]
+        if direction == "above" and row["limit"] is not None:
+            assert row["value"] > row["limit"], row
+        if direction == "below" and row["limit"] is not None:
+            assert row["value"] < row["limit"], row
+
+
+def test_unit_slip_does_not_cascade_into_roche_rules(tmp_path: Path) -> None:
+    # A radius 1000x too large makes density 1e9x too small; Roche limits built on it are noise.
+    rows = [SUN_LIKE, {**EARTH_LIKE, "radius": 6.371e9, "semi_major_axis": 0.5 * AU,
+                       "period": kepler_period(0.5 * AU, M_SUN, M_EARTH)}]
+    result = run(rows, tmp_path)
+    assert set(result.findings["rule"]) == {"unit-slip"}

@@ -46,7 +46,7 @@ DERIVED_UNITS: dict[str, str] = {
     "parent_density": "kg/m3", "parent_family": "", "roche_rigid": "m", "roche_fluid": "m",
     "hill_radius": "m", "parent_hill_radius": "m", "stable_hill_limit": "m",
     "kepler_period": "s", "period_ratio": "1", "barycentre_offset": "m",
-    "tidal_lock_time": "s", "roche_x": "1", "roche_y": "1", "hill_ratio": "1",
+    "tidal_lock_time": "yr", "roche_x": "1", "roche_y": "1", "hill_ratio": "1",
 }
 
 

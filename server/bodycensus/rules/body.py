@@ -8,7 +8,7 @@ import polars as pl
 
 from bodycensus.families import FAMILIES, PLANETARY_FAMILIES
 from bodycensus.physics import bodies
-from bodycensus.rules.bands import band_high, band_low, unit_slip_hint
+from bodycensus.rules.bands import band_high, band_low
 from bodycensus.rules.base import Rule, fmt
 from bodycensus.units import M_JUPITER, M_SUN
 
@@ -43,7 +43,7 @@ def _family_density() -> Rule:
         limit=pl.when(_DENSITY < low).then(low).otherwise(high), unit="kg/m3",
         direction="none",
         fires=outside & (~pl.col("family").is_in(sorted(PLANETARY_FAMILIES)) | not_iron)
-        & unit_slip_hint(_DENSITY).is_null(),
+        & pl.col("_slip_hint").is_null(),
         families=frozenset(FAMILIES),
         message=pl.format("density {} kg/m3 is outside the {} band {}-{} kg/m3 at this mass",
                           fmt(_DENSITY), pl.col("family"), fmt(low), fmt(high)),

@@ -11,14 +11,14 @@ import polars as pl
 
 from bodycensus.families import FAMILY_PARAMETERS
 from bodycensus.physics import bodies, orbits
-from bodycensus.rules.bands import band_columns
+from bodycensus.rules.bands import band_columns, unit_slip_hint
 from bodycensus.units import YEAR
 
 _PARENT_COLUMNS = {
     "id": "parent",
     "mass": "parent_mass",
     "radius": "parent_radius",
-    "density": "parent_density",
+    "_trusted_density": "parent_density",
     "family": "parent_family",
     "semi_major_axis": "parent_semi_major_axis",
     "eccentricity": "parent_eccentricity",
@@ -89,14 +89,15 @@ def _orbit_columns(table: pl.LazyFrame) -> pl.LazyFrame:
     """Roche limits, Hill spheres, Kepler periods and the rest, for bodies with a parent."""
     rigidity, quality = _tidal_parameters()
     a, e, mass, radius = pl.col("_a"), pl.col("_e"), pl.col("_mass"), pl.col("_radius")
+    density = pl.col("_trusted_density")
     parent_mass, parent_radius = pl.col("parent_mass"), pl.col("parent_radius")
     parent_hill = orbits.hill_radius(pl.col("parent_semi_major_axis"),
                                      pl.col("parent_eccentricity"), parent_mass,
                                      pl.col("grandparent_mass"))
     kepler = orbits.kepler_period(a, parent_mass, mass.fill_null(0.0))
     return table.with_columns(
-        roche_rigid=orbits.roche_rigid(parent_radius, pl.col("parent_density"), pl.col("density")),
-        roche_fluid=orbits.roche_fluid(parent_radius, pl.col("parent_density"), pl.col("density")),
+        roche_rigid=orbits.roche_rigid(parent_radius, pl.col("parent_density"), density),
+        roche_fluid=orbits.roche_fluid(parent_radius, pl.col("parent_density"), density),
         hill_radius=orbits.hill_radius(a, e, mass, parent_mass),
         parent_hill_radius=parent_hill,
         stable_hill_limit=orbits.stable_hill_fraction(pl.col("parent_eccentricity"), e) * parent_hill,
@@ -105,7 +106,7 @@ def _orbit_columns(table: pl.LazyFrame) -> pl.LazyFrame:
         barycentre_offset=orbits.barycentre_offset(a, parent_mass, mass),
         tidal_lock_time=orbits.tidal_lock_time(a, mass, radius, parent_mass, rigidity, quality)
         / YEAR,
-        roche_x=(pl.col("parent_density") / pl.col("density")) ** (1.0 / 3.0),
+        roche_x=(pl.col("parent_density") / density) ** (1.0 / 3.0),
         roche_y=pl.col("periapsis") / parent_radius,
         hill_ratio=pl.col("apoapsis") / parent_hill,
     )
@@ -116,6 +117,33 @@ def _sibling_columns(table: pl.LazyFrame) -> pl.LazyFrame:
     inner = {"id": "inner_id", "_a": "inner_a", "_mass": "inner_mass", "apoapsis": "inner_apoapsis"}
     return table.with_columns(
         pl.col(src).shift(1).over("parent", order_by="_a").alias(dst) for src, dst in inner.items()
+    )
+
+
+def _trusted(table: pl.LazyFrame) -> pl.LazyFrame:
+    """Flag a density that looks like a unit slip; orbit physics must not build on it."""
+    table = table.with_columns(unit_slip_hint(pl.col("density")).alias("_slip_hint"))
+    return table.with_columns(
+        pl.when(pl.col("_slip_hint").is_null()).then(pl.col("density")).alias("_trusted_density"))
+
+
+MAD_TO_SIGMA = 0.6745  # the MAD of a normal distribution is 0.6745 sigma (Iglewicz & Hoaglin 1993)
+OUTLIER_SCORES = {"_z_density": "density", "_z_mass": "_mass", "_z_radius": "_radius"}
+
+
+def _robust_z(column: str) -> pl.Expr:
+    """|0.6745 (x - median) / MAD| of log10(column) within the body's label."""
+    x = pl.col(column).log10()
+    median = x.median().over("label")
+    mad = (x - median).abs().median().over("label")
+    return (MAD_TO_SIGMA * (x - median) / mad).abs()
+
+
+def _label_statistics(table: pl.LazyFrame) -> pl.LazyFrame:
+    """Robust z-scores within each label, computed over the whole table before any filter."""
+    return table.with_columns(
+        *[_robust_z(column).alias(score) for score, column in OUTLIER_SCORES.items()],
+        pl.len().over("label").alias("_label_size"),
     )
 
 
@@ -130,7 +158,7 @@ def derive(table: pl.LazyFrame, cycle_ids: pl.Series | None = None) -> pl.LazyFr
         pl.col("id").count().over("id").alias("_id_count"),
         pl.col("id").is_in(_ids(cycle_ids)).alias("_in_cycle"),
     )
-    with_body = _body_columns(table).with_columns(band_columns())
+    with_body = _label_statistics(_trusted(_body_columns(table).with_columns(band_columns())))
     return _sibling_columns(_orbit_columns(_with_parent(with_body)))
 
 

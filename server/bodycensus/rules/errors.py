@@ -5,7 +5,7 @@ from __future__ import annotations
 import polars as pl
 
 from bodycensus.rules.base import Rule, fmt
-from bodycensus.rules.bands import band_high, band_low, unit_slip_hint
+from bodycensus.rules.bands import band_high, band_low
 
 _NONE = pl.lit(None, dtype=pl.Float64)
 _POSITIVE_FIELDS = ("mass", "radius", "semi_major_axis", "period", "rotation_period")
@@ -80,8 +80,7 @@ def _parent_cycle() -> Rule:
 
 
 def _unit_slip() -> Rule:
-    density = pl.col("density")
-    hint = unit_slip_hint(density)
+    density, hint = pl.col("density"), pl.col("_slip_hint")
     return Rule(
         id="unit-slip", title="A value looks off by a unit factor", severity="error",
         source="unit factors: IAU 2015 B3 nominal masses and radii; factor 1000 (k-prefix)",
