@@ -7,7 +7,6 @@ plotly.js from the installed plotly package, are served locally: no page needs a
 
 from __future__ import annotations
 
-import ipaddress
 from collections.abc import AsyncIterator
 from concurrent.futures import ThreadPoolExecutor
 from contextlib import asynccontextmanager
@@ -19,9 +18,10 @@ from fastapi import FastAPI
 from fastapi.responses import FileResponse
 from fastapi.staticfiles import StaticFiles
 
-from bodycensus import __version__, api, pages
+from bodycensus import __version__, api, auth, pages
 from bodycensus.errors import BadInput, install_error_handlers
 from bodycensus.jobs import Jobs, add_catalogue
+from bodycensus.security import Guard
 from bodycensus.settings import Settings
 from bodycensus.store import Store
 
@@ -83,7 +83,8 @@ async def _lifespan(app: FastAPI) -> AsyncIterator[None]:
 
 
 def create_app(settings: Settings) -> FastAPI:
-    """The dashboard app for ``settings``: JSON API, pages, static files, one error shape."""
+    """The dashboard app for ``settings``: JSON API, pages, static files, one error shape, and
+    the gate (token, cross-site checks, security headers) in front of all of them."""
     app = FastAPI(title="bodycensus", version=__version__, lifespan=_lifespan,
                   openapi_url="/api/openapi.json", docs_url=None, redoc_url=None,
                   description="Find the bodies that physics rules out in catalogues of "
@@ -91,6 +92,8 @@ def create_app(settings: Settings) -> FastAPI:
     app.state.settings = settings
     app.state.templates = getattr(pages, "templates", None)
     install_error_handlers(app)
+    app.add_middleware(Guard, token=settings.token)
+    app.include_router(auth.router)
     app.include_router(api.router)
     app.include_router(pages.router)
 
@@ -103,21 +106,10 @@ def create_app(settings: Settings) -> FastAPI:
     return app
 
 
-def _is_loopback(host: str) -> bool:
-    """Whether ``host`` only listens on this machine."""
-    if host == "localhost":
-        return True
-    try:
-        return ipaddress.ip_address(host).is_loopback
-    except ValueError:
-        return False
-
-
 def serve(settings: Settings) -> None:
-    """Run the dashboard in uvicorn until interrupted (``bodycensus serve``)."""
-    if not _is_loopback(settings.host):
-        need = ("access tokens are not enforced yet; listen on 127.0.0.1" if settings.token
-                else "listening beyond this machine needs an access token (--token or "
-                     "BODYCENSUS_TOKEN)")
-        raise BadInput(f"refusing to listen on {settings.host}: {need}")
+    """Run the dashboard in uvicorn until interrupted (``bodycensus serve``); refuse settings
+    that would expose it (another host without a token)."""
+    problem = settings.listen_problem()
+    if problem is not None:
+        raise BadInput(problem)
     uvicorn.run(create_app(settings), host=settings.host, port=settings.port, log_level="info")

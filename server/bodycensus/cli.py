@@ -36,6 +36,15 @@ def _add_serve(commands: argparse._SubParsersAction) -> None:
                        help="load the bundled demo catalogue so a first look needs no file")
     serve.add_argument("--token", default=None,
                        help="access token required on every request (or BODYCENSUS_TOKEN)")
+    limits = serve.add_argument_group("upload limits")
+    limits.add_argument("--max-upload-mb", type=int, default=None,
+                        help="largest upload in MiB, as sent (default 4096)")
+    limits.add_argument("--max-decompressed-mb", type=int, default=None,
+                        help="largest .gz/.zst file once decompressed, in MiB (default 16384)")
+    limits.add_argument("--max-rows", type=int, default=None,
+                        help="most data rows in one catalogue (default 50000000)")
+    limits.add_argument("--max-columns", type=int, default=None,
+                        help="most columns in one catalogue (default 2000)")
 
 
 def _add_demo(commands: argparse._SubParsersAction) -> None:
@@ -78,10 +87,14 @@ def build_parser() -> argparse.ArgumentParser:
 
 def _serve(args: argparse.Namespace) -> int:
     from bodycensus.app import serve
-    from bodycensus.settings import Settings
+    from bodycensus.settings import MIB, Settings
 
-    settings = Settings.from_cli(host=args.host, port=args.port, data_dir=args.data_dir,
-                                 demo=args.demo, token=args.token)
+    limits = {"max_upload_bytes": args.max_upload_mb and args.max_upload_mb * MIB,
+              "max_decompressed_bytes": args.max_decompressed_mb and args.max_decompressed_mb * MIB,
+              "max_rows": args.max_rows, "max_columns": args.max_columns}
+    settings = Settings.from_cli(
+        host=args.host, port=args.port, data_dir=args.data_dir, demo=args.demo,
+        token=args.token, **{k: v for k, v in limits.items() if v is not None})
     serve(settings)
     return 0
 

@@ -16,6 +16,7 @@ from typing import Any, TextIO
 
 import polars as pl
 
+from bodycensus.csvsafe import neutralise_formulas
 from bodycensus.engines.local import CheckOptions, CheckResult, check_file
 from bodycensus.families import parse_family_override
 from bodycensus.rules.base import SEVERITIES, SEVERITY_RANK
@@ -111,7 +112,7 @@ def _print(result: CheckResult, args: argparse.Namespace, out: TextIO) -> None:
     if args.format == "json":
         out.write(json_document(result, args.file, findings))
     elif args.format == "csv":
-        out.write(findings.drop("_row").write_csv())
+        out.write(neutralise_formulas(findings.drop("_row")).write_csv())
     else:
         out.write(table_text(result, args.file, findings, args.limit))
 

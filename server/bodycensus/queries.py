@@ -13,6 +13,7 @@ from typing import Any, Literal
 
 import polars as pl
 
+from bodycensus.csvsafe import neutralise_formulas
 from bodycensus.errors import NotFound
 from bodycensus.rules.base import SEVERITIES
 from bodycensus.schema import CANONICAL_FIELDS, ColumnChoice
@@ -33,7 +34,6 @@ DERIVED_COLUMNS = frozenset({
     "hill_radius", "parent_hill_radius", "stable_hill_limit", "kepler_period", "period_ratio",
     "barycentre_offset", "tidal_lock_time", "roche_x", "roche_y", "hill_ratio",
 })
-_FORMULA_START = r"^[=+\-@\t\r]"  # what a spreadsheet would run as a formula (OWASP CSV injection)
 
 
 def _severity_rank() -> pl.Expr:
@@ -82,21 +82,12 @@ def findings_page(cat_dir: Path, state: ViewState) -> dict[str, Any]:
             "items": json_ready(items)}
 
 
-def _neutralise(lf: pl.LazyFrame) -> pl.LazyFrame:
-    """Prefix ' to text cells a spreadsheet would run as a formula."""
-    texts = [name for name, dtype in lf.collect_schema().items() if dtype == pl.String]
-    return lf.with_columns(
-        pl.when(pl.col(c).str.contains(_FORMULA_START)).then(pl.lit("'") + pl.col(c))
-        .otherwise(pl.col(c)).alias(c) for c in texts
-    )
-
-
 def export_findings(cat_dir: Path, state: ViewState, fmt: Literal["csv", "parquet"],
                     dest: Path) -> Path:
     """Write every filtered finding (no paging) to ``dest`` as CSV or Parquet, streaming."""
     lf = filtered_findings(cat_dir, state)
     if fmt == "csv":
-        _neutralise(lf).sink_csv(dest)
+        neutralise_formulas(lf).sink_csv(dest)
     else:
         lf.sink_parquet(dest)
     return dest

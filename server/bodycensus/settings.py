@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import ipaddress
 import os
 from dataclasses import dataclass
 from pathlib import Path
@@ -9,6 +10,7 @@ from typing import Any
 
 MIB = 1024 * 1024
 TOKEN_ENV = "BODYCENSUS_TOKEN"
+MIN_TOKEN_LENGTH = 12  # common practice: long enough that guessing over the network is hopeless
 
 
 @dataclass(frozen=True)
@@ -16,9 +18,9 @@ class Settings:
     """Where data lives, where to listen, and the limits every upload must respect."""
 
     data_dir: Path
-    host: str = "127.0.0.1"  # loopback only unless a token is set (see issue "Strangers")
+    host: str = "127.0.0.1"  # loopback only unless a token is set (see ``listen_problem``)
     port: int = 8000
-    token: str | None = None  # access token; required for any non-loopback host
+    token: str | None = None  # access token: every request needs it; required off loopback
     max_upload_bytes: int = 4096 * MIB  # bytes on the wire, enforced while streaming (413)
     max_decompressed_bytes: int = 16384 * MIB  # refuses gzip/zstd bombs past this size
     max_rows: int = 50_000_000  # data rows in one catalogue
@@ -32,3 +34,22 @@ class Settings:
         environment (``BODYCENSUS_TOKEN``) when the option is not given."""
         token = token or os.environ.get(TOKEN_ENV) or None
         return cls(data_dir=Path(data_dir).resolve(), token=token, **options)
+
+    def listen_problem(self) -> str | None:
+        """Why the server must not start with these settings (None when it may)."""
+        if self.token is not None and len(self.token) < MIN_TOKEN_LENGTH:
+            return f"the access token is shorter than {MIN_TOKEN_LENGTH} characters; use a longer one"
+        if self.token is None and not is_loopback(self.host):
+            return (f"refusing to listen on {self.host} without an access token; pass --token or "
+                    f"set {TOKEN_ENV}, or listen on 127.0.0.1")
+        return None
+
+
+def is_loopback(host: str) -> bool:
+    """Whether ``host`` only listens on this machine."""
+    if host == "localhost":
+        return True
+    try:
+        return ipaddress.ip_address(host).is_loopback
+    except ValueError:
+        return False
