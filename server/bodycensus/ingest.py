@@ -5,25 +5,41 @@ lazily with polars, mapped to canonical fields (``schema.guess_mapping``), conve
 streamed to Parquet, so memory stays bounded however long the file is. A file that cannot be read
 at all raises ``IngestError`` with one line saying where and what to do; a single unreadable cell
 does not: it becomes null and is listed in ``_bad``.
+
+
+``IngestError`` and the file-level checks live in ``readers`` (re-exported here).
 """
 
 from __future__ import annotations
 
 import csv
-import gzip
-import json
 import os
 import re
-import tempfile
-import zlib
-from collections.abc import Callable, Iterator
+from collections.abc import Callable
 from dataclasses import asdict, dataclass
 from pathlib import Path
-from typing import BinaryIO
 
 import polars as pl
-import zstandard
 
+from bodycensus.readers import (
+    HEAD_BYTES,
+    IngestError,
+    check_parquet,
+    csv_fault,
+    decompress,
+    detect_compression,
+    detect_format,
+    encoding_fault,
+    first_line,
+    head,
+    head_lines,
+    header_fault,
+    ndjson_fault,
+    sniff_delimiter,
+    storage_error,
+    text_lines,
+    to_string,
+)
 from bodycensus.schema import (
     CANONICAL_FIELDS,
     FIELD_TYPES,
@@ -36,26 +52,16 @@ from bodycensus.schema import (
 
 Progress = Callable[[str, int], None]
 _ROW, _PRESENT, _BAD = "__bodycensus_row__", "__bodycensus_present__", "__bodycensus_bad__"
-_CHUNK = 1 << 20
-_DELIMITERS = (",", "\t", ";")
 _TRUE, _FALSE = ["true", "yes", "y", "t", "1", "1.0"], ["false", "no", "n", "f", "0", "0.0"]
-_EXTENSIONS = {
-    ".csv": "delimited", ".tsv": "delimited", ".tab": "delimited", ".txt": "delimited",
-    ".ndjson": "ndjson", ".jsonl": "ndjson", ".parquet": "parquet", ".pq": "parquet",
-}
-_MAGIC = {b"\x1f\x8b": "gzip", b"\x28\xb5\x2f\xfd": "zstd"}
-_COMPRESSIONS = {".gz": "gzip", ".gzip": "gzip", ".zst": "zstd", ".zstd": "zstd"}
-
-
-class IngestError(ValueError):
-    """A file that cannot be read at all; the message is one line: where, what, and what to do."""
 
 
 @dataclass(frozen=True)
 class IngestLimits:
-    """Guards against hostile or mistaken input."""
+    """Guards against hostile or mistaken input, enforced while the file is read."""
 
     max_decompressed_bytes: int = 64 * 2**30
+    max_rows: int = 2_000_000_000  # polars slices take at most 2**32 - 1
+    max_columns: int = 100_000
 
 
 @dataclass(frozen=True)
@@ -76,100 +82,6 @@ class IngestReport:
         return {**asdict(self), "mapping": self.mapping.to_json()}
 
 
-def _detect_compression(source: Path) -> str | None:
-    """gzip or zstd by extension, else by magic bytes; None for a plain file."""
-    if source.suffix.lower() in _COMPRESSIONS:
-        return _COMPRESSIONS[source.suffix.lower()]
-    with source.open("rb") as fh:
-        magic = fh.read(4)
-    return next((name for start, name in _MAGIC.items() if magic.startswith(start)), None)
-
-
-def _zstd_chunks(fh: BinaryIO) -> Iterator[bytes]:
-    """Decompressed chunks of a (possibly multi-frame) zstd stream; raises if it is truncated."""
-    decoder, pending = zstandard.ZstdDecompressor().decompressobj(), False
-    while chunk := fh.read(_CHUNK):
-        while chunk:
-            yield decoder.decompress(chunk)
-            pending, chunk = not decoder.eof, b""
-            if decoder.eof:  # the next frame, if any, starts in the unused bytes
-                chunk, decoder = decoder.unused_data, zstandard.ZstdDecompressor().decompressobj()
-    if pending:
-        raise EOFError("the stream ends inside a frame")
-
-
-def _chunks(source: Path, compression: str) -> Iterator[bytes]:
-    """Decompressed chunks of ``source``."""
-    with source.open("rb") as raw:
-        if compression == "zstd":
-            yield from _zstd_chunks(raw)
-            return
-        with gzip.GzipFile(fileobj=raw) as fh:
-            yield from iter(lambda: fh.read(_CHUNK), b"")
-
-
-def _decompress(source: Path, compression: str, dest: Path, limits: IngestLimits,
-                progress: Progress) -> Path:
-    """Stream ``source`` to a temp file beside ``dest``; the progress count is bytes written."""
-    fd, name = tempfile.mkstemp(prefix=f".{dest.name}.", suffix=".decompressed", dir=dest.parent)
-    written, limit = 0, limits.max_decompressed_bytes
-    try:
-        with os.fdopen(fd, "wb") as out:
-            for chunk in _chunks(source, compression):
-                written += len(chunk)
-                if written > limit:
-                    raise IngestError(f"{source.name}: decompresses to more than {limit:,} bytes "
-                                      "(the limit); decompress it yourself or raise the limit")
-                out.write(chunk)
-                progress("decompress", written)
-    except BaseException as err:
-        Path(name).unlink(missing_ok=True)
-        if isinstance(err, (OSError, EOFError, zlib.error, zstandard.ZstdError)):
-            raise IngestError(
-                f"{source.name}: {compression} data is corrupt or truncated after {written:,} "
-                f"bytes of output ({_first_line(err)}); download or compress it again") from err
-        raise
-    return Path(name)
-
-
-def _first_line(err: BaseException) -> str:
-    """The first line of an exception's message (polars messages run to many lines)."""
-    return (str(err).strip() or type(err).__name__).splitlines()[0]
-
-
-def _detect_format(source: Path, plain: Path) -> str:
-    """delimited, ndjson or parquet: by extension (under any .gz/.zst), then by content."""
-    inner = source.with_suffix("") if source.suffix.lower() in _COMPRESSIONS else source
-    with plain.open("rb") as fh:
-        head = fh.read(4096)
-    start = head.lstrip(b"\xef\xbb\xbf \t\r\n")[:1]
-    fmt = _EXTENSIONS.get(inner.suffix.lower()) or (
-        "parquet" if head.startswith(b"PAR1") else "ndjson" if start == b"{" else "delimited")
-    if fmt != "parquet" and (b"\x00" in head or start == b"["):
-        raise IngestError(f"{source.name}: binary data, UTF-16 text or a JSON array; export it as "
-                          "UTF-8 CSV/TSV, NDJSON (one object per line) or Parquet")
-    return fmt
-
-
-def _sniff_delimiter(plain: Path) -> str:
-    """The delimiter that occurs most often outside quotes in the header line."""
-    with plain.open("r", encoding="utf-8", errors="replace", newline="") as fh:
-        header = fh.readline()
-    return max(_DELIMITERS, key=re.sub(r'"[^"]*"', "", header).count)
-
-
-def _check_parquet(source: Path, plain: Path) -> None:
-    """Refuse a .parquet file that lacks Parquet's magic bytes at both ends."""
-    with plain.open("rb") as fh:
-        head = fh.read(4)
-        fh.seek(max(plain.stat().st_size - 4, 0))
-        tail = fh.read(4)
-    if head != b"PAR1" or tail != b"PAR1":
-        where = "start" if head != b"PAR1" else "end (truncated?)"
-        raise IngestError(f"{source.name}: not a valid Parquet file (no PAR1 marker at its "
-                          f"{where}); export it again, or give it a .csv/.ndjson name")
-
-
 def _scan(plain: Path, fmt: str, delimiter: str | None) -> pl.LazyFrame:
     """A lazy scan with a 1-based row index; text formats read every column as a string."""
     if fmt == "parquet":
@@ -182,65 +94,37 @@ def _scan(plain: Path, fmt: str, delimiter: str | None) -> pl.LazyFrame:
                        encoding="utf8-lossy", row_index_name=_ROW, row_index_offset=1)
 
 
-def _csv_fault(plain: Path, delimiter: str) -> str | None:
-    """The first ragged row or quoting fault, as 'line N: ...', found with the csv module."""
-    with plain.open("r", encoding="utf-8", errors="replace", newline="") as fh:
-        reader = csv.reader(fh, delimiter=delimiter, strict=True)
-        width, start = len(next(reader, [])), 2
-        try:
-            for row in reader:
-                if len(row) > width:
-                    return (f"line {start}: {len(row)} fields but the header has {width}; "
-                            "quote fields that contain the delimiter, or fix that row")
-                start = reader.line_num + 1
-        except csv.Error as err:
-            return (f"line {start}: {err} (a quote that is never closed?); "
-                    "close or remove the quote in that row")
-    return None
-
-
-def _ndjson_fault(plain: Path) -> str | None:
-    """The first line of an NDJSON file that is not a JSON object, as 'line N: ...'."""
-    with plain.open("r", encoding="utf-8", errors="replace") as fh:
-        for number, line in enumerate(fh, start=1):
-            if not line.strip():
-                continue
-            try:
-                value = json.loads(line)
-            except json.JSONDecodeError as err:
-                return f"line {number}: invalid JSON ({err.msg} at character {err.colno}); " \
-                    "fix or remove that line"
-            if not isinstance(value, dict):
-                return f"line {number}: not a JSON object; each line must be one {{...}} record"
-    return None
-
-
 def _explain(source: Path, plain: Path, fmt: str, delimiter: str | None,
-             err: Exception) -> IngestError:
-    """A one-line IngestError for a polars failure, locating the fault where we can."""
+             err: Exception) -> Exception:
+    """A one-line IngestError for a polars failure, locating the fault where we can (a full or
+    read-only disk is passed on as the OSError it is)."""
+    if (disk := storage_error(err)) is not None:
+        return disk
     fault = None
     if fmt == "delimited":
-        fault = _csv_fault(plain, delimiter or ",")
+        fault = csv_fault(text_lines(plain), delimiter or ",")
     elif fmt == "ndjson":
-        fault = _ndjson_fault(plain)
+        fault = ndjson_fault(text_lines(plain))
     column = re.search(r"at column '([^']+)'", str(err))
     if fault and column:
         fault = f"column '{column[1]}', {fault}"
     if fault is None:
-        fault = (f"cannot be read as {fmt} ({_first_line(err)}); check that the file is "
+        fault = (f"cannot be read as {fmt} ({first_line(err)}); check that the file is "
                  "complete and in one of: CSV/TSV/semicolon text, NDJSON, Parquet")
     return IngestError(f"{source.name}: {fault}")
 
 
-def _to_string(col: pl.Expr, dtype: pl.DataType) -> pl.Expr:
-    """Any column as text, verbatim (structs and lists as JSON-like text)."""
-    if dtype == pl.String:
-        return col
-    if isinstance(dtype, pl.Struct):
-        return col.struct.json_encode()
-    if isinstance(dtype, (pl.List, pl.Array)):
-        return pl.format("[{}]", col.cast(pl.List(pl.String)).list.join(", "))
-    return col.cast(pl.String)
+def _check_text(source: Path, plain: Path, fmt: str) -> str | None:
+    """Refuse text that is not UTF-8 or whose header polars would misread; the delimiter."""
+    data, complete = head(plain, None, HEAD_BYTES, source.name)
+    fault = encoding_fault(data, complete)
+    lines = head_lines(data, complete)
+    delimiter = sniff_delimiter(lines[0]) if fmt == "delimited" and lines else None
+    if fault is None and delimiter is not None:
+        fault = header_fault(next(csv.reader(lines[:1], delimiter=delimiter)), lines[0])
+    if fault is not None:
+        raise IngestError(f"{source.name}: {fault}")
+    return delimiter
 
 
 def _clean(text: pl.Expr) -> pl.Expr:
@@ -255,7 +139,7 @@ def _parse(name: str, col: pl.Expr, dtype: pl.DataType, factor: float) -> tuple[
         return col.cast(pl.Float64) * factor, col.is_not_null()
     if name == "tidally_locked" and dtype == pl.Boolean:
         return col, col.is_not_null()
-    text = _clean(_to_string(col, dtype))
+    text = _clean(to_string(col, dtype))
     if name in NUMERIC_FIELDS:
         return text.cast(pl.Float64, strict=False) * factor, text.is_not_null()
     if name == "tidally_locked":  # is_in streams; replace_strict held the whole column (polars 2.1)
@@ -289,7 +173,7 @@ def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping) -> pl.L
         value, present = _parse(name, pl.col(choice.column), schema[choice.column],
                                 choice.factor())
         parsed += [value.cast(FIELD_TYPES[name]).alias(name), present.alias(_PRESENT + name)]
-    unknown = [_to_string(pl.col(c), schema[c]).alias(_output_name(c))
+    unknown = [to_string(pl.col(c), schema[c]).alias(_output_name(c))
                for c in mapping.unknown_columns]
     flags = [pl.when(pl.col(_BAD + f)).then(pl.lit(f)) for f in mapped]
     joined = pl.concat_str(flags, separator=",", ignore_nulls=True) if flags else pl.lit("")
@@ -310,19 +194,23 @@ def _fsync(path: Path) -> None:
         os.close(fd)
 
 
-def _write(plan: pl.LazyFrame, dest: Path, source: Path,
-           explain: Callable[[Exception], IngestError]) -> int:
-    """Stream ``plan`` to ``dest`` atomically (temp file, fsync, rename); the number of rows."""
+def _write(plan: pl.LazyFrame, dest: Path, source: Path, max_rows: int,
+           explain: Callable[[Exception], Exception]) -> int:
+    """Stream ``plan`` to ``dest`` atomically (temp file, fsync, rename); the number of rows.
+
+    At most ``max_rows`` + 1 rows are read: one more than the limit proves it is exceeded."""
     tmp = dest.with_suffix(".tmp")
     try:
-        plan.sink_parquet(tmp)
+        plan.head(max_rows + 1).sink_parquet(tmp)
         rows = pl.scan_parquet(tmp).select(pl.len()).collect().item()
-    except (pl.exceptions.PolarsError, pl.exceptions.PanicException) as err:
+    except (pl.exceptions.PolarsError, pl.exceptions.PanicException, OSError) as err:
         tmp.unlink(missing_ok=True)
         raise explain(err) from err
-    if rows == 0:
+    if rows == 0 or rows > max_rows:
         tmp.unlink(missing_ok=True)
-        raise IngestError(f"{source.name}: no data rows (only a header, or blank); "
+        raise IngestError(f"{source.name}: more than {max_rows:,} rows (the limit); split the "
+                          "catalogue or raise max_rows" if rows else
+                          f"{source.name}: no data rows (only a header, or blank); "
                           "add at least one body to the file")
     _fsync(tmp)
     os.replace(tmp, dest)
@@ -351,24 +239,36 @@ def _map(source: Path, columns: list[str], map_overrides: dict[str, str] | None,
     return mapping
 
 
-def _read(source: Path, plain: Path, compression: str | None, dest: Path,
-          overrides: tuple[dict | None, dict | None], progress: Progress) -> IngestReport:
-    """Ingest an uncompressed file ``plain`` (read from ``source``) into ``dest``."""
+def _open(source: Path, plain: Path, limits: IngestLimits
+          ) -> tuple[str, str | None, pl.LazyFrame, pl.Schema]:
+    """Format, delimiter, lazy scan and schema of ``plain``, within the column limit."""
     if plain.stat().st_size == 0:
         raise IngestError(f"{source.name}: the file is empty; export the catalogue again")
-    fmt = _detect_format(source, plain)
+    with plain.open("rb") as fh:
+        fmt = detect_format(source.name, fh.read(8))
     if fmt == "parquet":
-        _check_parquet(source, plain)
-    delimiter = _sniff_delimiter(plain) if fmt == "delimited" else None
+        check_parquet(source.name, plain)
+    delimiter = None if fmt == "parquet" else _check_text(source, plain, fmt)
     try:
         frame = _scan(plain, fmt, delimiter)
         schema = pl.Schema({n: t for n, t in frame.collect_schema().items() if n != _ROW})
     except (pl.exceptions.PolarsError, pl.exceptions.PanicException) as err:
         raise _explain(source, plain, fmt, delimiter, err) from err
+    if len(schema) > limits.max_columns:
+        raise IngestError(f"{source.name}: {len(schema):,} columns, more than the limit of "
+                          f"{limits.max_columns:,}; drop unused columns or raise max_columns")
+    return fmt, delimiter, frame, schema
+
+
+def _read(source: Path, plain: Path, compression: str | None, dest: Path, limits: IngestLimits,
+          overrides: tuple[dict | None, dict | None], progress: Progress) -> IngestReport:
+    """Ingest an uncompressed file ``plain`` (read from ``source``) into ``dest``."""
+    fmt, delimiter, frame, schema = _open(source, plain, limits)
     mapping = _map(source, schema.names(), *overrides)
     progress("read", 0)
     plan = _normalise(frame, schema, mapping)
-    rows = _write(plan, dest, source, lambda err: _explain(source, plain, fmt, delimiter, err))
+    rows = _write(plan, dest, source, limits.max_rows,
+                  lambda err: _explain(source, plain, fmt, delimiter, err))
     progress("write", rows)
     return IngestReport(rows=rows, format=fmt, compression=compression, delimiter=delimiter,
                         columns=schema.names(), mapping=mapping,
@@ -388,11 +288,12 @@ def ingest(source: Path, dest: Path, *, map_overrides: dict[str, str] | None = N
     if not source.is_file():
         raise IngestError(f"{source}: no such file; check the path")
     dest.parent.mkdir(parents=True, exist_ok=True)
-    compression = _detect_compression(source)
-    plain = source if compression is None else _decompress(source, compression, dest, limits,
-                                                           notify)
+    compression = detect_compression(source)
+    plain = source if compression is None else decompress(
+        source, compression, dest.parent, limits.max_decompressed_bytes, source.name, notify)
     try:
-        return _read(source, plain, compression, dest, (map_overrides, unit_overrides), notify)
+        return _read(source, plain, compression, dest, limits, (map_overrides, unit_overrides),
+                     notify)
     finally:
         if plain != source:
             plain.unlink(missing_ok=True)

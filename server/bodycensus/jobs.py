@@ -19,7 +19,7 @@ from pathlib import Path
 
 from bodycensus.aggregates import compute_aggregates
 from bodycensus.engines.local import CheckOptions, check_file
-from bodycensus.errors import BadInput, TooLarge, as_domain_error, one_line
+from bodycensus.errors import BadInput, as_domain_error, one_line
 from bodycensus.families import FAMILIES
 from bodycensus.ingest import IngestLimits
 from bodycensus.schema import guess_mapping
@@ -58,7 +58,8 @@ class Overrides:
 
     def options(self, settings: Settings) -> CheckOptions:
         """The engine options for these overrides under the server's limits."""
-        limits = IngestLimits(max_decompressed_bytes=settings.max_decompressed_bytes)
+        limits = IngestLimits(max_decompressed_bytes=settings.max_decompressed_bytes,
+                              max_rows=settings.max_rows, max_columns=settings.max_columns)
         return CheckOptions(map_overrides=self.map, unit_overrides=self.units,
                             family_overrides=self.families, limits=limits)
 
@@ -102,9 +103,6 @@ def run_check(store: Store, settings: Settings, cat_id: str, overrides: Override
     work = store.workdir(cat_id)
     result = check_file(store.source_path(cat_id), work, overrides.options(settings), progress)
     rows = int(result.summary.get("rows", 0))
-    if rows > settings.max_rows:
-        raise TooLarge(f"{rows:,} rows, more than the limit of {settings.max_rows:,}; split the "
-                       "catalogue or raise max_rows")
     progress("aggregates", 0.0)
     write_json_atomic(work / "aggregates.json", compute_aggregates(work))
     report = result.report.to_json() if result.report is not None else None

@@ -1,32 +1,44 @@
 """A first look at an uploaded file: its columns, a few sample values and the guessed mapping.
 
 Reads at most ``HEAD_BYTES`` of (decompressed) text, or the first rows of a Parquet file, so it
-is cheap for any size and safe against decompression bombs. The dashboard uses it to decide
+is cheap for any size and safe against decompression bombs. A fault found there (bad encoding,
+a header that is data, an over-long row, an open quote, a broken NDJSON line) refuses the upload
+with the line and column; ``readers`` holds the checks, shared with the ingest. The dashboard uses it to decide
 whether the person must confirm the mapping before the ingest starts.
 """
 
 from __future__ import annotations
 
 import csv
-import gzip
-import io
 import json
-import zlib
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
 import polars as pl
-import zstandard
 
 from bodycensus.errors import BadInput, TooLarge
 from bodycensus.families import guess_family
+from bodycensus.readers import (
+    HEAD_BYTES,
+    IngestError,
+    check_parquet,
+    csv_fault,
+    detect_compression,
+    detect_format,
+    encoding_fault,
+    first_line,
+    head,
+    head_lines,
+    header_fault,
+    ndjson_fault,
+    sniff_delimiter,
+    to_string,
+)
 from bodycensus.schema import Mapping, guess_mapping
 
-HEAD_BYTES = 2 << 20
 SAMPLE_ROWS = 20
 SAMPLES_PER_COLUMN = 5
-_DELIMITERS = (",", "\t", ";")
 _PARQUET = (".parquet", ".pq")
 
 
@@ -55,78 +67,68 @@ class Sniff:
                 "reasons": self.reasons}
 
 
-def _head(path: Path, name: str) -> bytes:
-    """The first HEAD_BYTES of the file's content, decompressed if it is gzip or zstd."""
-    with path.open("rb") as raw:
-        magic = raw.read(4)
-        raw.seek(0)
-        try:
-            if magic[:2] == b"\x1f\x8b":
-                return gzip.GzipFile(fileobj=raw).read(HEAD_BYTES)
-            if magic == b"\x28\xb5\x2f\xfd":
-                return zstandard.ZstdDecompressor().stream_reader(raw).read(HEAD_BYTES)
-        except (OSError, EOFError, zlib.error, zstandard.ZstdError) as err:
-            raise BadInput(f"{name}: the compressed data is corrupt ({err}); compress the "
-                           "file again", 422) from err
-        return raw.read(HEAD_BYTES)
+def _lines(path: Path, name: str) -> tuple[list[str], bool]:
+    """The complete, non-blank lines of the head; IngestError (422) for text we cannot read."""
+    data, complete = head(path, detect_compression(path), HEAD_BYTES, name)
+    fault = encoding_fault(data, complete)
+    lines = head_lines(data, complete)
+    if fault is None and not complete and len(lines) == 1 and "\n" not in lines[0]:
+        fault = (f"line 1 is longer than {HEAD_BYTES:,} bytes; is this a catalogue with a "
+                 "header row?")
+    if fault is not None:
+        raise IngestError(f"{name}: {fault}")
+    return [line for line in lines if line.strip()], complete
 
 
-def _lines(head: bytes, name: str) -> list[str]:
-    """Complete text lines of the head (a last partial line is dropped unless it is all)."""
-    text = head.decode("utf-8", errors="replace").lstrip("\ufeff")
-    lines = text.splitlines()
-    if len(head) >= HEAD_BYTES and len(lines) > 1:
-        lines = lines[:-1]
-    elif len(head) >= HEAD_BYTES:
-        raise BadInput(f"{name}: the first line is longer than {HEAD_BYTES:,} bytes; is this a "
-                       "catalogue with a header row?", 422)
-    return [line for line in lines if line.strip()]
-
-
-def _delimited(lines: list[str]) -> tuple[list[str], list[dict[str, str]]]:
-    """Header and first rows of delimited text (delimiter: the commonest in the header)."""
-    delimiter = max(_DELIMITERS, key=lines[0].count)
-    rows = list(csv.reader(io.StringIO("\n".join(lines[: SAMPLE_ROWS * 50 + 1])),
-                           delimiter=delimiter))
-    header = [h.strip() for h in rows[0]]
-    return header, [dict(zip(header, r, strict=False)) for r in rows[1:]]
+def _delimited(lines: list[str], complete: bool, name: str
+               ) -> tuple[list[str], list[dict[str, str]]]:
+    """Header and first rows of delimited text; refuses a bad header, long rows, open quotes."""
+    delimiter = sniff_delimiter(lines[0])
+    header = next(csv.reader(lines[:1], delimiter=delimiter))
+    checked = lines[: SAMPLE_ROWS * 50 + 1]  # the rows the first look samples
+    fault = header_fault(header, lines[0]) or csv_fault(
+        checked, delimiter, complete and len(checked) == len(lines))
+    if fault is not None:
+        raise IngestError(f"{name}: {fault}")
+    rows = list(csv.reader(lines[1: SAMPLE_ROWS * 50 + 1], delimiter=delimiter))
+    header = [h.strip() for h in header]
+    return header, [dict(zip(header, r, strict=False)) for r in rows]
 
 
 def _ndjson(lines: list[str], name: str) -> tuple[list[str], list[dict[str, str]]]:
-    """Keys and first records of NDJSON."""
-    records = []
-    for number, line in enumerate(lines[: SAMPLE_ROWS * 50], start=1):
-        try:
-            value = json.loads(line)
-        except json.JSONDecodeError as err:
-            raise BadInput(f"{name}: line {number}: invalid JSON ({err.msg}); fix or remove "
-                           "that line", 422) from err
-        if isinstance(value, dict):
-            records.append({str(k): "" if v is None else str(v) for k, v in value.items()})
+    """Keys and first records of NDJSON; refuses a line that is not a JSON object."""
+    if (fault := ndjson_fault(lines)) is not None:
+        raise IngestError(f"{name}: {fault}")
+    records = [{str(k): "" if v is None else str(v) for k, v in json.loads(line).items()}
+               for line in lines[: SAMPLE_ROWS * 50]]
     header = list(dict.fromkeys(k for r in records for k in r))
     return header, records
 
 
 def _parquet(path: Path, name: str) -> tuple[list[str], list[dict[str, str]]]:
-    """Columns and first rows of a Parquet file, as text."""
+    """Columns and first rows of a Parquet file, as text (nested values too)."""
     try:
+        check_parquet(name, path)
         frame = pl.scan_parquet(path).head(SAMPLE_ROWS * 50).collect()
+        text = frame.select(to_string(pl.col(c), t).alias(c) for c, t in frame.schema.items())
     except (pl.exceptions.PolarsError, pl.exceptions.PanicException, OSError) as err:
-        raise BadInput(f"{name}: not a readable Parquet file; export it again", 422) from err
-    text = frame.select(pl.all().cast(pl.String, strict=False))
+        raise BadInput(f"{name}: not a readable Parquet file ({first_line(err)[:80]}); export "
+                       "it again", 422) from err
     return frame.columns, [{k: v or "" for k, v in r.items()} for r in text.to_dicts()]
 
 
 def _table(path: Path, name: str) -> tuple[list[str], list[dict[str, str]]]:
     """Header and first rows of any supported file."""
-    if path.suffix in _PARQUET:
+    with path.open("rb") as fh:
+        fmt = detect_format(path.name, fh.read(8))
+    if fmt == "parquet":
         return _parquet(path, name)
-    lines = _lines(_head(path, name), name)
+    lines, complete = _lines(path, name)
     if not lines:
         raise BadInput(f"{name}: the file is empty; export the catalogue again", 422)
-    if lines[0].lstrip().startswith("{"):
+    if fmt == "ndjson" or lines[0].lstrip().startswith("{"):
         return _ndjson(lines, name)
-    return _delimited(lines)
+    return _delimited(lines, complete, name)
 
 
 def sniff(path: Path, name: str, max_columns: int) -> Sniff | None:

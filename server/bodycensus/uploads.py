@@ -41,10 +41,15 @@ class Upload:
 
 
 def display_name(filename: str) -> str:
-    """The file's base name without folders or control characters, at most 120 characters."""
+    """The file's base name without folders or control characters, at most 120 characters
+    (a long name keeps its start and its suffix). Only ever shown: never used as a path."""
     base = re.split(r"[\\/]", filename)[-1]
     clean = "".join(ch for ch in base if unicodedata.category(ch)[0] != "C").strip(" .")
-    return clean[:_MAX_NAME] or "upload"
+    if len(clean) > _MAX_NAME:
+        suffix = clean[-12:].partition(".")[2]
+        keep = _MAX_NAME - len(suffix) - 2
+        clean = f"{clean[:keep]}….{suffix}" if suffix else clean[: _MAX_NAME - 1] + "…"
+    return clean or "upload"
 
 
 def file_suffix(filename: str) -> str:

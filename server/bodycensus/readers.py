@@ -1,0 +1,307 @@
+"""Open any supported catalogue file and say, by line and column, why one cannot be read.
+
+Compression is found by extension, else by magic bytes; gzip and zstd are decompressed as a stream that stops at a size limit, and the format is told from the
+name or the first bytes. The ``*_fault`` functions return a one-line 'where: what; what to do'
+for text that polars would reject or silently misread; the upload's first look (``sniff``) and
+the ingest share them, so both give the same answer.
+"""
+
+from __future__ import annotations
+
+import codecs
+import csv
+import errno
+import gzip
+import io
+import json
+import os
+import re
+import tempfile
+import zlib
+from collections.abc import Callable, Iterable, Iterator
+from pathlib import Path
+from typing import BinaryIO
+
+import polars as pl
+import zstandard
+
+CHUNK = 1 << 20
+HEAD_BYTES = 2 << 20  # what the first look and the text checks read of a file
+DELIMITERS = (",", "\t", ";")
+EXTENSIONS = {
+    ".csv": "delimited", ".tsv": "delimited", ".tab": "delimited", ".txt": "delimited",
+    ".ndjson": "ndjson", ".jsonl": "ndjson", ".parquet": "parquet", ".pq": "parquet",
+}
+COMPRESSIONS = {".gz": "gzip", ".gzip": "gzip", ".zst": "zstd", ".zstd": "zstd"}
+_MAGIC = {b"\x1f\x8b": "gzip", b"\x28\xb5\x2f\xfd": "zstd"}
+_READ_ERRORS = (OSError, EOFError, zlib.error, zstandard.ZstdError)
+_STORAGE = {"no space left": errno.ENOSPC, "os error 28": errno.ENOSPC,
+            "read-only file system": errno.EROFS, "os error 30": errno.EROFS,
+            "permission denied": errno.EACCES, "os error 13": errno.EACCES}
+_ODD_SEPARATORS = ("|", ":", "  ", "^", "~")
+_UNREADABLE = ("binary data, UTF-16 text or a JSON array cannot be read; export it as UTF-8 "
+               "CSV/TSV, NDJSON (one object per line) or Parquet")
+
+
+class IngestError(ValueError):
+    """A file that cannot be read at all; the message is one line: where, what, and what to do."""
+
+
+def first_line(err: BaseException) -> str:
+    """The first line of an exception's message (polars messages run to many lines)."""
+    return (str(err).strip() or type(err).__name__).splitlines()[0]
+
+
+def storage_error(err: BaseException) -> OSError | None:
+    """The disk-full / read-only / permission OSError behind ``err`` (polars hides it in text)."""
+    if isinstance(err, OSError) and err.errno in (errno.ENOSPC, errno.EROFS, errno.EACCES,
+                                                  errno.EPERM):
+        return err
+    text = str(err).lower()
+    code = next((c for words, c in _STORAGE.items() if words in text), None)
+    return OSError(code, os.strerror(code)) if code is not None else None
+
+
+# --- compression ---------------------------------------------------------------------------
+
+
+def detect_compression(source: Path) -> str | None:
+    """gzip or zstd by extension, else by magic bytes; None for a plain file."""
+    if source.suffix.lower() in COMPRESSIONS:
+        return COMPRESSIONS[source.suffix.lower()]
+    with source.open("rb") as fh:
+        magic = fh.read(4)
+    return next((name for start, name in _MAGIC.items() if magic.startswith(start)), None)
+
+
+def _zstd_chunks(fh: BinaryIO) -> Iterator[bytes]:
+    """Decompressed chunks of a (possibly multi-frame) zstd stream; raises if it is truncated."""
+    decoder, pending = zstandard.ZstdDecompressor().decompressobj(), False
+    while chunk := fh.read(CHUNK):
+        while chunk:
+            yield decoder.decompress(chunk)
+            pending, chunk = not decoder.eof, b""
+            if decoder.eof:  # the next frame, if any, starts in the unused bytes
+                chunk, decoder = decoder.unused_data, zstandard.ZstdDecompressor().decompressobj()
+    if pending:
+        raise EOFError("the stream ends inside a frame")
+
+
+def chunks(source: Path, compression: str | None) -> Iterator[bytes]:
+    """The file's content in chunks, decompressed; read errors propagate as they are."""
+    with source.open("rb") as raw:
+        if compression == "zstd":
+            yield from _zstd_chunks(raw)
+        elif compression == "gzip":
+            with gzip.GzipFile(fileobj=raw) as fh:
+                yield from iter(lambda: fh.read(CHUNK), b"")
+        else:
+            yield from iter(lambda: raw.read(CHUNK), b"")
+
+
+def _corrupt(name: str, compression: str | None, written: int, err: BaseException
+             ) -> IngestError:
+    """The one-line error for compressed data that cannot be decompressed."""
+    return IngestError(f"{name}: {compression} data is corrupt or truncated after {written:,} "
+                       f"bytes of output ({first_line(err)}); download or compress it again")
+
+
+def head(source: Path, compression: str | None, size: int, name: str) -> tuple[bytes, bool]:
+    """The first ``size`` bytes of content and whether that is all of it (cheap for any file)."""
+    out = bytearray()
+    stream = chunks(source, compression)
+    try:
+        for chunk in stream:
+            out += chunk
+            if len(out) > size:
+                return bytes(out[:size]), False
+    except _READ_ERRORS as err:
+        raise _corrupt(name, compression, len(out), err) from err
+    finally:
+        stream.close()
+    return bytes(out), True
+
+
+def decompress(source: Path, compression: str, folder: Path, limit: int, name: str,
+               progress: Callable[[str, int], None]) -> Path:
+    """Stream ``source`` to a temp file in ``folder``, refusing past ``limit`` bytes of output.
+
+    Nothing beyond the limit is written; read faults become IngestError, disk faults stay
+    OSError (the caller reports a full or read-only disk, not a bad file)."""
+    fd, tmp = tempfile.mkstemp(prefix=".source.", suffix=".decompressed", dir=folder)
+    written, stream = 0, chunks(source, compression)
+    try:
+        with os.fdopen(fd, "wb") as out:
+            while (chunk := _next_chunk(stream, name, compression, written)) is not None:
+                written += len(chunk)
+                if written > limit:
+                    raise IngestError(f"{name}: decompresses to more than {limit:,} bytes (the "
+                                      "limit); decompress it yourself or raise the limit")
+                out.write(chunk)
+                progress("decompress", written)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+    finally:
+        stream.close()
+    return Path(tmp)
+
+
+def _next_chunk(stream: Iterator[bytes], name: str, compression: str, written: int
+                ) -> bytes | None:
+    """The next decompressed chunk (None at the end); read faults as IngestError."""
+    try:
+        return next(stream, None)
+    except _READ_ERRORS as err:
+        raise _corrupt(name, compression, written, err) from err
+
+
+# --- format --------------------------------------------------------------------------------
+
+
+def inner_suffix(name: str) -> str:
+    """The format suffix of ``name`` under any .gz/.zst (``x.csv.gz`` -> ``.csv``)."""
+    path = Path(name.lower())
+    return path.with_suffix("").suffix if path.suffix in COMPRESSIONS else path.suffix
+
+
+def detect_format(name: str, start: bytes) -> str:
+    """delimited, ndjson or parquet: by the name's extension, then by the first bytes."""
+    lead = start.lstrip(b"\xef\xbb\xbf \t\r\n")[:1]
+    return EXTENSIONS.get(inner_suffix(name)) or (
+        "parquet" if start.startswith(b"PAR1") else "ndjson" if lead == b"{" else "delimited")
+
+
+def check_parquet(name: str, plain: Path) -> None:
+    """Refuse a Parquet file that lacks Parquet's magic bytes at both ends."""
+    with plain.open("rb") as fh:
+        start = fh.read(4)
+        fh.seek(max(plain.stat().st_size - 4, 0))
+        tail = fh.read(4)
+    if start != b"PAR1" or tail != b"PAR1":
+        where = "start" if start != b"PAR1" else "end (truncated?)"
+        raise IngestError(f"{name}: not a valid Parquet file (no PAR1 marker at its {where}); "
+                          "export it again, or give it a .csv/.ndjson name")
+
+
+def sniff_delimiter(header: str) -> str:
+    """The delimiter that occurs most often outside quotes in the header line."""
+    return max(DELIMITERS, key=re.sub(r'"[^"]*"', "", header).count)
+
+
+def to_string(col: pl.Expr, dtype: pl.DataType) -> pl.Expr:
+    """Any column as text, verbatim (structs as JSON, lists as ``[a, b]``)."""
+    if dtype == pl.String:
+        return col
+    if isinstance(dtype, pl.Struct):
+        return col.struct.json_encode()
+    if isinstance(dtype, (pl.List, pl.Array)):
+        inner = dtype.inner if dtype.inner is not None else pl.String
+        return pl.format("[{}]", col.cast(pl.List(inner)).list.eval(
+            to_string(pl.element(), inner)).list.join(", "))
+    return col.cast(pl.String)
+
+
+# --- faults, by line and column -------------------------------------------------------------
+
+
+def _where(text: bytes, pos: int) -> str:
+    """'line N, column M' of byte ``pos`` (column = delimited field, 1-based)."""
+    line_start = text.rfind(b"\n", 0, pos) + 1
+    header = text[: text.find(b"\n")] if b"\n" in text else text
+    sep = sniff_delimiter(header.decode("utf-8", "replace")).encode()
+    line, column = text.count(b"\n", 0, pos) + 1, text.count(sep, line_start, pos) + 1
+    return f"line {line}, column {column}"
+
+
+def encoding_fault(data: bytes, complete: bool) -> str | None:
+    """UTF-16, binary (NUL), a JSON array or non-UTF-8 bytes in ``data``, located; None if fine."""
+    if data[:2] in (codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE) or data[1:8:2] == b"\0" * 4:
+        return f"line 1: UTF-16 text; {_UNREADABLE}"
+    if data.startswith(b"PK\x03\x04"):
+        return f"line 1: a zip archive or spreadsheet; {_UNREADABLE}"
+    if (nul := data.find(b"\0")) >= 0:
+        return f"{_where(data, nul)}: a NUL byte; {_UNREADABLE}"
+    if data.lstrip(b"\xef\xbb\xbf \t\r\n")[:1] == b"[":
+        return f"line 1: a JSON array; {_UNREADABLE}"
+    try:
+        data.decode("utf-8")
+    except UnicodeDecodeError as err:
+        if complete or err.start < len(data) - 4:  # not a character cut by the head's end
+            return (f"{_where(data, err.start)}: byte 0x{data[err.start]:02X} is not UTF-8 "
+                    "(Latin-1 or another code page?); save the file as UTF-8")
+    return None
+
+
+def header_fault(columns: list[str], line: str) -> str | None:
+    """A header that is data, uses an unsupported delimiter, or names a column twice."""
+    named = [c.strip() for c in columns if c.strip()]
+    numbers = sum(_is_number(c) for c in named)
+    if named and numbers >= max(1, len(named) // 3):
+        return (f"line 1 looks like data ({', '.join(named[:3])}, ...), not a header; add a "
+                "first line naming the columns")
+    odd = next((s for s in _ODD_SEPARATORS if len(columns) == 1 and s in line), None)
+    if odd is not None:
+        return (f"line 1 is one column split by '{odd.strip() or 'spaces'}'; use comma, tab or "
+                "semicolon as the delimiter")
+    seen: dict[str, int] = {}
+    for number, name in enumerate(columns, start=1):
+        if name in seen and name:
+            return (f"line 1: column '{name}' appears twice (columns {seen[name]} and "
+                    f"{number}); rename or drop one")
+        seen[name] = number
+    return None
+
+
+def _is_number(text: str) -> bool:
+    """Whether ``text`` reads as a float."""
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+def csv_fault(lines: Iterable[str], delimiter: str, complete: bool = True) -> str | None:
+    """The first over-long row or quoting fault, as 'line N: ...' (short rows are allowed)."""
+    reader = csv.reader(lines, delimiter=delimiter, strict=True)
+    width, start = len(next(reader, [])), 2
+    try:
+        for row in reader:
+            if len(row) > width:
+                return (f"line {start}: {len(row)} fields but the header has {width}; "
+                        "quote fields that contain the delimiter, or fix that row")
+            start = reader.line_num + 1
+    except csv.Error as err:
+        if complete or "end of data" not in str(err):
+            return (f"line {start}: {err} (a quote that is never closed?); "
+                    "close or remove the quote in that row")
+    return None
+
+
+def ndjson_fault(lines: Iterable[str]) -> str | None:
+    """The first line of NDJSON that is not a JSON object, as 'line N: ...'."""
+    for number, line in enumerate(lines, start=1):
+        if not line.strip():
+            continue
+        try:
+            value = json.loads(line)
+        except json.JSONDecodeError as err:
+            return (f"line {number}: invalid JSON ({err.msg} at character {err.colno}); fix or "
+                    "remove that line")
+        if not isinstance(value, dict):
+            return f"line {number}: not a JSON object; each line must be one {{...}} record"
+    return None
+
+
+def text_lines(plain: Path) -> Iterator[str]:
+    """The lines of a (decompressed) text file, undecodable bytes replaced."""
+    with plain.open("r", encoding="utf-8", errors="replace", newline="") as fh:
+        yield from fh
+
+
+def head_lines(data: bytes, complete: bool) -> list[str]:
+    """The complete lines of a head of text (a cut last line dropped), BOM removed."""
+    text = data.decode("utf-8", errors="replace").removeprefix("\ufeff")
+    lines = io.StringIO(text, newline="").readlines()
+    return lines if complete or len(lines) < 2 else lines[:-1]
