@@ -41,7 +41,7 @@ def _serve(*args: str, env_token: str | None = None) -> subprocess.CompletedProc
     if env_token is not None:
         env["BODYCENSUS_TOKEN"] = env_token
     return subprocess.run([sys.executable, "-m", "bodycensus", "serve", *args], env=env,
-                          capture_output=True, text=True, timeout=60)
+                          capture_output=True, text=True, timeout=60, check=False)
 
 
 @pytest.mark.parametrize("args", [("--host", "0.0.0.0"), ("--host", "192.168.1.20"),
