@@ -22,6 +22,7 @@ from bodycensus.engines.local import CheckOptions, check_file
 from bodycensus.errors import BadInput, as_domain_error, one_line
 from bodycensus.families import FAMILIES
 from bodycensus.ingest import IngestLimits
+from bodycensus.readers import storage_error
 from bodycensus.schema import guess_mapping
 from bodycensus.settings import Settings
 from bodycensus.store import Manifest, Store, now, write_json_atomic
@@ -88,6 +89,7 @@ def describe_failure(err: BaseException) -> str:
     domain = as_domain_error(err) if isinstance(err, Exception) else None
     if domain is not None:
         return one_line(domain.detail)
+    err = storage_error(err) or err  # polars reports a full disk as text
     if isinstance(err, OSError) and err.errno == errno.ENOSPC:
         return "the disk of the data directory is full; free space and upload the file again"
     if isinstance(err, OSError) and err.errno in (errno.EACCES, errno.EROFS, errno.EPERM):

@@ -15,6 +15,7 @@ old or the new file, never half of one.
 
 from __future__ import annotations
 
+import errno
 import json
 import math
 import os
@@ -24,18 +25,32 @@ import shutil
 import sqlite3
 import threading
 from collections.abc import Iterator
-from contextlib import closing, contextmanager
+from contextlib import closing, contextmanager, suppress
 from dataclasses import asdict, dataclass, field, replace
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any, Literal
 
-from bodycensus.errors import Conflict, NotFound
+from bodycensus.errors import BodycensusError, Conflict, NotFound
 
 Status = Literal["mapping", "ingesting", "ready", "failed"]
 MANIFEST = "manifest.json"
 _ID = re.compile(r"^[A-Za-z0-9_-]{4,40}$")
 KILLED = "the server stopped during the ingest; upload the file again"
+
+
+class StorageError(BodycensusError):
+    """The data directory cannot be written (full disk, read-only, no permission): 507."""
+
+    status, code = 507, "storage"
+
+
+def storage_error(err: OSError) -> StorageError:
+    """The one-line StorageError for an OSError met while writing the data directory."""
+    if err.errno == errno.ENOSPC:
+        return StorageError("the disk of the data directory is full; free space and try again")
+    return StorageError(f"the data directory cannot be written ({err.strerror or err}); fix its "
+                        "permissions or mount and try again")
 
 
 def new_slug(nbytes: int = 6) -> str:
@@ -145,6 +160,7 @@ class Store:
             folder.mkdir(parents=True, exist_ok=True)
         self.db_path = self.data_dir / "bodycensus.sqlite"
         self._lock = threading.RLock()
+        self._unsaved: dict[str, Manifest] = {}  # failures the disk would not take
         self._init_db()
         self.recover()
 
@@ -153,7 +169,10 @@ class Store:
         """Reserve an id and return it with the path the upload streams to."""
         cat_id = new_slug()
         folder = self.incoming / cat_id
-        folder.mkdir()
+        try:
+            folder.mkdir()
+        except OSError as err:
+            raise storage_error(err) from err
         return cat_id, folder / f"source{suffix}"
 
     def source_path(self, cat_id: str) -> Path:
@@ -163,7 +182,7 @@ class Store:
 
     def open_upload(self, manifest: Manifest) -> Manifest:
         """Write the first manifest of a finished upload."""
-        write_json_atomic(self.incoming / manifest.id / MANIFEST, manifest.to_json())
+        self._write_manifest(self.incoming / manifest.id / MANIFEST, manifest)
         return manifest
 
     def discard(self, cat_id: str) -> None:
@@ -173,6 +192,8 @@ class Store:
 
     def get(self, cat_id: str) -> Manifest:
         """The manifest of a catalogue; NotFound if there is none."""
+        if cat_id in self._unsaved:
+            return self._unsaved[cat_id]
         path = self._manifest_path(cat_id)
         if path is None:
             raise NotFound(f"no catalogue '{cat_id}'; GET /api/catalogues lists them")
@@ -193,7 +214,7 @@ class Store:
         """Change fields of a manifest that is still in ``incoming/`` and write it atomically."""
         with self._lock:
             manifest = replace(self.get(cat_id), **changes)
-            write_json_atomic(self.incoming / cat_id / MANIFEST, manifest.to_json())
+            self._write_manifest(self.incoming / cat_id / MANIFEST, manifest)
             return manifest
 
     def claim(self, cat_id: str, expected: Status, **changes: Any) -> Manifest:
@@ -232,13 +253,21 @@ class Store:
             return manifest
 
     def fail(self, cat_id: str, error: str) -> Manifest:
-        """Mark the catalogue failed with a one-line reason; drop its upload and partial output."""
+        """Mark the catalogue failed with a one-line reason; drop its upload and partial output.
+
+        The output goes first (on a full disk that frees the room for the manifest); when even
+        the manifest cannot be written, the failure is kept in memory until the next start."""
         with self._lock:
-            manifest = self.update(cat_id, status="failed", error=error)
             for child in (self.incoming / cat_id).iterdir():
                 if child.name != MANIFEST:
-                    self._remove(child)
-            return manifest
+                    with suppress(OSError):
+                        self._remove(child)
+            try:
+                return self.update(cat_id, status="failed", error=error)
+            except StorageError:
+                failed = replace(self.get(cat_id), status="failed", error=error)
+                self._unsaved[cat_id] = failed
+                return failed
 
     def delete(self, cat_id: str) -> None:
         """Remove a catalogue and its saved views; Conflict while it is being ingested."""
@@ -277,6 +306,14 @@ class Store:
             return
         if manifest.status == "ingesting":
             self.fail(manifest.id, KILLED)
+
+    @staticmethod
+    def _write_manifest(path: Path, manifest: Manifest) -> None:
+        """Write a manifest atomically; a full or read-only disk becomes StorageError."""
+        try:
+            write_json_atomic(path, manifest.to_json())
+        except OSError as err:
+            raise storage_error(err) from err
 
     def _manifest_path(self, cat_id: str) -> Path | None:
         """Where the manifest of ``cat_id`` is, or None."""

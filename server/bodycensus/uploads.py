@@ -10,6 +10,7 @@ from __future__ import annotations
 import os
 import re
 import unicodedata
+from contextlib import suppress
 from dataclasses import dataclass
 from pathlib import Path
 from typing import BinaryIO
@@ -20,7 +21,7 @@ from starlette.concurrency import run_in_threadpool
 from starlette.requests import ClientDisconnect, Request
 
 from bodycensus.errors import BadInput, TooLarge
-from bodycensus.store import Store
+from bodycensus.store import Store, storage_error
 
 FIELD = "file"
 FORMATS = (".csv", ".tsv", ".tab", ".txt", ".ndjson", ".jsonl", ".parquet", ".pq")
@@ -143,10 +144,13 @@ async def receive_upload(request: Request, store: Store, max_bytes: int) -> Uplo
     try:
         size = await _pump(request, MultipartParser(boundary, receiver.callbacks()), receiver,
                            max_bytes)
+        return _finish(receiver, store, size)
+    except OSError as err:  # the data directory is full or not writable
+        _abort(receiver, store)
+        raise storage_error(err) from err
     except BaseException:
         _abort(receiver, store)
         raise
-    return _finish(receiver, store, size)
 
 
 async def _pump(request: Request, parser: MultipartParser, receiver: _Receiver,
@@ -197,11 +201,12 @@ def _finish(receiver: _Receiver, store: Store, size: int) -> Upload:
 
 
 def _abort(receiver: _Receiver, store: Store) -> None:
-    """Close and delete whatever part of the upload reached the disk."""
-    if receiver.handle is not None:
-        receiver.handle.close()
-    if receiver.upload is not None:
-        store.discard(receiver.upload[0])
+    """Close and delete whatever part of the upload reached the disk (as far as the disk lets)."""
+    with suppress(OSError):
+        if receiver.handle is not None:
+            receiver.handle.close()
+        if receiver.upload is not None:
+            store.discard(receiver.upload[0])
 
 
 def _boundary(request: Request) -> bytes:
