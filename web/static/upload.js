@@ -42,6 +42,7 @@ function upload(file) {
   stage.textContent = `Uploading ${file.name}…`;
   const xhr = new XMLHttpRequest();
   xhr.open("POST", "/api/catalogues");
+  xhr.setRequestHeader("X-Requested-With", "XMLHttpRequest"); // the server refuses cookie uploads without it (cross-site check)
   xhr.upload.addEventListener("progress", (event) => {
     if (!event.lengthComputable) return;
     bar.value = event.loaded / event.total;
