@@ -215,3 +215,14 @@ def test_another_origin_cannot_upload_or_post(browser: Browser, base_url: str) -
     finally:
         context.close()
     assert httpx.get(f"{base_url}/api/catalogues").json()["items"] == before
+
+
+def test_the_policy_lets_the_diagram_chooser_submit(page: Page, guarded_url: str,
+                                                    catalogue: str) -> None:
+    # diagrams.html's one inline handler runs under the policy (allowed by its hash only)
+    page.goto(f"{guarded_url}/catalogues/{catalogue}/diagrams?diagram=distributions")
+    page.wait_for_selector("#figure[data-drawn=true]", timeout=30_000)
+    with page.expect_navigation():
+        page.select_option("#diagram-form select[name=label]", "terrestrial world")
+    assert "label=terrestrial+world" in page.url
+    _assert_clean(page)
