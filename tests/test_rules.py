@@ -323,3 +323,15 @@ def test_unit_slip_does_not_cascade_into_roche_rules(tmp_path: Path) -> None:
                        "period": kepler_period(0.5 * AU, M_SUN, M_EARTH)}]
     result = run(rows, tmp_path)
     assert set(result.findings["rule"]) == {"unit-slip"}
+
+
+def test_bodies_in_a_parent_loop_get_no_orbit_findings(tmp_path: Path) -> None:
+    rows = [{**EARTH_LIKE, "id": "A", "parent": "B", "mass": 2 * M_EARTH, "period": 1.0},
+            {**EARTH_LIKE, "id": "B", "parent": "A", "period": 1.0}]
+    assert set(run(rows, tmp_path).findings["rule"]) == {"parent-cycle"}
+
+
+def test_white_dwarf_beyond_the_curve_is_over_chandrasekhar_only(tmp_path: Path) -> None:
+    # Nauenberg 1972's radius vanishes at 1.454 M_sun, so no density band exists beyond it.
+    rows = [_remnant("heavy", "white_dwarf", 1.6 * M_SUN, 3e6)]
+    assert set(run(rows, tmp_path).findings["rule"]) == {"over-chandrasekhar"}

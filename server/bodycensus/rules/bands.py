@@ -40,7 +40,8 @@ def _band_edge(side: str) -> pl.Expr:
         condition = pl.col("family") == family
         expr = pl.when(condition).then(edge) if expr is None else expr.when(condition).then(edge)
     assert expr is not None
-    return expr.otherwise(None)
+    edge = expr.otherwise(None)
+    return pl.when(edge.is_finite()).then(edge)  # a curve past its validity has no band
 
 
 def band_columns() -> list[pl.Expr]:

@@ -46,8 +46,8 @@ class Rule:
         applies = pl.col("_row").is_not_null()  # a column, so that sums count rows
         if self.families is not None:
             applies = pl.col("family").is_in(sorted(self.families))
-        if self.scope == "orbit":
-            applies = applies & pl.col("parent").is_not_null()
+        if self.scope == "orbit":  # a looping chain of parents has no meaningful orbit
+            applies = applies & pl.col("parent").is_not_null() & ~pl.col("_in_cycle")
         return applies
 
     def judged(self) -> pl.Expr:
