@@ -230,12 +230,29 @@ def edge_bins(s: np.ndarray, side: str, config: ArtefactConfig) -> np.ndarray:
 
 
 def _tail_expected(inside: np.ndarray, n_beyond: int) -> float:
-    """Count a geometric tail predicts in ``n_beyond`` bins past an end from the three bins inside
-    (end first): c0 times powers of (c0 + c1) / (c1 + c2), capped at 1 (no rise past an end)."""
+    """Count a smooth tail predicts in ``n_beyond`` bins past an end, from the three bins inside
+    (end first). Two tail models, and the smaller prediction wins, so a steep smooth tail is not
+    taken for a cutoff: geometric, c0 times powers of (c0 + c1) / (c1 + c2); and Gaussian, the
+    log-counts extrapolated with their curvature (a log-normal's tail in log space). Each step is
+    capped at a ratio of 1 (no rise past an end)."""
     if inside[1] + inside[2] <= 0:
         return 0.0
     ratio = min(1.0, (inside[0] + inside[1]) / (inside[1] + inside[2]))
-    return float(inside[0] * np.sum(ratio ** np.arange(1, n_beyond + 1)))
+    geometric = float(inside[0] * np.sum(ratio ** np.arange(1, n_beyond + 1)))
+    return min(geometric, _gaussian_tail(inside, n_beyond))
+
+
+def _gaussian_tail(inside: np.ndarray, n_beyond: int) -> float:
+    """Extrapolate log-counts past the end with their slope and curvature (half a count added to
+    each bin keeps empty bins finite)."""
+    logs = np.log(inside[:3] + 0.5)
+    step, curvature = logs[0] - logs[1], min(0.0, logs[0] - 2 * logs[1] + logs[2])
+    level, total = logs[0], 0.0
+    for _ in range(n_beyond):
+        step = min(step + curvature, 0.0)
+        level += step
+        total += float(np.exp(level))
+    return total
 
 
 def _cutoffs(s: np.ndarray, spikes: list, unit: str, config: ArtefactConfig) -> list:

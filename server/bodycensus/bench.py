@@ -39,7 +39,8 @@ def _stage(name: str, workdir: str, queue: multiprocessing.Queue) -> None:
     folder = Path(workdir)
     csv, normalised, bodies = folder / "demo.csv", folder / "norm.parquet", folder / "bodies.parquet"
     jobs: dict[str, Callable[[], object]] = {
-        "baseline read+write": lambda: pl.read_csv(csv).write_parquet(folder / "base.parquet"),
+        "baseline read+write": lambda: pl.read_csv(csv, infer_schema=False).write_parquet(
+            folder / "base.parquet"),
         "ingest": lambda: ingest(csv, normalised),
         "baseline pass": lambda: pl.scan_parquet(normalised).with_columns(
             d=pl.col("mass") / pl.col("radius") ** 3).filter(pl.col("d") > 1).collect(),
@@ -56,9 +57,10 @@ def _run_stage(name: str, workdir: Path) -> tuple[float, float]:
     queue = context.Queue()
     child = context.Process(target=_stage, args=(name, str(workdir), queue))
     child.start()
-    result = queue.get()
     child.join()
-    return result
+    if child.exitcode != 0:
+        raise RuntimeError(f"bench stage '{name}' failed (exit code {child.exitcode})")
+    return queue.get(timeout=5)
 
 
 def run_bench(n_bodies: int, seed: int, workdir: Path | None) -> int:

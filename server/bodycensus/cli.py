@@ -123,7 +123,8 @@ def score_demo(catalogue: Path, truth: Path) -> str:
         ids = pl.scan_parquet(result.bodies).select("id").collect()["id"]
         truth_table = pl.read_csv(truth, infer_schema_length=0).with_columns(
             pl.col("at").cast(pl.Float64, strict=False))
-        return score_text(score(result.findings, result.artefacts, truth_table, ids))
+        return score_text(score(result.findings, result.artefacts, truth_table, ids,
+                                result.families))
 
 
 def _bench(args: argparse.Namespace) -> int:

@@ -36,21 +36,28 @@ class Score:
 
 
 def score(findings: pl.DataFrame, artefacts: pl.DataFrame, truth: pl.DataFrame,
-          body_ids: pl.Series) -> Score:
-    """Compare one run's findings and artefacts with the demo's truth table."""
+          body_ids: pl.Series, families: dict[str, str]) -> Score:
+    """Compare one run's findings and artefacts with the demo's truth table. A family-level
+    artefact echoing a planted one (same kind and field, the planted label's family) is no extra."""
     planted = truth.filter(pl.col("kind") == "rule").select("rule", "body").unique()
     hits = findings.select("rule", "body").unique().with_columns(pl.lit(True).alias("hit"))
     matched = planted.join(hits, on=["rule", "body"], how="left")
     by_rule = (matched.group_by("rule")
                .agg(pl.len().alias("planted"), pl.col("hit").fill_null(False).sum().alias("found"))
                .with_columns((pl.col("found") / pl.col("planted")).alias("recall")).sort("rule"))
-    reported = (artefacts.filter(pl.col("scope") == "label")
-                .select(pl.col("kind"), pl.col("label"), pl.col("field")).unique())
+    reported = artefacts.select("scope", "kind", "label", "field").unique()
     wanted = truth.filter(pl.col("kind") == "artefact").select(
         pl.col("rule").alias("kind"), "label", "field")
-    found = wanted.join(reported.with_columns(pl.lit(True).alias("found")),
+    found = wanted.join(reported.filter(scope="label").drop("scope")
+                        .with_columns(pl.lit(True).alias("found")),
                         on=["kind", "label", "field"], how="left")
-    extra = reported.join(wanted, on=["kind", "label", "field"], how="anti")
+    echoes = wanted.with_columns(pl.col("label").replace_strict(families, default=None))
+    extra = pl.concat([
+        reported.filter(scope="label").drop("scope").join(wanted, on=["kind", "label", "field"],
+                                                          how="anti"),
+        reported.filter(scope="family").drop("scope").join(echoes, on=["kind", "label", "field"],
+                                                           how="anti"),
+    ])
     planted_bodies = truth["body"].drop_nulls().unique().implode()
     clean = body_ids.filter(~body_ids.is_in(planted_bodies))
     false_serious = findings.filter(pl.col("severity").is_in(SERIOUS)
