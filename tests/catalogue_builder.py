@@ -9,7 +9,6 @@ from pathlib import Path
 from typing import Any
 
 import polars as pl
-
 from bodycensus.engines.local import CheckOptions, CheckResult, check_table
 from bodycensus.physics.orbits import kepler_period
 from bodycensus.schema import CANONICAL_FIELDS, FIELD_TYPES

@@ -134,8 +134,8 @@ def test_artefacts_are_where_the_truth_says(demo: Demo) -> None:
 
 
 def test_gap_holds_even_for_an_ice_giant_locked_into_thefamily_band() -> None:
-    from bodycensus.demo_kinds import CODE
-    from bodycensus.demo_population import GAP_SPIN, _spin
+    from bodycensus.demo.kinds import CODE
+    from bodycensus.demo.population import GAP_SPIN, _spin
 
     parent_mass = np.array([0.3 * M_SUN])
     mass, radius = np.array([15 * M_EARTH]), np.array([2.5e7])

@@ -9,7 +9,6 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
-
 from bodycensus.engines.local import CheckOptions, check_file
 from bodycensus.families import FAMILIES
 from bodycensus.physics import bodies, orbits

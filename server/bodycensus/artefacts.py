@@ -92,7 +92,7 @@ def conditional_p(observed: int, expected: float, reference: float) -> float:
     """Conditional test of two Poisson counts (Przyborowski & Wilenski 1940): P(>= ``observed``
     here | the total), the model expecting ``expected`` here per ``reference`` counted where it
     was fitted. It carries the fit's noise: a few values cannot give a tiny p."""
-    total = int(round(observed + reference))
+    total = round(observed + reference)
     return binomial_sf(observed, total, expected / (expected + reference))
 
 
@@ -145,11 +145,11 @@ def make_grid(s: np.ndarray, step: float, config: ArtefactConfig) -> Grid | None
     width = _fd_width(t, len(s), config)
     if step > 0 and (s[0] * (10**width - 1) if log else width) < step:
         width = step * max(1, round(_fd_width(q, len(s), config) / step))
-        n_bins = int(math.ceil((s[-1] - s[0] + step) / width))
+        n_bins = math.ceil((s[-1] - s[0] + step) / width)
         edges, log = s[0] - step / 2 + width * np.arange(n_bins + 1), False
         discrete = (s[-1] - s[0]) / step < config.max_levels
     else:
-        t_edges = np.linspace(t[2], t[3], max(1, int(math.ceil((t[3] - t[2]) / width))) + 1)
+        t_edges = np.linspace(t[2], t[3], max(1, math.ceil((t[3] - t[2]) / width)) + 1)
         edges, discrete, width = (10**t_edges if log else t_edges), False, t_edges[1] - t_edges[0]
         edges[0], edges[-1] = s[0], s[-1]
     return Grid(edges, _bin_counts(s, edges), log, discrete, step, width)
@@ -171,8 +171,8 @@ def _runs(s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 def _row(kind: str, at: float, low: float, high: float, observed: int, expected: float,
          evidence: str, p: float) -> dict:
     """One raw detection, before the false-discovery control."""
-    return dict(kind=kind, at=float(at), low=float(low), high=float(high), observed=observed,
-                expected=float(expected), evidence=evidence, p_value=p)
+    return {"kind": kind, "at": float(at), "low": float(low), "high": float(high), "observed": observed,
+                "expected": float(expected), "evidence": evidence, "p_value": p}
 
 
 def _neighbour_counts(counts: np.ndarray, hits: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

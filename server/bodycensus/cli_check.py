@@ -138,8 +138,8 @@ def json_document(result: CheckResult, source: Path, findings: pl.DataFrame) -> 
 def table_text(result: CheckResult, source: Path, findings: pl.DataFrame, limit: int) -> str:
     """A readable report: counts, the most serious findings, artefacts, rule coverage."""
     summary = result.summary
-    lines = [f"{source.name}: {summary['rows']:,} bodies, {summary['findings']:,} findings "
-             f"on {summary['bodies_with_findings']:,} bodies, {summary['artefacts']} artefacts"]
+    lines = [(f"{source.name}: {summary['rows']:,} bodies, {summary['findings']:,} findings "
+             f"on {summary['bodies_with_findings']:,} bodies, {summary['artefacts']} artefacts")]
     lines.append("  " + "  ".join(f"{sev} {n:,}" for sev, n in summary["by_severity"].items()))
     if summary["unmapped_labels"]:
         lines.append("  labels with no family (use --family LABEL=FAMILY): "

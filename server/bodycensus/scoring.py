@@ -68,8 +68,8 @@ def score(findings: pl.DataFrame, artefacts: pl.DataFrame, truth: pl.DataFrame,
 
 def score_text(result: Score) -> str:
     """A readable report of a score."""
-    lines = [f"rule defects: {result.by_rule['found'].sum()} of {result.by_rule['planted'].sum()}"
-             f" found (recall {result.recall:.3f})"]
+    lines = [(f"rule defects: {result.by_rule['found'].sum()} of {result.by_rule['planted'].sum()}"
+             f" found (recall {result.recall:.3f})")]
     for row in result.by_rule.filter(pl.col("recall") < 1).iter_rows(named=True):
         lines.append(f"  missed: {row['rule']} {row['planted'] - row['found']} of {row['planted']}")
     for row in result.artefacts.iter_rows(named=True):

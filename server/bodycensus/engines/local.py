@@ -25,6 +25,7 @@ from bodycensus.rules.context import derive
 from bodycensus.rules.graph import cycle_members
 from bodycensus.rules.orbit import OrbitSettings
 
+
 class Progress(Protocol):
     """Told each stage's start (fraction 0) and end (1), with the row count once it is known."""
 

@@ -10,7 +10,6 @@ from dataclasses import dataclass
 
 from bodycensus.physics._ops import Num, as_float, clip_min, log10
 from bodycensus.units import (
-    G,
     G0,
     L_SUN,
     M_EARTH,
@@ -20,6 +19,7 @@ from bodycensus.units import (
     R_JUPITER,
     R_SUN,
     SPEED_OF_LIGHT,
+    G,
 )
 
 # --- published limits ------------------------------------------------------------------------

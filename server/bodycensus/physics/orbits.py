@@ -9,7 +9,7 @@ import math
 
 from bodycensus.physics._ops import Num, log
 from bodycensus.physics.bodies import bulk_density, surface_gravity
-from bodycensus.units import G, HOUR
+from bodycensus.units import HOUR, G
 
 # Roche coefficients: d = c R_M (rho_M / rho_m)^(1/3).
 RIGID_ROCHE_COEFFICIENT = 2.0 ** (1.0 / 3.0)  # = 1.26; rigid sphere (Shu 1982, The Physical Universe)

@@ -12,9 +12,10 @@ from bodycensus.rules.orbit import OrbitSettings, orbit_rules
 from bodycensus.rules.statistics import statistics_rules
 
 
-def all_rules(orbit_settings: OrbitSettings = OrbitSettings()) -> tuple[Rule, ...]:
-    """Every rule, errors first."""
-    return (*error_rules(), *body_rules(), *orbit_rules(orbit_settings), *statistics_rules())
+def all_rules(orbit_settings: OrbitSettings | None = None) -> tuple[Rule, ...]:
+    """Every rule, errors first (orbit thresholds at their defaults unless given)."""
+    settings = orbit_settings or OrbitSettings()
+    return (*error_rules(), *body_rules(), *orbit_rules(settings), *statistics_rules())
 
 
 RULE_IDS: tuple[str, ...] = tuple(rule.id for rule in all_rules())

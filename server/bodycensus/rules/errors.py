@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import polars as pl
 
-from bodycensus.rules.base import Rule, fmt
 from bodycensus.rules.bands import band_high, band_low
+from bodycensus.rules.base import Rule, fmt
 
 _NONE = pl.lit(None, dtype=pl.Float64)
 _POSITIVE_FIELDS = ("mass", "radius", "semi_major_axis", "period", "rotation_period")

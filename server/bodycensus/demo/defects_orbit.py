@@ -12,9 +12,9 @@ from collections.abc import Callable
 
 import numpy as np
 
-from bodycensus.demo_kinds import CODE, MOON_CODE0, MOON_CURVES, PLANET_CODE0
-from bodycensus.demo_planter import Planter
-from bodycensus.demo_stars import age_seconds
+from bodycensus.demo.kinds import CODE, MOON_CODE0, MOON_CURVES, PLANET_CODE0
+from bodycensus.demo.planter import Planter
+from bodycensus.demo.stars import age_seconds
 from bodycensus.physics import bodies, orbits
 from bodycensus.units import M_EARTH
 

@@ -10,8 +10,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from bodycensus.demo_kinds import MOON_CODE0, PLANET_CODE0, QUALITY, RIGIDITY, lognormal
-from bodycensus.demo_stars import age_seconds
+from bodycensus.demo.kinds import MOON_CODE0, PLANET_CODE0, QUALITY, RIGIDITY, lognormal
+from bodycensus.demo.stars import age_seconds
 from bodycensus.physics import orbits
 
 Table = dict[str, np.ndarray]

@@ -11,8 +11,8 @@ from collections.abc import Callable
 
 import numpy as np
 
-from bodycensus.demo_kinds import CODE
-from bodycensus.demo_planter import Planter
+from bodycensus.demo.kinds import CODE
+from bodycensus.demo.planter import Planter
 from bodycensus.physics import bodies, orbits
 from bodycensus.units import M_JUPITER, M_SUN
 

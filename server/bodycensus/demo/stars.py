@@ -10,7 +10,7 @@ from collections.abc import Callable
 
 import numpy as np
 
-from bodycensus.demo_kinds import (
+from bodycensus.demo.kinds import (
     COMPANION_SHARES,
     MAIN_SEQUENCE,
     PRIMARY_SHARES,

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from bodycensus.demo_kinds import lognormal
+from bodycensus.demo.kinds import lognormal
 from bodycensus.physics import orbits
 
 HILL_SPACING = (25.0, 0.15)  # mutual Hill radii: median, sigma (Kepler multis, order of magnitude)

@@ -15,12 +15,12 @@ from pathlib import Path
 import numpy as np
 import polars as pl
 
-from bodycensus.demo_defects_body import BODY_PLANTINGS
-from bodycensus.demo_defects_orbit import ORBIT_PLANTINGS
-from bodycensus.demo_kinds import LABELS
-from bodycensus.demo_names import body_names, system_names
-from bodycensus.demo_planter import Planter
-from bodycensus.demo_population import CUTOFF_RADIUS, GAP_SPIN, SPIKE_MASS, population
+from bodycensus.demo.defects_body import BODY_PLANTINGS
+from bodycensus.demo.defects_orbit import ORBIT_PLANTINGS
+from bodycensus.demo.kinds import LABELS
+from bodycensus.demo.names import body_names, system_names
+from bodycensus.demo.planter import Planter
+from bodycensus.demo.population import CUTOFF_RADIUS, GAP_SPIN, SPIKE_MASS, population
 from bodycensus.units import AU, DAY, HOUR, L_SUN, M_EARTH
 
 BODIES_PER_SYSTEM = 6.0  # about what population() yields; used to size the first attempt

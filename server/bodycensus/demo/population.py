@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from bodycensus.demo_kinds import (
+from bodycensus.demo.kinds import (
     ASTEROID_DENSITY,
     ASTEROID_RADIUS_KM,
     CODE,
@@ -25,8 +25,8 @@ from bodycensus.demo_kinds import (
     RIGIDITY,
     lognormal,
 )
-from bodycensus.demo_orbits import edge_factor, group_starts, noisy_period, place
-from bodycensus.demo_stars import age_seconds, redraw, systems
+from bodycensus.demo.orbits import edge_factor, group_starts, noisy_period, place
+from bodycensus.demo.stars import age_seconds, redraw, systems
 from bodycensus.physics import bodies, orbits
 from bodycensus.units import AU, HOUR, L_SUN, M_EARTH, M_SUN
 

@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy as np
 import polars as pl
 
-from bodycensus.demo_kinds import PLANET_CODE0
+from bodycensus.demo.kinds import PLANET_CODE0
 
 _ONSETS = ("Ka", "Ve", "Lor", "Tis", "Um", "Qar", "Mo", "Zeth", "Quo", "Bri", "Ost", "Nel",
            "Fa", "Dru", "Iv", "Sel", "Hen", "Oru", "Yav", "Cel")
