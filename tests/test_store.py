@@ -151,3 +151,14 @@ def test_delete_removes_catalogue_and_its_views(tmp_path: Path) -> None:
     assert store.list_views(ready.id) == [] and store.get_view(kept.slug) == kept
     assert [m.id for m in store.list()] == [other.id]
     assert list((tmp_path / "tmp").iterdir()) == []
+
+
+def test_default_data_dir_is_never_the_working_directory(monkeypatch, tmp_path) -> None:
+    from bodycensus.settings import Settings, default_data_dir
+
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.delenv("BODYCENSUS_DATA", raising=False)
+    monkeypatch.setenv("XDG_DATA_HOME", str(tmp_path / "xdg"))
+    assert default_data_dir() == tmp_path / "xdg" / "bodycensus"
+    monkeypatch.setenv("BODYCENSUS_DATA", str(tmp_path / "here"))
+    assert Settings.from_cli(data_dir=None).data_dir == tmp_path / "here"

@@ -30,8 +30,9 @@ def _add_serve(commands: argparse._SubParsersAction) -> None:
     serve.add_argument("--host", default="127.0.0.1",
                        help="address to listen on (default 127.0.0.1; any other needs --token)")
     serve.add_argument("--port", type=int, default=8000, help="port (default 8000)")
-    serve.add_argument("--data-dir", type=Path, default=Path("bodycensus-data"),
-                       help="where catalogues and saved views live (default ./bodycensus-data)")
+    serve.add_argument("--data-dir", type=Path, default=None,
+                       help="where catalogues and saved views live (default $BODYCENSUS_DATA, "
+                            "else ~/.local/share/bodycensus)")
     serve.add_argument("--demo", action="store_true",
                        help="load the bundled demo catalogue so a first look needs no file")
     serve.add_argument("--token", default=None,

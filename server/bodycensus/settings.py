@@ -29,11 +29,13 @@ class Settings:
     workers: int = 2  # ingest threads; 2 suits a 2-core machine shared with readers
 
     @classmethod
-    def from_cli(cls, *, data_dir: Path, token: str | None = None, **options: Any) -> Settings:
-        """Settings for ``bodycensus serve``: an absolute data dir, the token from the
-        environment (``BODYCENSUS_TOKEN``) when the option is not given."""
+    def from_cli(cls, *, data_dir: Path | None, token: str | None = None,
+                 **options: Any) -> Settings:
+        """Settings for ``bodycensus serve``: an absolute data dir (``default_data_dir()``
+        when none is given), the token from ``BODYCENSUS_TOKEN`` when the option is not given."""
         token = token or os.environ.get(TOKEN_ENV) or None
-        return cls(data_dir=Path(data_dir).resolve(), token=token, **options)
+        folder = Path(data_dir) if data_dir is not None else default_data_dir()
+        return cls(data_dir=folder.resolve(), token=token, **options)
 
     def listen_problem(self) -> str | None:
         """Why the server must not start with these settings (None when it may)."""
@@ -43,6 +45,16 @@ class Settings:
             return (f"refusing to listen on {self.host} without an access token; pass --token or "
                     f"set {TOKEN_ENV}, or listen on 127.0.0.1")
         return None
+
+
+def default_data_dir() -> Path:
+    """Where catalogues live unless told: ``$BODYCENSUS_DATA``, else the user's data folder
+    (``$XDG_DATA_HOME/bodycensus``, by default ``~/.local/share/bodycensus``); never the
+    working directory, so the server finds the same catalogues wherever it is started."""
+    if os.environ.get("BODYCENSUS_DATA"):
+        return Path(os.environ["BODYCENSUS_DATA"])
+    base = os.environ.get("XDG_DATA_HOME") or Path.home() / ".local" / "share"
+    return Path(base) / "bodycensus"
 
 
 def is_loopback(host: str) -> bool:
