@@ -21,6 +21,7 @@ from pathlib import Path
 
 import polars as pl
 
+from bodycensus.durable import fsync_path
 from bodycensus.readers import (
     HEAD_BYTES,
     IngestError,
@@ -185,15 +186,6 @@ def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping) -> pl.L
                     .alias("_bad"), *(_output_name(c) for c in mapping.unknown_columns)))
 
 
-def _fsync(path: Path) -> None:
-    """Flush a file (or directory) to disk."""
-    fd = os.open(path, os.O_RDONLY)
-    try:
-        os.fsync(fd)
-    finally:
-        os.close(fd)
-
-
 def _write(plan: pl.LazyFrame, dest: Path, source: Path, max_rows: int,
            explain: Callable[[Exception], Exception]) -> int:
     """Stream ``plan`` to ``dest`` atomically (temp file, fsync, rename); the number of rows.
@@ -212,9 +204,9 @@ def _write(plan: pl.LazyFrame, dest: Path, source: Path, max_rows: int,
                           "catalogue or raise max_rows" if rows else
                           f"{source.name}: no data rows (only a header, or blank); "
                           "add at least one body to the file")
-    _fsync(tmp)
+    fsync_path(tmp)
     os.replace(tmp, dest)
-    _fsync(dest.parent)
+    fsync_path(dest.parent)
     return rows
 
 

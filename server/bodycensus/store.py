@@ -31,6 +31,7 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any, Literal
 
+from bodycensus.durable import fsync_path
 from bodycensus.errors import BodycensusError, Conflict, NotFound
 
 Status = Literal["mapping", "ingesting", "ready", "failed"]
@@ -78,15 +79,6 @@ def json_ready(value: Any) -> Any:
     return value
 
 
-def _fsync_dir(path: Path) -> None:
-    """Make a rename inside ``path`` durable."""
-    fd = os.open(path, os.O_RDONLY)
-    try:
-        os.fsync(fd)
-    finally:
-        os.close(fd)
-
-
 def write_json_atomic(path: Path, data: Any) -> None:
     """Write ``data`` as JSON to ``path``: temporary file, fsync, rename."""
     text = json.dumps(json_ready(data), ensure_ascii=False, allow_nan=False, indent=1)
@@ -99,7 +91,7 @@ def write_json_atomic(path: Path, data: Any) -> None:
         os.replace(tmp, path)
     finally:
         tmp.unlink(missing_ok=True)
-    _fsync_dir(path.parent)
+    fsync_path(path.parent)
 
 
 @dataclass(frozen=True)
@@ -248,7 +240,7 @@ class Store:
             work = self.incoming / cat_id / "work"
             write_json_atomic(work / MANIFEST, manifest.to_json())
             os.replace(work, self.catalogues / cat_id)
-            _fsync_dir(self.catalogues)
+            fsync_path(self.catalogues)
             self._remove(self.incoming / cat_id)
             return manifest
 

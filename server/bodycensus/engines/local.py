@@ -16,6 +16,7 @@ from typing import Any, Protocol
 import polars as pl
 
 from bodycensus import artefacts as artefact_detector
+from bodycensus.durable import fsync_path
 from bodycensus.engines.summary import build_summary
 from bodycensus.families import FAMILIES, family_mapping
 from bodycensus.ingest import IngestLimits, IngestReport, ingest
@@ -93,8 +94,7 @@ def _write_atomic(frame: pl.DataFrame | pl.LazyFrame, path: Path) -> None:
         frame.sink_parquet(tmp)
     else:
         frame.write_parquet(tmp)
-    with open(tmp, "rb") as handle:
-        os.fsync(handle.fileno())
+    fsync_path(tmp)
     os.replace(tmp, path)
 
 
