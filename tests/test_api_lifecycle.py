@@ -121,7 +121,8 @@ def _send_half_and_hang_up(base: str, data_dir: Path) -> set[str]:
     head = (b"--b\r\nContent-Disposition: form-data; name=\"file\"; filename=\"cut.csv\"\r\n\r\n"
             b"id\n" + b"z\n" * 100_000)
     with socket.create_connection((host, int(port))) as sock:
-        sock.sendall(b"POST /api/catalogues HTTP/1.1\r\nHost: x\r\nContent-Length: 1000000\r\n"
+        sock.sendall(b"POST /api/catalogues HTTP/1.1\r\nHost: 127.0.0.1\r\n"
+                     b"Content-Length: 1000000\r\n"
                      b"Content-Type: multipart/form-data; boundary=b\r\n\r\n" + head)
         time.sleep(0.3)  # let the server write the first part to disk before the hang-up
         return data_entries(data_dir)

@@ -29,7 +29,7 @@ from web_support import (
     wait_done,
 )
 
-OWN = "http://bodycensus.test"  # the base URL of asgi_client: this server's own origin
+OWN = "http://127.0.0.1"  # the base URL of asgi_client: this server's own origin
 EVIL = "http://evil.example"
 TOKEN = "s3cret-token-for-tests"
 HYPERLINK = '=HYPERLINK("http://example.invalid","x")'
@@ -55,7 +55,7 @@ def served(tmp_path_factory: pytest.TempPathFactory) -> Iterator[tuple[SyncClien
 
 
 @pytest.mark.parametrize("headers", [
-    {"Origin": EVIL}, {"Origin": "null"}, {"Origin": "http://bodycensus.test.evil.example"},
+    {"Origin": EVIL}, {"Origin": "null"}, {"Origin": "http://127.0.0.1.evil.example"},
     {"Referer": f"{EVIL}/page"}, {"Sec-Fetch-Site": "cross-site"},
     {"Origin": OWN, "Sec-Fetch-Site": "cross-site"},
 ], ids=["origin", "null-origin", "suffix-origin", "referer", "fetch-metadata", "both"])
@@ -249,3 +249,16 @@ def test_serve_flags_set_the_upload_limits(limited: httpx.Client) -> None:
     assert len(bomb) < 1 << 20
     reason = _refused_or_failed(limited, upload(limited, "bomb.csv.gz", bomb, auto=True), 413)
     assert "bomb.csv.gz" in reason or "decompress" in reason
+
+
+def test_dns_rebinding_host_is_refused_without_a_token(tmp_path: Path) -> None:
+    """A page on another site that rebinds its name to 127.0.0.1 arrives with that name in Host:
+    a token-less server answers only loopback names (and --allow-host ones)."""
+    app = create_app(Settings(data_dir=tmp_path, allowed_hosts=("dash.lab",)))
+    with asgi_client(app) as client:
+        for host in ("127.0.0.1:8000", "localhost", "[::1]:8000", "dash.lab:8000"):
+            assert client.get("/api/catalogues", headers={"Host": host}).status_code == 200, host
+        refused = client.get("/api/catalogues", headers={"Host": "rebind.evil.example:8000"})
+        assert refused.status_code == 421
+        assert refused.json()["error"] == "misdirected"
+        assert "--allow-host" in refused.json()["detail"]

@@ -93,7 +93,7 @@ def asgi_client(app: FastAPI) -> Iterator[SyncClient]:
     with anyio.from_thread.start_blocking_portal() as portal, \
             portal.wrap_async_context_manager(app.router.lifespan_context(app)):
         client = httpx.AsyncClient(transport=httpx.ASGITransport(app=app),
-                                   base_url="http://bodycensus.test")
+                                   base_url="http://127.0.0.1")
         try:
             yield SyncClient(portal, client)
         finally:

@@ -92,7 +92,8 @@ def create_app(settings: Settings) -> FastAPI:
     app.state.settings = settings
     app.state.templates = getattr(pages, "templates", None)
     install_error_handlers(app)
-    app.add_middleware(Guard, token=settings.token)
+    app.add_middleware(Guard, token=settings.token,
+                       allowed_hosts=frozenset(settings.allowed_hosts))
     app.include_router(auth.router)
     app.include_router(api.router)
     app.include_router(pages.router)

@@ -37,6 +37,9 @@ def _add_serve(commands: argparse._SubParsersAction) -> None:
                        help="load the bundled demo catalogue so a first look needs no file")
     serve.add_argument("--token", default=None,
                        help="access token required on every request (or BODYCENSUS_TOKEN)")
+    serve.add_argument("--allow-host", action="append", default=[], metavar="NAME",
+                       help="also answer requests addressed to NAME (repeatable); without a "
+                            "token only loopback names are answered, against DNS rebinding")
     limits = serve.add_argument_group("upload limits")
     limits.add_argument("--max-upload-mb", type=int, default=None,
                         help="largest upload in MiB, as sent (default 4096)")
@@ -95,7 +98,8 @@ def _serve(args: argparse.Namespace) -> int:
               "max_rows": args.max_rows, "max_columns": args.max_columns}
     settings = Settings.from_cli(
         host=args.host, port=args.port, data_dir=args.data_dir, demo=args.demo,
-        token=args.token, **{k: v for k, v in limits.items() if v is not None})
+        token=args.token, allowed_hosts=tuple(args.allow_host),
+        **{k: v for k, v in limits.items() if v is not None})
     serve(settings)
     return 0
 

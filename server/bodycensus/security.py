@@ -9,6 +9,11 @@ A pure ASGI middleware (no body buffering, so uploads still stream). In order:
    ``X-Requested-With`` header, which a cross-site form cannot;
 3. every answer carries a Content-Security-Policy, ``nosniff`` and no-framing headers.
 
+Without a token the server listens on loopback only, and a request must also name a loopback host
+(or one allowed with ``--allow-host``) in its Host header: a page on another site that rebinds its
+own DNS name to 127.0.0.1 (DNS rebinding) would otherwise read the catalogues as same-origin.
+With a token the HttpOnly cookie, bound to the real host name, already shuts that door.
+
 Static files stay open: they are the package's own code and styles, the same for every install,
 and hold no catalogue data; the login page needs its stylesheet before anyone has logged in.
 """
@@ -27,6 +32,7 @@ from bodycensus.errors import one_line
 
 UNSAFE_METHODS = frozenset({"POST", "PUT", "PATCH", "DELETE"})
 OPEN_PATHS = ("/login", "/static/")
+LOOPBACK_NAMES = frozenset({"127.0.0.1", "localhost", "::1"})
 CUSTOM_HEADER = "x-requested-with"
 # diagrams.html has one inline handler, onchange="this.form.submit()"; 'unsafe-hashes' allows
 # exactly that text (its sha256 below) and no other inline script. plotly.js needs no eval.
@@ -49,6 +55,14 @@ def _error(status: int, code: str, detail: str, headers: dict[str, str] | None =
     """The house error shape, as JSON."""
     return JSONResponse({"error": code, "detail": one_line(detail)}, status_code=status,
                         headers=headers)
+
+
+def host_name(headers: Headers) -> str:
+    """The Host header's name, without the port and IPv6 brackets, lower-cased."""
+    host = headers.get("host", "").lower()
+    if host.startswith("["):
+        return host[1:].split("]", 1)[0]
+    return host.rsplit(":", 1)[0] if host.count(":") == 1 else host
 
 
 def own_origin(scope: Scope, headers: Headers) -> str:
@@ -107,8 +121,10 @@ def _unauthorised(scope: Scope, headers: Headers) -> Response:
 class Guard:
     """ASGI middleware: token gate, cross-site request check, security headers (module doc)."""
 
-    def __init__(self, app: ASGIApp, token: str | None) -> None:
+    def __init__(self, app: ASGIApp, token: str | None,
+                 allowed_hosts: frozenset[str] = frozenset()) -> None:
         self.app, self.token = app, token
+        self.hosts = LOOPBACK_NAMES | {h.lower() for h in allowed_hosts}
 
     async def __call__(self, scope: Scope, receive: Receive, send: Send) -> None:
         if scope["type"] != "http":
@@ -116,6 +132,11 @@ class Guard:
             return
         send = _with_headers(send)
         headers = Headers(scope=scope)
+        if not self.token and host_name(headers) not in self.hosts:
+            detail = (f"host '{host_name(headers)}' is not this server's name; open it as "
+                      "http://127.0.0.1, or start it with --allow-host NAME")
+            await _error(421, "misdirected", detail)(scope, receive, send)
+            return
         how = credential(headers, self.token) if self.token else None
         if self.token and how is None and not scope["path"].startswith(OPEN_PATHS):
             await _unauthorised(scope, headers)(scope, receive, send)

@@ -27,6 +27,7 @@ class Settings:
     max_columns: int = 2_000  # columns in one catalogue
     demo: bool = False  # ensure the bundled demo catalogue exists at start-up
     workers: int = 2  # ingest threads; 2 suits a 2-core machine shared with readers
+    allowed_hosts: tuple[str, ...] = ()  # Host names accepted besides loopback (no token)
 
     @classmethod
     def from_cli(cls, *, data_dir: Path | None, token: str | None = None,
