@@ -157,6 +157,7 @@ def test_body_detail(checked: Path, findings: pl.DataFrame) -> None:
     system = body["system"]
     assert system["parent"]["id"] == "giant-0" and len(system["siblings"]) == 29
     assert system["children"] == [] and body["duplicates"] == 0
+    assert not [k for k in body["extra"] if k.startswith(("_", "inner_", "grandparent"))]
 
 
 def test_parent_lists_its_children_with_their_worst_severity(checked: Path,

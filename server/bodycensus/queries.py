@@ -16,6 +16,7 @@ import polars as pl
 from bodycensus.csvsafe import neutralise_formulas
 from bodycensus.errors import NotFound
 from bodycensus.rules.base import SEVERITIES
+from bodycensus.rules.context import DERIVED_COLUMNS, ENGINE_COLUMNS
 from bodycensus.schema import CANONICAL_FIELDS, ColumnChoice
 from bodycensus.store import json_ready
 from bodycensus.units import FIELD_DIMENSIONS, SI_UNIT
@@ -28,12 +29,6 @@ MAX_RELATIVES = 200  # siblings or children returned for the system drawing
 _SYSTEM_COLUMNS = ("id", "name", "label", "family", "parent", "mass", "radius",
                    "semi_major_axis", "eccentricity", "periapsis", "apoapsis", "roche_rigid",
                    "roche_fluid", "hill_radius")
-DERIVED_COLUMNS = frozenset({
-    "density", "gravity", "gravity_g0", "escape_speed", "periapsis", "apoapsis", "parent_mass",
-    "parent_radius", "parent_density", "parent_family", "roche_rigid", "roche_fluid",
-    "hill_radius", "parent_hill_radius", "stable_hill_limit", "kepler_period", "period_ratio",
-    "barycentre_offset", "tidal_lock_time", "roche_x", "roche_y", "hill_ratio",
-})
 
 
 def _severity_rank() -> pl.Expr:
@@ -128,12 +123,13 @@ def _system(cat_dir: Path, body_id: str, parent: str | None) -> dict[str, Any]:
     """The parent, siblings and children of a body, each with its worst severity."""
     lf = _scan(cat_dir, "bodies")
     cols = [c for c in _SYSTEM_COLUMNS if c in lf.collect_schema()]
-    children = lf.filter(pl.col("parent") == body_id).select(cols).head(MAX_RELATIVES).collect()
-    parent_df = siblings = pl.DataFrame(schema=children.schema)
+    related = pl.col("parent") == body_id  # children
     if parent is not None:
-        parent_df = lf.filter(pl.col("id") == parent).select(cols).head(1).collect()
-        siblings = (lf.filter((pl.col("parent") == parent) & (pl.col("id") != body_id))
-                    .select(cols).head(MAX_RELATIVES).collect())
+        related = related | (pl.col("id") == parent) | (pl.col("parent") == parent)
+    found = lf.filter(related & (pl.col("id") != body_id)).select(cols).collect()  # one scan
+    children = found.filter(pl.col("parent") == body_id).head(MAX_RELATIVES)
+    parent_df = found.filter(pl.col("id") == parent).head(1)
+    siblings = found.filter(pl.col("parent") == parent).head(MAX_RELATIVES)
     parts = {"parent": parent_df.to_dicts()[:1], "siblings": siblings.to_dicts(),
              "children": children.to_dicts()}
     worst = _worst(cat_dir, [r["id"] for rows in parts.values() for r in rows])
@@ -150,9 +146,10 @@ def body_detail(cat_dir: Path, body_id: str, mapping: dict[str, Any] | None) -> 
     if rows.height == 0:
         raise NotFound(f"no body with id '{body_id}' in this catalogue")
     row = rows.row(0, named=True)
-    hidden = set(CANONICAL_FIELDS) | {"_row", "_bad"}
+    hidden = set(CANONICAL_FIELDS) | set(ENGINE_COLUMNS) | {"_row", "_bad"}
     derived = {k: v for k, v in row.items() if k in DERIVED_COLUMNS}
-    extra = {k: v for k, v in row.items() if k not in hidden and k not in DERIVED_COLUMNS}
+    extra = {k: v for k, v in row.items()
+             if k not in hidden and k not in DERIVED_COLUMNS and not k.startswith("_")}
     findings = (_scan(cat_dir, "findings").filter(pl.col("body") == body_id)
                 .sort(_severity_rank(), pl.col("margin"), descending=[False, True],
                       nulls_last=True).collect().to_dicts())

@@ -162,6 +162,13 @@ def derive(table: pl.LazyFrame, cycle_ids: pl.Series | None = None) -> pl.LazyFr
     return _sibling_columns(_orbit_columns(_with_parent(with_body)))
 
 
+# Working columns the rules read that are neither catalogue fields nor derived quantities to show
+# (underscore-prefixed ones are working columns too).
+ENGINE_COLUMNS: tuple[str, ...] = (
+    "grandparent", "grandparent_mass", "parent_semi_major_axis", "parent_eccentricity",
+    "inner_id", "inner_a", "inner_mass", "inner_apoapsis",
+)
+
 DERIVED_COLUMNS: tuple[str, ...] = (
     "density", "gravity", "gravity_g0", "escape_speed", "periapsis", "apoapsis", "parent_mass",
     "parent_radius", "parent_density", "parent_family", "roche_rigid", "roche_fluid",
