@@ -179,3 +179,12 @@ def test_overview_has_coverage_and_artefacts(checked: Path) -> None:
     coverage = pl.read_parquet(checked / "coverage.parquet")
     assert len(result["coverage"]) == coverage.height > 0
     assert result["summary"] == {"rows": 3} and isinstance(result["artefacts"], list)
+
+
+def test_body_without_a_parent_has_an_empty_system_around_it(checked: Path) -> None:
+    # A star (no parent): no parent row and no siblings, and no warning (warnings are errors here).
+    star = queries.body_detail(checked, "giant-0", None)["system"]
+    assert star["parent"] is not None  # giant-0 orbits a star
+    root = star["parent"]["id"]
+    system = queries.body_detail(checked, root, None)["system"]
+    assert system["parent"] is None and system["siblings"] == []

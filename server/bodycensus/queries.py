@@ -128,8 +128,10 @@ def _system(cat_dir: Path, body_id: str, parent: str | None) -> dict[str, Any]:
         related = related | (pl.col("id") == parent) | (pl.col("parent") == parent)
     found = lf.filter(related & (pl.col("id") != body_id)).select(cols).collect()  # one scan
     children = found.filter(pl.col("parent") == body_id).head(MAX_RELATIVES)
-    parent_df = found.filter(pl.col("id") == parent).head(1)
-    siblings = found.filter(pl.col("parent") == parent).head(MAX_RELATIVES)
+    parent_df = siblings = found.clear()
+    if parent is not None:
+        parent_df = found.filter(pl.col("id") == parent).head(1)
+        siblings = found.filter(pl.col("parent") == parent).head(MAX_RELATIVES)
     parts = {"parent": parent_df.to_dicts()[:1], "siblings": siblings.to_dicts(),
              "children": children.to_dicts()}
     worst = _worst(cat_dir, [r["id"] for rows in parts.values() for r in rows])

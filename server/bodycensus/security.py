@@ -34,11 +34,9 @@ UNSAFE_METHODS = frozenset({"POST", "PUT", "PATCH", "DELETE"})
 OPEN_PATHS = ("/login", "/static/")
 LOOPBACK_NAMES = frozenset({"127.0.0.1", "localhost", "::1"})
 CUSTOM_HEADER = "x-requested-with"
-# diagrams.html has one inline handler, onchange="this.form.submit()"; 'unsafe-hashes' allows
-# exactly that text (its sha256 below) and no other inline script. plotly.js needs no eval.
-_HANDLER_HASH = "'sha256-osjxnKEPL/pQJbFk1dKsF7PYFmTyMWGmVSiL9inhxJY='"
+# No inline script anywhere (listeners live in web/static/*.js); plotly.js needs no eval.
 CSP = ("default-src 'self'; "
-       f"script-src 'self' 'unsafe-hashes' {_HANDLER_HASH}; "
+       "script-src 'self'; "
        "style-src 'self' 'unsafe-inline'; img-src 'self' data: blob:; font-src 'self' data:; "
        "connect-src 'self'; worker-src 'self' blob:; object-src 'none'; base-uri 'none'; "
        "form-action 'self'; frame-ancestors 'none'")

@@ -35,9 +35,18 @@ function scaleToggle() {
   }
 }
 
+// Choosing a field or label redraws the diagram (a listener, not an inline handler, so the
+// Content-Security-Policy allows no inline script at all).
+function submitOnChange() {
+  for (const select of document.querySelectorAll("select[data-submit-on-change]")) {
+    select.addEventListener("change", () => select.form.submit());
+  }
+}
+
 function start() {
   for (const div of document.querySelectorAll("[data-figure-id]")) draw(div);
   scaleToggle();
+  submitOnChange();
 }
 
 if (window.Plotly) start();
