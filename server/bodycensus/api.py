@@ -33,7 +33,7 @@ from bodycensus.uploads import FIELD, Upload, receive_upload
 from bodycensus.viewstate import MAX_LIMIT, ViewState
 
 _ERRORS: dict[int | str, dict[str, Any]] = {
-    code: {"model": ErrorOut} for code in (400, 404, 409, 413, 415, 422)
+    code: {"model": ErrorOut} for code in (400, 404, 409, 413, 415, 421, 422, 507)
 }
 router = APIRouter(prefix="/api", tags=["api"], responses=_ERRORS)
 
