@@ -112,7 +112,9 @@ def test_orbit_histograms_include_their_reference_values(aggs: dict[str, Any]) -
         for line in diagram["lines"]:
             assert diagram["edges"][0] < line["at"] < diagram["edges"][-1]
     assert [r["body"] for r in kepler["flagged"]] == ["moon-5"]
-    assert kepler["flagged"][0]["x"] == pytest.approx(math.log10(3.0))
+    # residual (P / P_Kepler - 1) in per cent, held at the +10 % end of the window
+    assert kepler["flagged"][0]["x"] == pytest.approx(10.0)
+    assert kepler["edges"][0] == pytest.approx(-10.0) and kepler["edges"][-1] == pytest.approx(10.0)
 
 
 def test_flagged_keeps_the_most_serious_finding_per_body(aggs: dict[str, Any]) -> None:

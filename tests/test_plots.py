@@ -97,7 +97,9 @@ def test_roche_plane_has_rigid_and_fluid_lines(aggs: dict[str, Any]) -> None:
 def test_orbit_margins_have_hill_and_kepler_lines(aggs: dict[str, Any]) -> None:
     fig = plots.orbits_figure(aggs)
     refs = {t["name"]: t for t in _meta(fig, "reference")}
-    assert set(refs) == {"Hill radius", "stable prograde limit (circular)", "Kepler's third law"}
+    assert set(refs) == {"Hill radius", "stable prograde limit (circular)", "Kepler's third law",
+                         "kepler-mismatch tolerance (-5 %)", "kepler-mismatch tolerance (+5 %)"}
+    assert refs["kepler-mismatch tolerance (+5 %)"]["x"] == [5.0, 5.0]
     assert refs["Kepler's third law"]["xaxis"] == "x2"
     assert refs["Hill radius"]["x"] == [0.0, 0.0]
 

@@ -23,6 +23,7 @@ from bodycensus.physics.orbits import (
     RIGID_ROCHE_COEFFICIENT,
     stable_hill_fraction,
 )
+from bodycensus.rules.orbit import OrbitSettings
 from bodycensus.units import M_EARTH, M_SUN, R_EARTH
 
 SEVERITIES: tuple[str, ...] = ("error", "impossible", "unstable", "suspect", "note")
@@ -45,19 +46,26 @@ DIAGRAM_RULES: dict[str, tuple[str, ...]] = {
 
 @dataclass(frozen=True)
 class Axis:
-    """One diagram coordinate: a column divided by ``scale``, on log10 when ``log``."""
+    """One diagram coordinate: a column divided by ``scale`` less ``offset``, on log10 when
+    ``log``; with a ``window``, the axis spans just it and values beyond sit at its ends."""
 
     column: str
     scale: float = 1.0
     log: bool = True
+    offset: float = 0.0
+    window: tuple[float, float] | None = None
 
     def expr(self) -> pl.Expr:
         """The coordinate as a polars expression (null where it is undefined)."""
-        value = pl.col(self.column) / self.scale
-        return binning.log10_positive(value) if self.log else binning.finite(value)
+        value = pl.col(self.column) / self.scale - self.offset
+        coordinate = binning.log10_positive(value) if self.log else binning.finite(value)
+        return coordinate.clip(*self.window) if self.window else coordinate
 
     def range_exprs(self, name: str) -> list[pl.Expr]:
         """Min and max of the column's usable raw values (cheaper than of the coordinate)."""
+        if self.window and not self.log:
+            low, high = ((end + self.offset) * self.scale for end in self.window)
+            return [pl.lit(low).alias(f"{name}__lo"), pl.lit(high).alias(f"{name}__hi")]
         col = pl.col(self.column)
         usable = col.is_finite() & (col > 0) if self.log else col.is_finite()
         return binning.range_exprs(name, col.filter(usable))
@@ -66,15 +74,18 @@ class Axis:
         """A raw value (e.g. a range end from ``range_exprs``) on this axis."""
         if raw is None:
             return None
-        return math.log10(raw / self.scale) if self.log else raw / self.scale
+        return math.log10(raw / self.scale) if self.log else raw / self.scale - self.offset
 
 
+KEPLER_WINDOW = (-10.0, 10.0)  # per cent
 DIAGRAM_AXES: dict[str, tuple[Axis, ...]] = {
     "density": (Axis("density"),),
     "mass_radius": (Axis("mass", M_EARTH), Axis("radius", R_EARTH)),
     "roche": (Axis("roche_x"), Axis("roche_y")),
     "hill": (Axis("hill_ratio"),),
-    "kepler": (Axis("period_ratio"),),
+    # Kepler residual in per cent, (P / P_Kepler - 1) x 100, in a +-10 % window: clean periods
+    # agree to a fraction of a per cent, so a log axis spanning the outliers shows one spike.
+    "kepler": (Axis("period_ratio", scale=0.01, log=False, offset=100.0, window=KEPLER_WINDOW),),
 }
 # Numeric fields offered in the distributions diagram, with their SI unit; linear ones listed.
 DISTRIBUTION_FIELDS: dict[str, str] = {
@@ -348,12 +359,15 @@ def _mass_radius_curves(x_edges: list[float]) -> list[dict[str, Any]]:
 
 
 def _orbit_lines(name: str) -> list[dict[str, Any]]:
-    """Reference values (log10) of the orbit-margin histograms."""
+    """Reference values of the orbit-margin histograms (Hill: log10 ratio; Kepler: residual %)."""
     if name == "hill":
         stable = float(stable_hill_fraction(0.0, 0.0))
         return [{"name": "Hill radius", "at": 0.0},
                 {"name": "stable prograde limit (circular)", "at": math.log10(stable)}]
-    return [{"name": "Kepler's third law", "at": 0.0}]
+    tolerance = 100.0 * OrbitSettings().kepler_tolerance
+    return [{"name": "Kepler's third law", "at": 0.0},
+            {"name": f"kepler-mismatch tolerance (-{tolerance:g} %)", "at": -tolerance},
+            {"name": f"kepler-mismatch tolerance (+{tolerance:g} %)", "at": tolerance}]
 
 
 def _distributions(bodies: pl.LazyFrame, fields: list[str], ranges: dict[str, tuple[Any, Any]],

@@ -237,19 +237,21 @@ def _margin_panel(diagram: dict[str, Any] | None, axes: tuple[str, str],
 
 
 def orbits_figure(aggs: dict[str, Any]) -> Figure:
-    """Orbit margins: apoapsis / Hill radius and period / Kepler period, side by side (log)."""
+    """Orbit margins side by side: apoapsis / Hill radius (log) and the Kepler period residual
+    in per cent (linear)."""
     hill, hill_axes = _margin_panel(aggs.get("hill"), ("x", "y"), "apoapsis / Hill radius")
-    kepler, kepler_axes = _margin_panel(aggs.get("kepler"), ("x2", "y2"), "period / Kepler period")
+    kepler, _ = _margin_panel(aggs.get("kepler"), ("x2", "y2"),
+                              "period residual (%)")
     if not hill and not kepler:
         return _empty("Orbit margins", "No orbiting body has the fields these margins need.")
     layout = _layout("Orbit margins", "apoapsis / parent's Hill radius", "bodies", bargap=0)
     layout["xaxis"]["domain"] = [0.0, 0.46]
     layout["xaxis2"] = {"domain": [0.54, 1.0], "anchor": "y2", "gridcolor": "#e3e3e3",
-                        "title": {"text": "period / Kepler period"}}
+                        "title": {"text": "period / Kepler period - 1 (%); beyond +-10 % at the "
+                                          "ends"}}
     layout["yaxis2"] = {"anchor": "x2", "gridcolor": "#e3e3e3", "title": {"text": "bodies"}}
-    for key, axes in (("xaxis", hill_axes), ("xaxis2", kepler_axes)):
-        if axes:
-            layout[key].update(log_ticks(axes[0]["edges"][0], axes[0]["edges"][-1]))
+    if hill_axes:
+        layout["xaxis"].update(log_ticks(hill_axes[0]["edges"][0], hill_axes[0]["edges"][-1]))
     return {"data": hill + kepler, "layout": layout}
 
 
