@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import polars as pl
 import pytest
 from bodycensus.engines.local import CheckOptions, check_file
 from bodycensus.families import FAMILIES
@@ -334,3 +335,14 @@ def test_white_dwarf_beyond_the_curve_is_over_chandrasekhar_only(tmp_path: Path)
     # Nauenberg 1972's radius vanishes at 1.454 M_sun, so no density band exists beyond it.
     rows = [_remnant("heavy", "white_dwarf", 1.6 * M_SUN, 3e6)]
     assert set(run(rows, tmp_path).findings["rule"]) == {"over-chandrasekhar"}
+
+
+def test_a_parent_with_a_broken_eccentricity_gives_its_moons_no_hill_verdict(
+        tmp_path: Path) -> None:
+    # e >= 1 is reported once (bad-eccentricity); a Hill radius built on it would be negative.
+    rows = [SUN_LIKE, {**EARTH_LIKE, "eccentricity": 1.5}, moon("m", 3.8e8)]
+    result = run(rows, tmp_path)
+    assert fired(result, "bad-eccentricity") == {"P": "error"}
+    assert not result.findings.filter(pl.col("body") == "m").height
+    hill = pl.read_parquet(result.bodies).filter(pl.col("id") == "m")["parent_hill_radius"]
+    assert hill.to_list() == [None]  # not a negative radius

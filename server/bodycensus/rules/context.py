@@ -21,7 +21,7 @@ _PARENT_COLUMNS = {
     "_trusted_density": "parent_density",
     "family": "parent_family",
     "semi_major_axis": "parent_semi_major_axis",
-    "eccentricity": "parent_eccentricity",
+    "_e": "parent_eccentricity",  # validated: 0 when absent, null when outside [0, 1)
     "parent": "grandparent",
 }
 
@@ -65,7 +65,6 @@ def _with_parent(table: pl.LazyFrame) -> pl.LazyFrame:
         .with_columns(
             positive("parent_semi_major_axis").alias("parent_semi_major_axis"),
             positive("parent_radius").alias("parent_radius"),
-            pl.col("parent_eccentricity").fill_null(0.0),
         )
     )
     grandparents = parents.select(
