@@ -220,3 +220,40 @@ def report_download(request: Request, catalogue_id: str, store: StoreDep) -> HTM
     name = f"bodycensus-{catalogue_id}-report.html"
     return HTMLResponse(body, headers={"Content-Disposition": f'attachment; filename="{name}"'})
 
+
+
+def systems_context(store: Store, cat_id: str, state: ViewState) -> dict[str, Any]:
+    """Systems: one server-side page of the systems, most serious first, filtered by worst."""
+    page = queries.systems_page(store.ready_dir(cat_id), state)
+    query = state.with_(sort=ViewState.sort).to_query()
+    prev_state = state.with_(offset=max(0, state.offset - state.limit))
+    next_state = state.with_(offset=state.offset + state.limit)
+    items = [{**item, "href": cat_url(cat_id, "systems", item["system"]),
+              "worst_href": (cat_url(cat_id, "bodies", item["worst_body"])
+                             if item["worst_body"] is not None else None),
+              "primary_href": (cat_url(cat_id, "bodies", item["primary"])
+                               if item["primary"] is not None else None)}
+             for item in page["items"]]
+    return {"screen": "systems", "catalogue": store.get(cat_id).to_json(), "state": state,
+            "page": {**page, "items": items}, "query": query,
+            "prev_href": cat_url(cat_id, "systems", state=prev_state) if state.offset else None,
+            "next_href": (cat_url(cat_id, "systems", state=next_state)
+                          if state.offset + state.limit < page["total"] else None)}
+
+
+@router.get("/catalogues/{catalogue_id}/systems", response_class=HTMLResponse)
+def systems_screen(request: Request, catalogue_id: str, store: StoreDep) -> HTMLResponse:
+    """Systems list: worst severity first, with a filter by worst severity and pages."""
+    state = ViewState.from_query(request.query_params)
+    return _render(request, "systems.html", **systems_context(store, catalogue_id, state))
+
+
+@router.get("/catalogues/{catalogue_id}/systems/{system:path}", response_class=HTMLResponse)
+def system_screen(request: Request, catalogue_id: str, system: str,
+                  store: StoreDep) -> HTMLResponse:
+    """One system: its bodies as an indented tree, each with its worst severity."""
+    detail = queries.system_detail(store.ready_dir(catalogue_id), system)
+    for row in detail["bodies"]:
+        row["href"] = cat_url(catalogue_id, "bodies", row["id"])
+    return _render(request, "system.html", screen="systems", system=detail,
+                   catalogue=store.get(catalogue_id).to_json())

@@ -23,7 +23,7 @@ from bodycensus.units import FIELD_DIMENSIONS, SI_UNIT
 from bodycensus.viewstate import ViewState
 
 __all__ = ["ViewState", "aggregates", "artefacts", "body_detail", "coverage", "export_findings",
-           "findings_page", "overview"]
+           "findings_page", "overview", "system_detail", "systems_page"]
 
 MAX_RELATIVES = 200  # siblings or children returned for the system drawing
 _SYSTEM_COLUMNS = ("id", "name", "label", "family", "parent", "mass", "radius",
@@ -195,3 +195,105 @@ def overview(cat_dir: Path, manifest: dict[str, Any]) -> dict[str, Any]:
         "artefacts": found,
     }
 
+
+NO_SYSTEM = "(no system)"  # the group of bodies whose system is blank
+MAX_SYSTEM_BODIES = 2000  # bodies listed on one system's page
+
+
+def _system_key(lf: pl.LazyFrame) -> pl.Expr:
+    """The system of each body, blanks (or a catalogue without the column) as NO_SYSTEM."""
+    column = pl.col("system") if "system" in lf.collect_schema() else pl.lit(None, pl.String)
+    return column.fill_null(NO_SYSTEM).alias("system")
+
+
+def _body_findings(cat_dir: Path) -> pl.LazyFrame:
+    """Per body: number of findings, the rank of its worst, and a count per severity."""
+    return (_scan(cat_dir, "findings").with_columns(_rank=_severity_rank()).group_by("body")
+            .agg(pl.len().alias("findings"), pl.col("_rank").min(),
+                 *[(pl.col("severity") == s).sum().alias(s) for s in SEVERITIES]))
+
+
+def _rank_to_severity(column: str) -> pl.Expr:
+    """A severity rank back to its name (null when no finding)."""
+    return pl.col(column).replace_strict(dict(enumerate(SEVERITIES)), default=None,
+                                         return_dtype=pl.String)
+
+
+def systems_page(cat_dir: Path, state: ViewState) -> dict[str, Any]:
+    """One page of the systems, most serious first: ``{"total", "offset", "limit", "items"}``.
+
+    Each item: system, bodies, primary (the heaviest parentless body), findings, a count per
+    severity, the worst severity and the body that carries it. ``state.severity`` filters by worst.
+    """
+    bodies, top = _scan(cat_dir, "bodies"), pl.col("parent").is_null()
+    lf = (bodies.select("id", "parent", "mass", _system_key(bodies))
+          .join(_body_findings(cat_dir), left_on="id", right_on="body", how="left")
+          .group_by("system")
+          .agg(pl.len().alias("bodies"),
+               pl.col("id").filter(top).sort_by(pl.col("mass").filter(top), pl.col("id")
+                                                 .filter(top), descending=[True, False],
+                                                 nulls_last=True).first().alias("primary"),
+               pl.col("findings").sum(), *[pl.col(s).sum() for s in SEVERITIES],
+               pl.col("_rank").min(),
+               pl.col("id").sort_by(["_rank", "findings"], descending=[False, True],
+                                    nulls_last=True).first().alias("worst_body"))
+          .with_columns(worst=_rank_to_severity("_rank"))
+          .with_columns(pl.when(pl.col("worst").is_null()).then(None)
+                        .otherwise(pl.col("worst_body")).alias("worst_body")))
+    if state.severity:
+        lf = lf.filter(pl.col("worst").is_in(list(state.severity)))
+    lf = lf.sort(["_rank", "findings", "system"], descending=[False, True, False],
+                 nulls_last=True)
+    total = lf.select(pl.len()).collect().item()
+    rows = lf.slice(state.offset, state.limit).drop("_rank").collect().to_dicts()
+    items = [{**{k: r[k] for k in ("system", "bodies", "primary", "findings", "worst",
+                                   "worst_body")},
+              "counts": {s: r[s] for s in SEVERITIES}} for r in rows]
+    return {"total": total, "offset": state.offset, "limit": state.limit,
+            "items": json_ready(items)}
+
+
+def system_detail(cat_dir: Path, system: str) -> dict[str, Any]:
+    """A system's bodies in depth-first tree order (each with depth and child ids), capped.
+
+    Roots are bodies whose parent is blank or outside the system; bodies caught in a parent
+    cycle start a tree of their own, so every body listed appears once.
+    """
+    bodies = _scan(cat_dir, "bodies")
+    cols = [c for c in ("id", "name", "label", "family", "parent", "mass", "radius",
+                        "semi_major_axis", "eccentricity") if c in bodies.collect_schema()]
+    members = bodies.filter(_system_key(bodies) == system)
+    total = members.select(pl.len()).collect().item()
+    if total == 0:
+        raise NotFound(f"no system '{system[:80]}' in this catalogue")
+    rows = (members.select(cols).head(MAX_SYSTEM_BODIES)
+            .join(_body_findings(cat_dir).select("body", "findings", "_rank"), left_on="id",
+                  right_on="body", how="left")
+            .with_columns(worst=_rank_to_severity("_rank"), findings=pl.col("findings")
+                          .fill_null(0))
+            .drop("_rank").sort(["semi_major_axis", "id"], nulls_last=True).collect())
+    ordered = _tree_order(json_ready(rows.to_dicts()))
+    return {"system": system, "total": total, "shown": len(ordered),
+            "capped": total > MAX_SYSTEM_BODIES, "bodies": ordered}
+
+
+def _tree_order(rows: list[dict[str, Any]]) -> list[dict[str, Any]]:
+    """Rows in depth-first order with ``depth`` and ``children`` (ids); no recursion."""
+    ids = {r["id"] for r in rows}
+    children: dict[str, list[dict[str, Any]]] = {}
+    for r in rows:
+        if r.get("parent") in ids and r["parent"] != r["id"]:
+            children.setdefault(r["parent"], []).append(r)
+    starts = [r for r in rows if r.get("parent") not in ids or r["parent"] == r["id"]] + rows
+    out, seen = [], set()
+    for start in starts:
+        stack = [(start, 0)]
+        while stack:
+            row, depth = stack.pop()
+            if id(row) in seen:
+                continue
+            seen.add(id(row))
+            kids = children.get(row["id"], [])
+            out.append({**row, "depth": depth, "children": [k["id"] for k in kids]})
+            stack.extend((k, depth + 1) for k in reversed(kids))
+    return out
