@@ -193,3 +193,15 @@ def test_a_hostile_system_name_is_text(site: tuple[SyncClient, str]) -> None:
     for page in (listing, detail):
         assert HOSTILE not in page and "<img" not in page
         assert "&lt;img src=x onerror=alert(1)&gt;" in page  # shown as text
+
+
+def test_the_list_links_its_json_twin_which_is_the_same_data(site: tuple[SyncClient, str],
+                                                             cat_dir: Path) -> None:
+    client, cat_id = site
+    page = _get(site, f"/catalogues/{cat_id}/systems?severity=error&limit=2")
+    twin = f"/api/catalogues/{cat_id}/systems?severity=error&limit=2"
+    assert twin in _hrefs(page)
+    answer = client.get(twin)
+    assert answer.status_code == 200
+    assert answer.json() == queries.systems_page(cat_dir, ViewState(severity=("error",), limit=2))
+    assert client.get(f"/api/catalogues/{cat_id}/systems?limit=0").status_code in (400, 422)

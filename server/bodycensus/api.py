@@ -190,6 +190,15 @@ def get_coverage(cat_dir: ReadyDir) -> list[dict[str, Any]]:
     return queries.coverage(cat_dir)
 
 
+@router.get("/catalogues/{catalogue_id}/systems")
+def list_systems(request: Request, cat_dir: ReadyDir, severity: FilterQuery = None,
+                 limit: Annotated[int, Query(ge=1, le=MAX_LIMIT)] = 50,
+                 offset: Annotated[int, Query(ge=0)] = 0) -> dict[str, Any]:
+    """Systems, most serious first: bodies, primary, findings per severity, worst severity and
+    body; filtered by worst ``severity``; paginated by ``limit`` and ``offset``."""
+    return queries.systems_page(cat_dir, _state(request))
+
+
 @router.get("/catalogues/{catalogue_id}/aggregates")
 def get_aggregates(cat_dir: ReadyDir) -> dict[str, Any]:
     """Binned counts for every diagram (the browser never gets raw rows)."""

@@ -236,6 +236,8 @@ def systems_context(store: Store, cat_id: str, state: ViewState) -> dict[str, An
              for item in page["items"]]
     return {"screen": "systems", "catalogue": store.get(cat_id).to_json(), "state": state,
             "page": {**page, "items": items}, "query": query,
+            "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/systems" + (f"?{query}" if query
+                                                                         else ""),
             "prev_href": cat_url(cat_id, "systems", state=prev_state) if state.offset else None,
             "next_href": (cat_url(cat_id, "systems", state=next_state)
                           if state.offset + state.limit < page["total"] else None)}
