@@ -13,7 +13,7 @@ from bodycensus import aggregates
 from bodycensus.aggregates import band_density, compute_aggregates
 from bodycensus.families import FAMILY_PARAMETERS
 from bodycensus.physics.bodies import composition_radius
-from bodycensus.units import M_EARTH, R_EARTH
+from bodycensus.units import M_EARTH, M_SUN, R_EARTH
 from engine_output import HOSTILE_LABEL, write_engine_output
 
 
@@ -147,3 +147,12 @@ def test_missing_columns_leave_diagrams_out(tmp_path: Path) -> None:
     assert result["density"] is None and result["roche"] is None
     assert result["severity"][0] == {"severity": "error", "count": 0, "bodies": 0}
     assert list(result["distributions"]["fields"]) == ["mass"]
+
+
+def test_no_band_where_the_curve_is_past_its_validity() -> None:
+    # Nauenberg 1972's white-dwarf radius vanishes at 1.454 M_sun: no density band beyond it
+    # (this once divided by zero and failed the whole ingest of a small catalogue).
+    band = FAMILY_PARAMETERS["white_dwarf"].density_band
+    assert band_density(band, 1.6 * M_SUN) is None
+    low, high = band_density(band, 0.6 * M_SUN)
+    assert 0 < low < high

@@ -23,6 +23,7 @@ from bodycensus.physics.orbits import (
     RIGID_ROCHE_COEFFICIENT,
     stable_hill_fraction,
 )
+from bodycensus.rules.bands import curve_density
 from bodycensus.rules.orbit import OrbitSettings
 from bodycensus.units import M_EARTH, M_SUN, R_EARTH
 
@@ -95,14 +96,6 @@ DISTRIBUTION_FIELDS: dict[str, str] = {
 }
 LINEAR_FIELDS = frozenset({"eccentricity", "age"})
 
-_CURVE_DENSITY = {
-    "iron": lambda m: phys.composition_density(m, "iron"),
-    "rock": lambda m: phys.composition_density(m, "rock"),
-    "water_ice": lambda m: phys.composition_density(m, "water_ice"),
-    "cold_hhe": phys.cold_hhe_density,
-    "white_dwarf": phys.white_dwarf_density,
-    "main_sequence": phys.main_sequence_density,
-}
 # Mass-radius curves (name, radius function, valid mass range in kg): the Seager et al. 2007
 # fits are published up to ~20 M_earth; the cold H/He curve spans giant planets to brown dwarfs.
 _MR_CURVES = (
@@ -128,7 +121,10 @@ def band_density(band: DensityBand, mass: float | None) -> tuple[float, float] |
         elif mass is None or not mass > 0:
             return None
         else:
-            ends.append(factor * float(_CURVE_DENSITY[curve](mass)))
+            with np.errstate(divide="ignore", invalid="ignore"):
+                ends.append(factor * float(curve_density(curve, mass)))
+    if not all(math.isfinite(end) for end in ends):
+        return None  # a curve past its validity (e.g. a white dwarf beyond 1.454 M_sun)
     return ends[0], ends[1]
 
 

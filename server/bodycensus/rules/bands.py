@@ -11,21 +11,22 @@ import polars as pl
 
 from bodycensus.families import FAMILY_PARAMETERS
 from bodycensus.physics import bodies
+from bodycensus.physics._ops import Num
 from bodycensus.units import M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
 
 _MASS = pl.col("_mass")
 
 
-def _curve_density(curve: str) -> pl.Expr:
-    """Density (kg m-3) of a named composition curve at each body's mass."""
+def curve_density(curve: str, mass: Num) -> Num:
+    """Density (kg m-3) of a named composition curve at ``mass`` (float, array or expression)."""
     if curve in bodies.SEAGER_FITS:
-        return bodies.composition_density(_MASS, curve)
+        return bodies.composition_density(mass, curve)
     curves = {
         "cold_hhe": bodies.cold_hhe_density,
         "white_dwarf": bodies.white_dwarf_density,
         "main_sequence": bodies.main_sequence_density,
     }
-    return curves[curve](_MASS)
+    return curves[curve](mass)
 
 
 def _band_edge(side: str) -> pl.Expr:
@@ -36,7 +37,7 @@ def _band_edge(side: str) -> pl.Expr:
             continue
         curve, factor = ((band.low_curve, band.low_factor) if side == "low"
                          else (band.high_curve, band.high_factor))
-        edge = pl.lit(factor) if curve == "const" else factor * _curve_density(curve)
+        edge = pl.lit(factor) if curve == "const" else factor * curve_density(curve, _MASS)
         condition = pl.col("family") == family
         expr = pl.when(condition).then(edge) if expr is None else expr.when(condition).then(edge)
     assert expr is not None
