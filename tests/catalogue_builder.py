@@ -14,6 +14,17 @@ from bodycensus.physics.orbits import kepler_period
 from bodycensus.schema import CANONICAL_FIELDS, FIELD_TYPES
 from bodycensus.units import AU, M_EARTH, M_SUN, R_SUN
 
+# The rule ids issue 2 fixes (item 6), plus bad-cell for unreadable cells: an oracle written
+# independently of the registry, which the registry test compares against.
+ISSUE_RULE_IDS: tuple[str, ...] = (
+    "missing-value", "non-positive", "duplicate-id", "orphan-parent", "parent-cycle", "unit-slip",
+    "bad-eccentricity", "bad-cell", "denser-than-iron", "family-density", "oversized-cold-body",
+    "over-chandrasekhar", "over-neutron-star-max", "under-hydrogen-burning", "brown-dwarf-range",
+    "periapsis-inside-parent", "inside-rigid-roche", "inside-fluid-roche", "roche-lobe-overflow",
+    "outside-hill-sphere", "beyond-stable-hill", "kepler-mismatch", "crossing-orbits",
+    "hill-spacing", "heavier-than-parent", "binary-barycentre", "tidal-lock-age", "label-outlier",
+)
+
 SUN_LIKE = {"id": "S", "label": "yellow dwarf star", "family": "star", "mass": M_SUN,
             "radius": R_SUN, "age": 4.6e9}
 EARTH_LIKE = {"id": "P", "label": "terrestrial planet", "family": "rock", "parent": "S",

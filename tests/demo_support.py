@@ -11,16 +11,10 @@ from bodycensus.demo import generate_demo
 from bodycensus.families import FAMILY_PARAMETERS, guess_family
 from bodycensus.physics import bodies
 from bodycensus.units import AU, DAY, HOUR, M_EARTH, YEAR
+from catalogue_builder import ISSUE_RULE_IDS
 
 N = 20_000
-RULES = (  # issue 2, item 6 (plus bad-cell for unreadable cells)
-    "missing-value", "non-positive", "duplicate-id", "orphan-parent", "parent-cycle", "unit-slip",
-    "bad-eccentricity", "bad-cell", "denser-than-iron", "family-density", "oversized-cold-body",
-    "over-chandrasekhar", "over-neutron-star-max", "under-hydrogen-burning", "brown-dwarf-range",
-    "periapsis-inside-parent", "inside-rigid-roche", "inside-fluid-roche", "roche-lobe-overflow",
-    "outside-hill-sphere", "beyond-stable-hill", "kepler-mismatch", "crossing-orbits",
-    "hill-spacing", "heavier-than-parent", "binary-barycentre", "tidal-lock-age", "label-outlier",
-)
+RULES = ISSUE_RULE_IDS
 SEAGER = {"iron": "iron", "rock": "rock", "water_ice": "water_ice"}
 
 

@@ -29,11 +29,6 @@ from web_support import (
 
 
 @pytest.fixture(scope="module")
-def source(tmp_path_factory: pytest.TempPathFactory) -> bytes:
-    return write_catalogue(tmp_path_factory.mktemp("src") / "c.csv").read_bytes()
-
-
-@pytest.fixture(scope="module")
 def served(tmp_path_factory: pytest.TempPathFactory, source: bytes
            ) -> Iterator[tuple[SyncClient, str, Path]]:
     """One app on one data dir with one ready catalogue, shared by the read-only tests."""

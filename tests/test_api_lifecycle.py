@@ -26,12 +26,6 @@ from web_support import (
     write_catalogue,
 )
 
-
-@pytest.fixture(scope="module")
-def source(tmp_path_factory: pytest.TempPathFactory) -> bytes:
-    return write_catalogue(tmp_path_factory.mktemp("src") / "c.csv").read_bytes()
-
-
 # --- restarts ------------------------------------------------------------------------------
 
 
