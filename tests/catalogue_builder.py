@@ -10,9 +10,9 @@ from typing import Any
 
 import polars as pl
 from bodycensus.engines.local import CheckOptions, CheckResult, check_table
-from bodycensus.physics.orbits import kepler_period
-from bodycensus.schema import CANONICAL_FIELDS, FIELD_TYPES
-from bodycensus.units import AU, M_EARTH, M_SUN, R_SUN
+from bodycensus.science.physics.orbits import kepler_period
+from bodycensus.input.schema import CANONICAL_FIELDS, FIELD_TYPES
+from bodycensus.science.units import AU, M_EARTH, M_SUN, R_SUN
 
 # The rule ids issue 2 fixes (item 6), plus bad-cell for unreadable cells: an oracle written
 # independently of the registry, which the registry test compares against.

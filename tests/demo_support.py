@@ -8,9 +8,9 @@ import numpy as np
 import polars as pl
 import pytest
 from bodycensus.demo import generate_demo
-from bodycensus.families import FAMILY_PARAMETERS, guess_family
-from bodycensus.physics import bodies
-from bodycensus.units import AU, DAY, HOUR, M_EARTH, YEAR
+from bodycensus.science.families import FAMILY_PARAMETERS, guess_family
+from bodycensus.science.physics import bodies
+from bodycensus.science.units import AU, DAY, HOUR, M_EARTH, YEAR
 from catalogue_builder import ISSUE_RULE_IDS
 
 N = 20_000

@@ -10,9 +10,9 @@ from pathlib import Path
 
 import numpy as np
 import polars as pl
-from bodycensus.physics import bodies as phys
-from bodycensus.physics import orbits
-from bodycensus.units import AU, M_EARTH, M_JUPITER, M_SUN, R_JUPITER, R_SUN
+from bodycensus.science.physics import bodies as phys
+from bodycensus.science.physics import orbits
+from bodycensus.science.units import AU, M_EARTH, M_JUPITER, M_SUN, R_JUPITER, R_SUN
 
 HOSTILE_LABEL = '<img src=x onerror="alert(1)">'
 

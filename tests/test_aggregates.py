@@ -9,11 +9,11 @@ from typing import Any
 
 import polars as pl
 import pytest
-from bodycensus import aggregates
-from bodycensus.aggregates import band_density, compute_aggregates
-from bodycensus.families import FAMILY_PARAMETERS
-from bodycensus.physics.bodies import composition_radius
-from bodycensus.units import M_EARTH, M_SUN, R_EARTH
+from bodycensus.diagrams import aggregates
+from bodycensus.diagrams.aggregates import band_density, compute_aggregates
+from bodycensus.science.families import FAMILY_PARAMETERS
+from bodycensus.science.physics.bodies import composition_radius
+from bodycensus.science.units import M_EARTH, M_SUN, R_EARTH
 from engine_output import HOSTILE_LABEL, write_engine_output
 
 

@@ -11,8 +11,8 @@ from pathlib import Path
 
 import polars as pl
 import pytest
-from bodycensus.app import create_app
-from bodycensus.units import M_EARTH
+from bodycensus.dashboard.app import create_app
+from bodycensus.science.units import M_EARTH
 from web_support import (
     FORMULA_LABEL,
     LIMIT,

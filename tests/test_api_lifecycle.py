@@ -10,10 +10,10 @@ from pathlib import Path
 
 import httpx
 import pytest
-from bodycensus.app import create_app, serve
+from bodycensus.dashboard.app import create_app, serve
 from bodycensus.errors import BadInput
-from bodycensus.settings import Settings
-from bodycensus.store import KILLED, Manifest, Store, now
+from bodycensus.dashboard.settings import Settings
+from bodycensus.storage.store import KILLED, Manifest, Store, now
 from web_support import (
     api_settings,
     asgi_client,

@@ -13,7 +13,7 @@ import time
 import numpy as np
 import polars as pl
 import pytest
-from bodycensus.artefacts import (
+from bodycensus.science.artefacts import (
     ARTEFACT_SCHEMA,
     METHODS,
     ArtefactConfig,
@@ -214,7 +214,7 @@ def test_steep_smooth_tail_predicts_few_but_a_flat_edge_many() -> None:
     """Bin counts measured at two ends of the demo catalogue: a log-normal tail steepening
     outward (dwarf-planet spins: a Gaussian in log space, where a geometric model alone predicted
     23 beyond the end and raised a false cutoff) and a truncation in the bulk (asteroid radii)."""
-    from bodycensus.artefacts import _tail_expected
+    from bodycensus.science.artefacts import _tail_expected
 
     assert _tail_expected(np.array([24.0, 71.0, 88.0]), 2) < ArtefactConfig().min_expected
     assert _tail_expected(np.array([77.0, 72.0, 117.0]), 2) > 100

@@ -14,10 +14,11 @@ from urllib.parse import parse_qs, quote, urlsplit
 
 import httpx
 import pytest
-from bodycensus import api, pages
-from bodycensus.app import create_app
-from bodycensus.auth import COOKIE
-from bodycensus.settings import Settings
+from bodycensus.dashboard.routes import api
+from bodycensus.dashboard.routes import pages
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.security.auth import COOKIE
+from bodycensus.dashboard.settings import Settings
 from fastapi.routing import APIRoute
 from web_support import (
     SyncClient,

@@ -13,9 +13,9 @@ import numpy as np
 import polars as pl
 import pytest
 from bodycensus.demo import COLUMNS, TRUTH_COLUMNS, generate_demo, truth_path, write_demo
-from bodycensus.families import FAMILY_PARAMETERS
-from bodycensus.physics import bodies, orbits
-from bodycensus.units import M_JUPITER, M_SUN
+from bodycensus.science.families import FAMILY_PARAMETERS
+from bodycensus.science.physics import bodies, orbits
+from bodycensus.science.units import M_JUPITER, M_SUN
 from demo_support import RULES, Demo, N, demo, family_band, orbiting
 
 __all__ = ["demo"]  # the session fixture
@@ -80,7 +80,7 @@ def test_truth_plants_every_rule_and_three_artefacts(demo: Demo) -> None:
 
 
 def test_truth_covers_the_rule_registry(demo: Demo) -> None:
-    registry = pytest.importorskip("bodycensus.rules")
+    registry = pytest.importorskip("bodycensus.science.rules")
     assert set(registry.RULE_IDS) <= set(demo.truth["rule"])
 
 

@@ -7,8 +7,8 @@ import math
 
 import numpy as np
 import polars as pl
-from bodycensus.physics import bodies, orbits
-from bodycensus.units import HOUR, M_EARTH, M_JUPITER, M_SUN
+from bodycensus.science.physics import bodies, orbits
+from bodycensus.science.units import HOUR, M_EARTH, M_JUPITER, M_SUN
 from demo_support import Demo, demo, family_band
 
 __all__ = ["demo"]  # the session fixture

@@ -23,9 +23,9 @@ import httpx
 import numpy as np
 import polars as pl
 import pytest
-from bodycensus.app import create_app
-from bodycensus.settings import Settings
-from bodycensus.store import KILLED
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.settings import Settings
+from bodycensus.storage.store import KILLED
 from hostile_corpus import CLEAN, csv_bytes
 from web_support import (
     asgi_client,

@@ -13,10 +13,10 @@ from pathlib import Path
 import httpx
 import polars as pl
 import pytest
-from bodycensus.app import create_app
-from bodycensus.ingest import IngestError, IngestLimits, ingest
-from bodycensus.readers import decompress
-from bodycensus.settings import Settings
+from bodycensus.dashboard.app import create_app
+from bodycensus.input.ingest import IngestError, IngestLimits, ingest
+from bodycensus.input.readers import decompress
+from bodycensus.dashboard.settings import Settings
 from hostile_corpus import CLEAN, Case, all_cases, csv_bytes, write_corpus
 from web_support import (
     SyncClient,

@@ -1,4 +1,4 @@
-"""Tests for bodycensus.ingest: every format and compression, SI conversion, bad cells, errors.
+"""Tests for bodycensus.input.ingest: every format and compression, SI conversion, bad cells, errors.
 
 Every fixture file is a few rows written into tmp_path by the test itself.
 """
@@ -14,9 +14,9 @@ import pytest
 import zstandard
 from astropy import constants as const
 from astropy import units as u
-from bodycensus import ingest as ingest_module
-from bodycensus.ingest import IngestError, IngestLimits, IngestReport, ingest
-from bodycensus.schema import guess_mapping
+from bodycensus.input import ingest as ingest_module
+from bodycensus.input.ingest import IngestError, IngestLimits, IngestReport, ingest
+from bodycensus.input.schema import guess_mapping
 from polars.testing import assert_frame_equal
 
 HEADER = ["ID", "Name", "type", "parent", "Mass (M_earth)", "radius_km", "a (AU)", "e",

@@ -15,7 +15,7 @@ from typing import Any
 import httpx
 import pytest
 import schemathesis
-from bodycensus.app import create_app
+from bodycensus.dashboard.app import create_app
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from schemathesis import GenerationMode

@@ -7,25 +7,25 @@ import sys
 import zipfile
 from pathlib import Path
 
-import bodycensus.pages
+import bodycensus.dashboard.routes.pages
 
 ROOT = Path(__file__).resolve().parents[1]
 PROBE = """
 import sys
 from pathlib import Path
-import bodycensus, bodycensus.app, bodycensus.pages
-from bodycensus.app import create_app
-from bodycensus.settings import Settings
+import bodycensus, bodycensus.dashboard.app, bodycensus.dashboard.routes.pages
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.settings import Settings
 assert Path(bodycensus.__file__).is_relative_to(sys.argv[1]), bodycensus.__file__
-assert (bodycensus.pages.TEMPLATES_DIR / "base.html").is_file()
-assert (bodycensus.app.static_dir() / "app.css").is_file()
+assert (bodycensus.dashboard.routes.pages.TEMPLATES_DIR / "base.html").is_file()
+assert (bodycensus.dashboard.app.static_dir() / "app.css").is_file()
 create_app(Settings(data_dir=Path(sys.argv[2])))
 print("ok")
 """
 
 
 def test_assets_found_from_the_checkout() -> None:
-    assert bodycensus.pages.TEMPLATES_DIR == ROOT / "web" / "templates"
+    assert bodycensus.dashboard.routes.pages.TEMPLATES_DIR == ROOT / "web" / "templates"
 
 
 def test_assets_found_from_an_installed_wheel(tmp_path: Path) -> None:

@@ -15,8 +15,8 @@ import astropy.constants as const
 import astropy.units as u
 import numpy as np
 import pytest
-from bodycensus.physics import bodies
-from bodycensus.units import M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
+from bodycensus.science.physics import bodies
+from bodycensus.science.units import M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
 from three_forms import assert_three_forms
 
 KM = 1e3

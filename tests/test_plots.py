@@ -9,8 +9,8 @@ from typing import Any
 
 import plotly.graph_objects as go
 import pytest
-from bodycensus import plots
-from bodycensus.aggregates import compute_aggregates
+from bodycensus.diagrams import plots
+from bodycensus.diagrams.aggregates import compute_aggregates
 from engine_output import HOSTILE_LABEL, write_engine_output
 
 

@@ -12,12 +12,12 @@ from pathlib import Path
 
 import polars as pl
 import pytest
-from bodycensus import queries
+from bodycensus.dashboard.screens import queries
 from bodycensus.engines.local import check_file
 from bodycensus.errors import BadInput, NotFound
-from bodycensus.rules.base import SEVERITIES
-from bodycensus.units import M_EARTH
-from bodycensus.viewstate import ViewState
+from bodycensus.science.rules.base import SEVERITIES
+from bodycensus.science.units import M_EARTH
+from bodycensus.dashboard.screens.viewstate import ViewState
 from hypothesis import given
 from hypothesis import strategies as st
 from polars.testing import assert_frame_equal

@@ -11,12 +11,12 @@ from pathlib import Path
 import polars as pl
 import pytest
 from bodycensus.engines.local import CheckOptions, check_file
-from bodycensus.families import FAMILIES
-from bodycensus.physics import bodies, orbits
-from bodycensus.physics.orbits import kepler_period
-from bodycensus.rules import RULE_IDS, all_rules
-from bodycensus.rules.base import SEVERITIES
-from bodycensus.units import AU, M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
+from bodycensus.science.families import FAMILIES
+from bodycensus.science.physics import bodies, orbits
+from bodycensus.science.physics.orbits import kepler_period
+from bodycensus.science.rules import RULE_IDS, all_rules
+from bodycensus.science.rules.base import SEVERITIES
+from bodycensus.science.units import AU, M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
 from catalogue_builder import EARTH_LIKE, ISSUE_RULE_IDS, SUN_LIKE, fired, run
 
 EXPECTED_IDS = set(ISSUE_RULE_IDS)

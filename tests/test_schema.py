@@ -1,4 +1,4 @@
-"""Tests for bodycensus.schema: header aliases, unit hints, overrides and their error messages."""
+"""Tests for bodycensus.input.schema: header aliases, unit hints, overrides and their error messages."""
 
 from __future__ import annotations
 
@@ -6,7 +6,7 @@ import polars as pl
 import pytest
 from astropy import constants as const
 from astropy import units as u
-from bodycensus.schema import (
+from bodycensus.input.schema import (
     CANONICAL_FIELDS,
     FIELD_TYPES,
     NUMERIC_FIELDS,

@@ -16,8 +16,8 @@ from pathlib import Path
 import httpx
 import polars as pl
 import pytest
-from bodycensus.app import create_app
-from bodycensus.settings import Settings
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.settings import Settings
 from web_support import (
     SyncClient,
     api_settings,

@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pytest
 from bodycensus.errors import Conflict, NotFound
-from bodycensus.store import KILLED, MANIFEST, Manifest, Store, json_ready, now, write_json_atomic
+from bodycensus.storage.store import KILLED, MANIFEST, Manifest, Store, json_ready, now, write_json_atomic
 
 
 def _upload(store: Store, text: str = "id\nA\n", status: str = "mapping") -> Manifest:
@@ -154,7 +154,7 @@ def test_delete_removes_catalogue_and_its_views(tmp_path: Path) -> None:
 
 
 def test_default_data_dir_is_never_the_working_directory(monkeypatch, tmp_path) -> None:
-    from bodycensus.settings import Settings, default_data_dir
+    from bodycensus.dashboard.settings import Settings, default_data_dir
 
     monkeypatch.chdir(tmp_path)
     monkeypatch.delenv("BODYCENSUS_DATA", raising=False)

@@ -9,8 +9,8 @@ from __future__ import annotations
 import astropy.constants as const
 import astropy.units as u
 import pytest
-from bodycensus import units
-from bodycensus.units import UnknownUnitError, convert, factor_to_si, find_unit, parse_unit
+from bodycensus.science import units
+from bodycensus.science.units import UnknownUnitError, convert, factor_to_si, find_unit, parse_unit
 
 # Constants defined exactly (IAU/SI definitions): equal to the last bit.
 EXACT_CONSTANTS = [

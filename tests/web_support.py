@@ -21,7 +21,7 @@ from typing import Any
 import anyio.from_thread
 import httpx
 import uvicorn
-from bodycensus.settings import Settings
+from bodycensus.dashboard.settings import Settings
 from fastapi import FastAPI
 
 AU_KM = 1.495978707e8  # km; IAU 2012 Resolution B2

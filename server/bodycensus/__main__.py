@@ -1,5 +1,5 @@
 """``python -m bodycensus`` runs the command-line interface."""
 
-from bodycensus.cli import main
+from bodycensus.cli.main import main
 
 raise SystemExit(main())

@@ -22,10 +22,10 @@ from fastapi.exceptions import RequestValidationError
 from fastapi.responses import JSONResponse, PlainTextResponse, Response
 from starlette.exceptions import HTTPException
 
-from bodycensus.families import FamilyMappingError
-from bodycensus.ingest import IngestError
-from bodycensus.schema import SchemaError
-from bodycensus.units import UnknownUnitError
+from bodycensus.science.families import FamilyMappingError
+from bodycensus.input.ingest import IngestError
+from bodycensus.input.schema import SchemaError
+from bodycensus.science.units import UnknownUnitError
 
 log = logging.getLogger(__name__)
 _MAX_DETAIL = 300

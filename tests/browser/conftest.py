@@ -12,8 +12,8 @@ from pathlib import Path
 from urllib.parse import urlsplit
 
 import pytest
-from bodycensus.app import create_app
-from bodycensus.settings import Settings
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.settings import Settings
 from playwright.sync_api import Browser, BrowserContext, Page, Route, sync_playwright
 from web_support import live_server
 

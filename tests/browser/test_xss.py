@@ -20,9 +20,9 @@ from urllib.parse import quote
 
 import httpx
 import pytest
-from bodycensus.app import create_app
+from bodycensus.dashboard.app import create_app
 from bodycensus.demo import write_demo
-from bodycensus.settings import Settings
+from bodycensus.dashboard.settings import Settings
 from conftest import new_context
 from playwright.sync_api import Browser, Page, expect
 from web_support import live_server

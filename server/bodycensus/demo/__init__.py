@@ -21,7 +21,7 @@ from bodycensus.demo.kinds import LABELS
 from bodycensus.demo.names import body_names, system_names
 from bodycensus.demo.planter import Planter
 from bodycensus.demo.population import CUTOFF_RADIUS, GAP_SPIN, SPIKE_MASS, population
-from bodycensus.units import AU, DAY, HOUR, L_SUN, M_EARTH
+from bodycensus.science.units import AU, DAY, HOUR, L_SUN, M_EARTH
 
 BODIES_PER_SYSTEM = 6.0  # about what population() yields; used to size the first attempt
 SIGNIFICANT_DIGITS = 6

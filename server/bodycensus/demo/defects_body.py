@@ -13,8 +13,8 @@ import numpy as np
 
 from bodycensus.demo.kinds import CODE
 from bodycensus.demo.planter import Planter
-from bodycensus.physics import bodies, orbits
-from bodycensus.units import M_JUPITER, M_SUN
+from bodycensus.science.physics import bodies, orbits
+from bodycensus.science.units import M_JUPITER, M_SUN
 
 BAD_CELLS = ("1,2e3", "n/a", "3OO", "12..5")  # unreadable temperatures, in turn
 

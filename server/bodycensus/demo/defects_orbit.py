@@ -15,8 +15,8 @@ import numpy as np
 from bodycensus.demo.kinds import CODE, MOON_CODE0, MOON_CURVES, PLANET_CODE0
 from bodycensus.demo.planter import Planter
 from bodycensus.demo.stars import age_seconds
-from bodycensus.physics import bodies, orbits
-from bodycensus.units import M_EARTH
+from bodycensus.science.physics import bodies, orbits
+from bodycensus.science.units import M_EARTH
 
 
 def _limits(p: Planter, mass: np.ndarray, radius: np.ndarray) -> dict[str, np.ndarray]:

@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bodycensus.families import FAMILY_PARAMETERS, guess_family
+from bodycensus.science.families import FAMILY_PARAMETERS, guess_family
 
 
 @dataclass(frozen=True)

@@ -14,7 +14,7 @@ from __future__ import annotations
 import numpy as np
 
 from bodycensus.demo.kinds import lognormal
-from bodycensus.physics import orbits
+from bodycensus.science.physics import orbits
 
 HILL_SPACING = (25.0, 0.15)  # mutual Hill radii: median, sigma (Kepler multis, order of magnitude)
 E_FRACTION = 0.05  # Rayleigh width of e as a fraction of the narrower neighbouring gap

@@ -12,7 +12,7 @@ import numpy as np
 
 from bodycensus.demo.kinds import MOON_CODE0, PLANET_CODE0, QUALITY, RIGIDITY, lognormal
 from bodycensus.demo.stars import age_seconds
-from bodycensus.physics import orbits
+from bodycensus.science.physics import orbits
 
 Table = dict[str, np.ndarray]
 

@@ -27,8 +27,8 @@ from bodycensus.demo.kinds import (
 )
 from bodycensus.demo.orbits import edge_factor, group_starts, noisy_period, place
 from bodycensus.demo.stars import age_seconds, redraw, systems
-from bodycensus.physics import bodies, orbits
-from bodycensus.units import AU, HOUR, L_SUN, M_EARTH, M_SUN
+from bodycensus.science.physics import bodies, orbits
+from bodycensus.science.units import AU, HOUR, L_SUN, M_EARTH, M_SUN
 
 Table = dict[str, np.ndarray]
 

@@ -18,8 +18,8 @@ from bodycensus.demo.kinds import (
     codes,
     lognormal,
 )
-from bodycensus.physics import bodies
-from bodycensus.units import L_SUN, M_JUPITER, M_SUN, R_SUN, YEAR
+from bodycensus.science.physics import bodies
+from bodycensus.science.units import L_SUN, M_JUPITER, M_SUN, R_SUN, YEAR
 
 T_SUN = 5772.0  # K; IAU 2015 Resolution B3 nominal solar effective temperature
 COMPANION_SHARE = 0.12  # systems with a second star

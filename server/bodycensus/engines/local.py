@@ -15,16 +15,16 @@ from typing import Any, Protocol
 
 import polars as pl
 
-from bodycensus import artefacts as artefact_detector
-from bodycensus.durable import fsync_path
+from bodycensus.science import artefacts as artefact_detector
+from bodycensus.storage.durable import fsync_path
 from bodycensus.engines.summary import build_summary
-from bodycensus.families import FAMILIES, family_mapping
-from bodycensus.ingest import IngestLimits, IngestReport, ingest
-from bodycensus.rules import all_rules
-from bodycensus.rules.base import SEVERITY_RANK, coverage, evaluate
-from bodycensus.rules.context import derive
-from bodycensus.rules.graph import cycle_members
-from bodycensus.rules.orbit import OrbitSettings
+from bodycensus.science.families import FAMILIES, family_mapping
+from bodycensus.input.ingest import IngestLimits, IngestReport, ingest
+from bodycensus.science.rules import all_rules
+from bodycensus.science.rules.base import SEVERITY_RANK, coverage, evaluate
+from bodycensus.science.rules.context import derive
+from bodycensus.science.rules.graph import cycle_members
+from bodycensus.science.rules.orbit import OrbitSettings
 
 
 class Progress(Protocol):

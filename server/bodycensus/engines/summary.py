@@ -6,8 +6,8 @@ from typing import Any
 
 import polars as pl
 
-from bodycensus.ingest import IngestReport
-from bodycensus.rules.base import SEVERITIES
+from bodycensus.input.ingest import IngestReport
+from bodycensus.science.rules.base import SEVERITIES
 
 
 def _counts(frame: pl.DataFrame | pl.LazyFrame, column: str) -> dict[str, int]:

@@ -1,0 +1,159 @@
+"""``bodycensus check``: the headless gate for a content pipeline.
+
+Prints the findings as JSON (``{"catalogue", "summary", "findings", "artefacts"}``), CSV or a
+readable table; exits 1 when a finding at or above ``--fail-on`` exists.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+import tempfile
+import time
+from pathlib import Path
+from typing import Any, TextIO
+
+import polars as pl
+
+from bodycensus.storage.csvsafe import neutralise_formulas
+from bodycensus.engines.local import CheckOptions, CheckResult, check_file
+from bodycensus.science.families import parse_family_override
+from bodycensus.science.rules.base import SEVERITIES, SEVERITY_RANK
+from bodycensus.input.schema import parse_assignment
+
+FOUND_AT_FAIL_LEVEL = 1
+PROGRESS_FILE_BYTES = 20 * 2**20  # files above this report progress on stderr by default
+
+
+def add_check_parser(commands: argparse._SubParsersAction) -> None:
+    """Register ``check`` and its options."""
+    check = commands.add_parser(
+        "check", help="check a catalogue file and print the findings",
+        description="Check a catalogue file (CSV/TSV/semicolon, NDJSON or Parquet, optionally "
+                    ".gz/.zst) and print what physics rules out or makes suspicious.")
+    check.add_argument("file", type=Path, help="the catalogue file")
+    check.add_argument("--map", action="append", default=[], metavar="FIELD=COLUMN",
+                       help="read FIELD from COLUMN (repeatable), e.g. --map radius=r_eq")
+    check.add_argument("--unit", action="append", default=[], metavar="FIELD=UNIT",
+                       help="FIELD is given in UNIT (repeatable), e.g. --unit mass=earth_mass")
+    check.add_argument("--family", action="append", default=[], metavar="LABEL=FAMILY",
+                       help="treat LABEL as FAMILY (repeatable), e.g. --family 'lava world=rock'")
+    check.add_argument("--format", choices=("json", "csv", "table"), default="table",
+                       help="output format (default table)")
+    check.add_argument("--fail-on", choices=SEVERITIES, default=None,
+                       help="exit 1 when a finding at or above this severity exists")
+    check.add_argument("--limit", type=int, default=40,
+                       help="findings shown by --format table (default 40; all in json/csv)")
+    check.add_argument("--keep", type=Path, default=None,
+                       help="keep the run's Parquet files (bodies, findings, ...) in this folder")
+    check.add_argument("--no-artefacts", action="store_true",
+                       help="skip the distribution-artefact detector")
+    noise = check.add_mutually_exclusive_group()
+    noise.add_argument("--progress", action="store_true", help="always report progress on stderr")
+    noise.add_argument("--quiet", action="store_true", help="never report progress")
+
+
+def _options(args: argparse.Namespace) -> CheckOptions:
+    return CheckOptions(
+        map_overrides=dict(parse_assignment(text) for text in args.map),
+        unit_overrides=dict(parse_assignment(text) for text in args.unit),
+        family_overrides=dict(parse_family_override(text) for text in args.family),
+        artefacts=not args.no_artefacts,
+    )
+
+
+class _ProgressPrinter:
+    """Writes ``stage, rows, elapsed`` lines to stderr."""
+
+    def __init__(self, stream: TextIO) -> None:
+        self.stream, self.started, self.rows = stream, time.monotonic(), 0
+
+    def __call__(self, stage: str, fraction: float, rows: int | None = None) -> None:
+        self.rows = rows if rows is not None else self.rows
+        elapsed = time.monotonic() - self.started
+        print(f"bodycensus check: {stage:<9} rows {self.rows:>12,}  {elapsed:7.1f} s",
+              file=self.stream, flush=True)
+
+
+def run_check(args: argparse.Namespace) -> int:
+    """Run ``check``; returns the exit code."""
+    options = _options(args)
+    if not args.file.is_file():
+        raise FileNotFoundError(2, "no such file", str(args.file))
+    wants_progress = args.progress or (
+        not args.quiet and args.file.stat().st_size > PROGRESS_FILE_BYTES)
+    progress = _ProgressPrinter(sys.stderr) if wants_progress else None
+    if args.keep is not None:
+        result = check_file(args.file, args.keep, options, progress)
+        _print(result, args, sys.stdout)
+    else:
+        with tempfile.TemporaryDirectory(prefix="bodycensus-check-") as workdir:
+            result = check_file(args.file, Path(workdir), options, progress)
+            _print(result, args, sys.stdout)
+    return _exit_code(result, args.fail_on)
+
+
+def _exit_code(result: CheckResult, fail_on: str | None) -> int:
+    worst = result.worst_severity_rank()
+    if fail_on is None or worst is None:
+        return 0
+    return FOUND_AT_FAIL_LEVEL if worst <= SEVERITY_RANK[fail_on] else 0
+
+
+def _sorted_findings(findings: pl.DataFrame) -> pl.DataFrame:
+    rank = pl.col("severity").replace_strict(SEVERITY_RANK, return_dtype=pl.Int64)
+    return findings.sort(rank, pl.col("margin").abs(), pl.col("_row"),
+                         descending=[False, True, False], nulls_last=True)
+
+
+def _print(result: CheckResult, args: argparse.Namespace, out: TextIO) -> None:
+    findings = _sorted_findings(result.findings)
+    if args.format == "json":
+        out.write(json_document(result, args.file, findings))
+    elif args.format == "csv":
+        out.write(neutralise_formulas(findings.drop("_row")).write_csv())
+    else:
+        out.write(table_text(result, args.file, findings, args.limit))
+
+
+def catalogue_info(result: CheckResult, source: Path) -> dict[str, Any]:
+    """What was read and how: file, format, mapping, families."""
+    info: dict[str, Any] = {"file": str(source), "name": source.name}
+    if result.report is not None:
+        info.update(result.report.to_json())
+    info["label_families"] = result.families
+    return info
+
+
+def json_document(result: CheckResult, source: Path, findings: pl.DataFrame) -> str:
+    """The headless contract's JSON document."""
+    head = {"catalogue": catalogue_info(result, source),
+            "summary": {**result.summary, "coverage": result.coverage.to_dicts()}}
+    body = json.dumps(head, indent=1, default=str)[:-2]
+    return (body + ',\n "findings": ' + findings.drop("_row").write_json()
+            + ',\n "artefacts": ' + result.artefacts.write_json() + "\n}\n")
+
+
+def table_text(result: CheckResult, source: Path, findings: pl.DataFrame, limit: int) -> str:
+    """A readable report: counts, the most serious findings, artefacts, rule coverage."""
+    summary = result.summary
+    lines = [(f"{source.name}: {summary['rows']:,} bodies, {summary['findings']:,} findings "
+             f"on {summary['bodies_with_findings']:,} bodies, {summary['artefacts']} artefacts")]
+    lines.append("  " + "  ".join(f"{sev} {n:,}" for sev, n in summary["by_severity"].items()))
+    if summary["unmapped_labels"]:
+        lines.append("  labels with no family (use --family LABEL=FAMILY): "
+                     + ", ".join(summary["unmapped_labels"]))
+    if summary["bad_cells"]:
+        lines.append("  unreadable cells: " + ", ".join(
+            f"{col} {n:,}" for col, n in summary["bad_cells"].items()))
+    lines.append("")
+    shown = findings.head(limit)
+    for row in shown.iter_rows(named=True):
+        lines.append(f"{row['severity']:<10} {row['rule']:<24} {row['body']:<16} {row['message']}")
+    if findings.height > limit:
+        lines.append(f"... {findings.height - limit:,} more (use --format json or csv for all)")
+    for row in result.artefacts.iter_rows(named=True):
+        lines.append(f"artefact   {row['kind']:<8} {row['scope']} '{row['label']}' "
+                     f"{row['field']}: {row['evidence']} (p={row['p_value']:.2g})")
+    return "\n".join(lines) + "\n"

@@ -1,0 +1,1 @@
+"""Uploads streamed to disk and the background jobs that check them."""

@@ -1,0 +1,1 @@
+"""HTTP routes: the JSON API and the HTML pages."""

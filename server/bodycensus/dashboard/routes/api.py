@@ -1,0 +1,226 @@
+"""The JSON API under ``/api``: thin routes over the store, the jobs and the query functions."""
+
+from __future__ import annotations
+
+from dataclasses import asdict
+from typing import Annotated, Any, Literal
+
+from fastapi import APIRouter, Query, Request, Response
+from fastapi.responses import FileResponse
+from starlette.background import BackgroundTask
+from starlette.concurrency import run_in_threadpool
+
+from bodycensus.dashboard.screens import queries
+from bodycensus.dashboard.deps import JobsDep, ReadyDir, SettingsDep, StoreDep
+from bodycensus.errors import BadInput, Conflict
+from bodycensus.dashboard.intake.jobs import Overrides
+from bodycensus.dashboard.models import (
+    BodyOut,
+    CatalogueList,
+    CatalogueOut,
+    ErrorOut,
+    FindingsPage,
+    MappingIn,
+    Overview,
+    UploadAccepted,
+    ViewIn,
+    ViewList,
+    ViewOut,
+)
+from bodycensus.input.sniff import sniff
+from bodycensus.storage.store import Manifest, SavedView, Store, now
+from bodycensus.dashboard.intake.uploads import FIELD, Upload, receive_upload
+from bodycensus.dashboard.screens.viewstate import MAX_LIMIT, ViewState
+
+_ERRORS: dict[int | str, dict[str, Any]] = {
+    code: {"model": ErrorOut} for code in (400, 404, 409, 413, 415, 421, 422, 507)
+}
+router = APIRouter(prefix="/api", tags=["api"], responses=_ERRORS)
+
+_UPLOAD_BODY = {"requestBody": {"required": True, "content": {"multipart/form-data": {"schema": {
+    "type": "object", "required": [FIELD],
+    "properties": {FIELD: {"type": "string", "format": "binary",
+                           "description": "CSV/TSV/NDJSON/Parquet, optionally .gz or .zst"}},
+}}}}}
+
+
+def _out(manifest: Manifest) -> CatalogueOut:
+    """The API form of a manifest."""
+    return CatalogueOut(**manifest.to_json(), url=f"/catalogues/{manifest.id}")
+
+
+def _view_out(view: SavedView) -> ViewOut:
+    """The API form of a saved view."""
+    return ViewOut(**asdict(view), url=view.url)
+
+
+async def _open_upload(store: Store, up: Upload, max_columns: int, auto: bool) -> Manifest:
+    """Look at the upload; refuse it (nothing kept) if it cannot be read at all."""
+    try:
+        found = await run_in_threadpool(sniff, up.path, up.name, max_columns)
+        if auto and found is not None and "id" not in found.mapping.choices:
+            raise BadInput(f"{up.name}: no column was recognised as the body id; upload without "
+                           "auto=1 to choose it, or add an 'id' column", 422)
+    except BaseException:
+        store.discard(up.id)
+        raise
+    manifest = Manifest(id=up.id, name=up.name, status="mapping", created=now(),
+                        source=up.suffix, proposal=found.to_json() if found else None)
+    return store.open_upload(manifest)
+
+
+@router.post("/catalogues", status_code=202, response_model=UploadAccepted,
+             openapi_extra=_UPLOAD_BODY)
+async def upload_catalogue(request: Request, store: StoreDep, jobs: JobsDep,
+                           settings: SettingsDep, auto: bool = False) -> UploadAccepted:
+    """Upload a catalogue (multipart field ``file``), streamed to disk. The run starts at once
+    unless the mapping is unsure (status ``mapping``); ``auto=1`` skips the mapping step."""
+    up = await receive_upload(request, store, settings.max_upload_bytes)
+    manifest = await _open_upload(store, up, settings.max_columns, auto)
+    proposal = manifest.proposal or {}
+    if auto or not proposal.get("reasons"):
+        manifest = await run_in_threadpool(jobs.start, up.id, Overrides())
+    return UploadAccepted(id=up.id, status=manifest.status, url=f"/catalogues/{up.id}")
+
+
+@router.get("/catalogues", response_model=CatalogueList)
+def list_catalogues(store: StoreDep) -> CatalogueList:
+    """Every catalogue, newest first, without summaries or proposals."""
+    return CatalogueList(items=[_out(m).model_copy(update={"summary": None, "proposal": None})
+                                for m in store.list()])
+
+
+@router.get("/catalogues/{catalogue_id}", response_model=CatalogueOut)
+def get_catalogue(catalogue_id: str, store: StoreDep) -> CatalogueOut:
+    """A catalogue's status, progress, rows, error, mapping (or proposal) and summary."""
+    return _out(store.get(catalogue_id))
+
+
+@router.post("/catalogues/{catalogue_id}/mapping", status_code=202, response_model=CatalogueOut)
+def confirm_mapping(catalogue_id: str, choice: MappingIn, store: StoreDep,
+                    jobs: JobsDep) -> CatalogueOut:
+    """Confirm or correct the mapping of a catalogue in status ``mapping`` and start its run."""
+    manifest = store.get(catalogue_id)
+    if manifest.status != "mapping":
+        raise Conflict(f"catalogue '{catalogue_id}' is {manifest.status}; only a catalogue in "
+                       "status mapping takes a mapping")
+    columns = list((manifest.proposal or {}).get("columns", []))
+    overrides = Overrides(choice.map, choice.units, choice.families)
+    if columns:
+        overrides = overrides.checked(columns)
+    return _out(jobs.start(catalogue_id, overrides))
+
+
+@router.delete("/catalogues/{catalogue_id}", status_code=204)
+def delete_catalogue(catalogue_id: str, store: StoreDep) -> Response:
+    """Delete a catalogue and its saved views (not while it is being ingested)."""
+    store.delete(catalogue_id)
+    return Response(status_code=204)
+
+
+def _state(request: Request) -> ViewState:
+    """The view state of the request's query string (the one parser)."""
+    return ViewState.from_query(request.query_params)
+
+
+FilterQuery = Annotated[list[str] | None, Query(description="repeat the key for several")]
+
+
+@router.get("/catalogues/{catalogue_id}/findings", response_model=FindingsPage)
+def list_findings(request: Request, cat_dir: ReadyDir,
+                  severity: FilterQuery = None, rule: FilterQuery = None, label: FilterQuery = None,
+                  family: FilterQuery = None, min_value: float | None = None,
+                  max_value: float | None = None, min_margin: float | None = None,
+                  max_margin: float | None = None, sort: str = "severity",
+                  limit: Annotated[int, Query(ge=1, le=MAX_LIMIT)] = 50,
+                  offset: Annotated[int, Query(ge=0)] = 0) -> dict[str, Any]:
+    """Findings filtered by severity (error, impossible, unstable, suspect, note), rule, label, family and value/margin ranges; sorted by
+    ``sort`` (a column, '-' for descending); paginated by ``limit`` and ``offset``."""
+    return queries.findings_page(cat_dir, _state(request))
+
+
+def _export(request: Request, store: Store, cat_dir: Any, fmt: Literal["csv", "parquet"]
+            ) -> FileResponse:
+    """Write the filtered findings to a scratch file and send it, removing it afterwards."""
+    dest = store.scratch(f".{fmt}")
+    try:
+        queries.export_findings(cat_dir, _state(request), fmt, dest)
+    except BaseException:
+        dest.unlink(missing_ok=True)
+        raise
+    media = "text/csv; charset=utf-8" if fmt == "csv" else "application/vnd.apache.parquet"
+    return FileResponse(dest, media_type=media, filename=f"{cat_dir.name}-findings.{fmt}",
+                        background=BackgroundTask(dest.unlink, missing_ok=True))
+
+
+@router.get("/catalogues/{catalogue_id}/findings.csv", response_class=FileResponse)
+def export_csv(request: Request, cat_dir: ReadyDir, store: StoreDep) -> FileResponse:
+    """Every filtered finding as CSV (cells that start like a formula are prefixed with ')."""
+    return _export(request, store, cat_dir, "csv")
+
+
+@router.get("/catalogues/{catalogue_id}/findings.parquet", response_class=FileResponse)
+def export_parquet(request: Request, cat_dir: ReadyDir, store: StoreDep) -> FileResponse:
+    """Every filtered finding as Parquet."""
+    return _export(request, store, cat_dir, "parquet")
+
+
+@router.get("/catalogues/{catalogue_id}/bodies/{body_id:path}", response_model=BodyOut)
+def get_body(catalogue_id: str, body_id: str, cat_dir: ReadyDir, store: StoreDep
+             ) -> dict[str, Any]:
+    """One body: fields in SI and as given, derived values, findings, parent/siblings/children."""
+    return queries.body_detail(cat_dir, body_id, store.get(catalogue_id).mapping)
+
+
+@router.get("/catalogues/{catalogue_id}/overview", response_model=Overview)
+def get_overview(catalogue_id: str, cat_dir: ReadyDir, store: StoreDep) -> dict[str, Any]:
+    """Summary counts, rule coverage and artefacts of a ready catalogue."""
+    return queries.overview(cat_dir, store.get(catalogue_id).to_json())
+
+
+@router.get("/catalogues/{catalogue_id}/artefacts")
+def get_artefacts(cat_dir: ReadyDir) -> list[dict[str, Any]]:
+    """Distribution artefacts: hard cutoffs, gaps and spikes, per label or family and field."""
+    return queries.artefacts(cat_dir)
+
+
+@router.get("/catalogues/{catalogue_id}/coverage")
+def get_coverage(cat_dir: ReadyDir) -> list[dict[str, Any]]:
+    """Which rules ran on how many bodies, and why the others were skipped."""
+    return queries.coverage(cat_dir)
+
+
+@router.get("/catalogues/{catalogue_id}/systems")
+def list_systems(request: Request, cat_dir: ReadyDir, severity: FilterQuery = None,
+                 limit: Annotated[int, Query(ge=1, le=MAX_LIMIT)] = 50,
+                 offset: Annotated[int, Query(ge=0)] = 0) -> dict[str, Any]:
+    """Systems, most serious first: bodies, primary, findings per severity, worst severity and
+    body; filtered by worst ``severity``; paginated by ``limit`` and ``offset``."""
+    return queries.systems_page(cat_dir, _state(request))
+
+
+@router.get("/catalogues/{catalogue_id}/aggregates")
+def get_aggregates(cat_dir: ReadyDir) -> dict[str, Any]:
+    """Binned counts for every diagram (the browser never gets raw rows)."""
+    return queries.aggregates(cat_dir)
+
+
+@router.post("/views", status_code=201, response_model=ViewOut)
+def save_view(view: ViewIn, store: StoreDep) -> ViewOut:
+    """Save a view (catalogue + its URL query + title + note) under a short slug."""
+    query = ViewState.from_query(view.query).to_query()
+    return _view_out(store.save_view(view.catalogue, query, view.title.strip(), view.note))
+
+
+@router.get("/views/{slug}", response_model=ViewOut)
+def get_view(slug: str, store: StoreDep) -> ViewOut:
+    """A saved view."""
+    return _view_out(store.get_view(slug))
+
+
+@router.get("/catalogues/{catalogue_id}/views", response_model=ViewList)
+def list_views(catalogue_id: str, store: StoreDep) -> ViewList:
+    """The saved views of a catalogue, newest first."""
+    store.get(catalogue_id)
+    return ViewList(items=[_view_out(v) for v in store.list_views(catalogue_id)])
+

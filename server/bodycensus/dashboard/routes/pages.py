@@ -1,0 +1,262 @@
+"""The dashboard's HTML screens: each renders, with a jinja2 template, the data its JSON twin
+(linked from the page) returns. State lives in the URL query, parsed and built by ViewState;
+data comes from ``queries`` and the Store, so no handler holds polars logic.
+"""
+
+from __future__ import annotations
+
+from importlib.resources import files
+from pathlib import Path
+from typing import Any
+from urllib.parse import quote
+
+from fastapi import APIRouter, Request
+from fastapi.responses import HTMLResponse
+from fastapi.templating import Jinja2Templates
+
+from bodycensus.dashboard.screens import queries
+from bodycensus.dashboard.screens import report
+from bodycensus.dashboard.deps import StoreDep
+from bodycensus.science.families import FAMILIES
+from bodycensus.dashboard.screens.page_context import (
+    DIAGRAMS,
+    artefact_rows,
+    body_extras,
+    diagram_context,
+    format_number,
+    mapping_context,
+)
+from bodycensus.storage.store import Manifest, SavedView, Store
+from bodycensus.dashboard.screens.viewstate import SEVERITIES, SORT_KEYS, ViewState
+
+TEMPLATES_DIR = Path(str(files("bodycensus.web") / "templates"))
+templates = Jinja2Templates(directory=TEMPLATES_DIR)  # autoescape is on for every template
+templates.env.filters["num"] = format_number
+router = APIRouter(include_in_schema=False)
+LABELS_SHOWN = 40
+
+
+def cat_url(cat_id: str, *parts: str, state: ViewState | None = None) -> str:
+    """The page of a catalogue (or below it), with a view's query when given."""
+    path = "/".join([f"/catalogues/{quote(cat_id, safe='')}", *[quote(p, safe='') for p in parts]])
+    query = state.to_query() if state else ""
+    return f"{path}?{query}" if query else path
+
+
+def _render(request: Request, template: str, **context: Any) -> HTMLResponse:
+    """Render a screen with the keys every template expects."""
+    context.setdefault("catalogue", None)
+    context.setdefault("query", "")
+    context.setdefault("severities", SEVERITIES)
+    return templates.TemplateResponse(request, template, context)
+
+
+@router.get("/", response_class=HTMLResponse)
+def catalogues_page(request: Request, store: StoreDep) -> HTMLResponse:
+    """Catalogues: every catalogue in the data directory, and the upload box."""
+    catalogues = [m.to_json() for m in store.list()]
+    return _render(request, "catalogues.html", screen="catalogues", catalogues=catalogues,
+                   json_url="/api/catalogues")
+
+
+def overview_context(store: Store, manifest: Manifest) -> dict[str, Any]:
+    """Overview: counts, findings by severity and rule (as links), coverage, ingest problems."""
+    cat_id = manifest.id
+    context: dict[str, Any] = {"screen": "overview", "catalogue": manifest.to_json(),
+                               "json_url": f"/api/catalogues/{quote(cat_id, safe='')}"}
+    if manifest.status == "mapping" and manifest.proposal:
+        return {**context, **mapping_context(manifest.proposal)}
+    if manifest.status != "ready":
+        return context
+    cat_dir = store.ready_dir(cat_id)
+    aggs, overview = queries.aggregates(cat_dir), queries.overview(cat_dir, manifest.to_json())
+    summary = overview["summary"]
+
+    def findings(**filters: Any) -> str:
+        return cat_url(cat_id, "findings", state=ViewState(**filters))
+
+    labels = aggs["labels"]
+    return {
+        **context, "json_url": context["json_url"] + "/overview",
+        "severity": [{**s, "href": findings(severity=(s["severity"],))} for s in aggs["severity"]],
+        "rules": [{**r, "href": findings(rule=(r["rule"],))} for r in aggs["rules"]],
+        "labels": [{**lb, "findings_href": findings(label=(lb["label"],)),
+                    "density_href": cat_url(cat_id, "diagrams", state=ViewState(
+                        diagram="density", label=(lb["label"],)))}
+                   for lb in labels[:LABELS_SHOWN] if lb["label"] is not None],
+        "more_labels": max(0, len(labels) - LABELS_SHOWN),
+        "families": [{**f, "href": findings(family=(f["family"],))} for f in aggs["families"]
+                     if f["family"] is not None],
+        "unmapped_labels": summary.get("unmapped_labels", []),
+        "coverage": overview["coverage"],
+        "bad_cells": sorted((summary.get("bad_cells") or {}).items()),
+        "artefacts": artefact_rows(cat_id, overview["artefacts"], cat_url),
+        "diagrams": [{"title": title, "href": cat_url(cat_id, "diagrams",
+                                                      state=ViewState(diagram=key))}
+                     for key, title in DIAGRAMS.items()],
+        "views": [{**v.__dict__, "url": v.url} for v in store.list_views(cat_id)],
+    }
+
+
+@router.get("/catalogues/{catalogue_id}", response_class=HTMLResponse)
+def overview_page(request: Request, catalogue_id: str, store: StoreDep) -> HTMLResponse:
+    """Overview of a ready catalogue; its progress while ingesting; the mapping step."""
+    context = overview_context(store, store.get(catalogue_id))
+    context["families_all"] = FAMILIES
+    return _render(request, "overview.html", **context)
+
+
+def findings_context(store: Store, cat_id: str, state: ViewState) -> dict[str, Any]:
+    """Findings: one server-side page of the filtered, sorted list, with its filter form."""
+    cat_dir = store.ready_dir(cat_id)
+    page = queries.findings_page(cat_dir, state)
+    aggs = queries.aggregates(cat_dir)
+    query = state.to_query()
+    prev_state = state.with_(offset=max(0, state.offset - state.limit))
+    next_state = state.with_(offset=state.offset + state.limit)
+    return {
+        "screen": "findings", "catalogue": store.get(cat_id).to_json(), "state": state,
+        "page": page, "query": query, "default_query": "sort=severity",
+        "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/findings" + (f"?{query}" if query
+                                                                          else ""),
+        "rule_options": sorted(r["rule"] for r in aggs["rules"]),
+        "label_options": sorted(lb["label"] for lb in aggs["labels"] if lb["label"] is not None),
+        "family_options": sorted(f["family"] for f in aggs["families"] if f["family"]),
+        "sort_options": [(k, k.lstrip("_")) for k in SORT_KEYS] +
+                        [(f"-{k}", f"{k.lstrip('_')} (descending)") for k in SORT_KEYS],
+        "prev_href": cat_url(cat_id, "findings", state=prev_state) if state.offset else None,
+        "next_href": (cat_url(cat_id, "findings", state=next_state)
+                      if state.offset + state.limit < page["total"] else None),
+        "export_csv": _export_url(cat_id, "csv", state),
+        "export_parquet": _export_url(cat_id, "parquet", state),
+    }
+
+
+def _export_url(cat_id: str, fmt: str, state: ViewState) -> str:
+    """The API export of every filtered finding (no paging)."""
+    query = state.with_(offset=0, limit=ViewState.limit).to_query()
+    path = f"/api/catalogues/{quote(cat_id, safe='')}/findings.{fmt}"
+    return f"{path}?{query}" if query else path
+
+
+@router.get("/catalogues/{catalogue_id}/findings", response_class=HTMLResponse)
+def findings_screen(request: Request, catalogue_id: str, store: StoreDep) -> HTMLResponse:
+    """Findings list: filters, sort, pages, exports."""
+    state = ViewState.from_query(request.query_params)
+    return _render(request, "findings.html", **findings_context(store, catalogue_id, state))
+
+
+def diagrams_context(store: Store, cat_id: str, state: ViewState) -> dict[str, Any]:
+    """Distributions and the other diagrams: one plotly figure from the stored aggregates."""
+    cat_dir = store.ready_dir(cat_id)
+    context = diagram_context(cat_id, queries.aggregates(cat_dir), state, cat_url)
+    return {**context, "screen": "diagrams", "catalogue": store.get(cat_id).to_json(),
+            "query": state.to_query(), "default_query": f"diagram={context['diagram']}",
+            "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/aggregates"}
+
+
+@router.get("/catalogues/{catalogue_id}/diagrams", response_class=HTMLResponse)
+def diagrams_screen(request: Request, catalogue_id: str, store: StoreDep) -> HTMLResponse:
+    """A diagram chosen by ``diagram=`` (density, mass-radius, roche, orbits, distributions)."""
+    state = ViewState.from_query(request.query_params)
+    return _render(request, "diagrams.html", **diagrams_context(store, catalogue_id, state))
+
+
+def body_context(store: Store, cat_id: str, body_id: str) -> dict[str, Any]:
+    """Body: every field (original and SI), derived quantities, findings, its system drawn."""
+    cat_dir = store.ready_dir(cat_id)
+    manifest = store.get(cat_id)
+    detail = queries.body_detail(cat_dir, body_id, manifest.mapping)
+    state = ViewState(body=body_id)
+    return {"screen": "body", "catalogue": manifest.to_json(), "body": detail,
+            "query": state.to_query(), "default_query": state.to_query(),
+            "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/bodies/"
+                        f"{quote(body_id, safe='')}", **body_extras(detail, manifest.mapping)}
+
+
+@router.get("/catalogues/{catalogue_id}/bodies/{body_id:path}", response_class=HTMLResponse)
+def body_screen(request: Request, catalogue_id: str, body_id: str,
+                store: StoreDep) -> HTMLResponse:
+    """One body and its system."""
+    return _render(request, "body.html", **body_context(store, catalogue_id, body_id))
+
+
+def _view_context(store: Store, view: SavedView) -> tuple[str, dict[str, Any], str]:
+    """The template, context and live address of the screen a saved view encodes: a body, a
+    diagram, the findings list (any other query), else the overview."""
+    state = ViewState.from_query(view.query)
+    cat_id, query = view.catalogue, view.query.lstrip("?")
+    if state.body:
+        return ("body.html", body_context(store, cat_id, state.body),
+                cat_url(cat_id, "bodies", state.body))
+    if state.diagram:
+        return ("diagrams.html", diagrams_context(store, cat_id, state),
+                f"{cat_url(cat_id, 'diagrams')}?{query}")
+    if query:
+        return ("findings.html", findings_context(store, cat_id, state),
+                f"{cat_url(cat_id, 'findings')}?{query}")
+    context = {**overview_context(store, store.get(cat_id)), "families_all": FAMILIES}
+    return "overview.html", context, cat_url(cat_id)
+
+
+@router.get("/v/{slug}", response_class=HTMLResponse)
+def saved_view_screen(request: Request, slug: str, store: StoreDep) -> HTMLResponse:
+    """Saved views: the title and note above the screen the saved query encodes."""
+    view = store.get_view(slug)
+    template, context, live = _view_context(store, view)
+    context.update(saved_view=view, live_url=live, json_url=f"/api/views/{quote(slug, safe='')}")
+    return _render(request, template, **context)
+
+
+@router.get("/catalogues/{catalogue_id}/report.html", response_class=HTMLResponse)
+def report_download(request: Request, catalogue_id: str, store: StoreDep) -> HTMLResponse:
+    """Download report: the current view as one self-contained HTML file."""
+    state = ViewState.from_query(request.query_params)
+    cat_dir = store.ready_dir(catalogue_id)
+    manifest = store.get(catalogue_id)
+    aggs = queries.aggregates(cat_dir)
+    figures = report.figures_for_view(aggs, state)
+    page = queries.findings_page(cat_dir, state.with_(limit=min(state.limit * 10, 500)))
+    body = report.build_report(templates.env, manifest.to_json(), state, aggs, figures, page)
+    name = f"bodycensus-{catalogue_id}-report.html"
+    return HTMLResponse(body, headers={"Content-Disposition": f'attachment; filename="{name}"'})
+
+
+
+def systems_context(store: Store, cat_id: str, state: ViewState) -> dict[str, Any]:
+    """Systems: one server-side page of the systems, most serious first, filtered by worst."""
+    page = queries.systems_page(store.ready_dir(cat_id), state)
+    query = state.with_(sort=ViewState.sort).to_query()
+    prev_state = state.with_(offset=max(0, state.offset - state.limit))
+    next_state = state.with_(offset=state.offset + state.limit)
+    items = [{**item, "href": cat_url(cat_id, "systems", item["system"]),
+              "worst_href": (cat_url(cat_id, "bodies", item["worst_body"])
+                             if item["worst_body"] is not None else None),
+              "primary_href": (cat_url(cat_id, "bodies", item["primary"])
+                               if item["primary"] is not None else None)}
+             for item in page["items"]]
+    return {"screen": "systems", "catalogue": store.get(cat_id).to_json(), "state": state,
+            "page": {**page, "items": items}, "query": query,
+            "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/systems" + (f"?{query}" if query
+                                                                         else ""),
+            "prev_href": cat_url(cat_id, "systems", state=prev_state) if state.offset else None,
+            "next_href": (cat_url(cat_id, "systems", state=next_state)
+                          if state.offset + state.limit < page["total"] else None)}
+
+
+@router.get("/catalogues/{catalogue_id}/systems", response_class=HTMLResponse)
+def systems_screen(request: Request, catalogue_id: str, store: StoreDep) -> HTMLResponse:
+    """Systems list: worst severity first, with a filter by worst severity and pages."""
+    state = ViewState.from_query(request.query_params)
+    return _render(request, "systems.html", **systems_context(store, catalogue_id, state))
+
+
+@router.get("/catalogues/{catalogue_id}/systems/{system:path}", response_class=HTMLResponse)
+def system_screen(request: Request, catalogue_id: str, system: str,
+                  store: StoreDep) -> HTMLResponse:
+    """One system: its bodies as an indented tree, each with its worst severity."""
+    detail = queries.system_detail(store.ready_dir(catalogue_id), system)
+    for row in detail["bodies"]:
+        row["href"] = cat_url(catalogue_id, "bodies", row["id"])
+    return _render(request, "system.html", screen="systems", system=detail,
+                   catalogue=store.get(catalogue_id).to_json())

@@ -1,0 +1,1 @@
+"""What each screen shows: data functions, template contexts, URL state and the standalone report."""

@@ -1,0 +1,299 @@
+"""The data functions behind both the JSON API and the pages: one result, two renderings.
+
+Every function takes a finished catalogue folder (``Store.ready_dir``) and returns plain,
+JSON-ready Python data. Findings are read lazily from Parquet, filtered, sorted and sliced before
+anything is collected, so a catalogue of millions of rows answers a page in milliseconds.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Any, Literal
+
+import polars as pl
+
+from bodycensus.storage.csvsafe import neutralise_formulas
+from bodycensus.errors import NotFound
+from bodycensus.science.rules.base import SEVERITIES
+from bodycensus.science.rules.context import DERIVED_COLUMNS, ENGINE_COLUMNS
+from bodycensus.input.schema import CANONICAL_FIELDS, ColumnChoice
+from bodycensus.storage.store import json_ready
+from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT
+from bodycensus.dashboard.screens.viewstate import ViewState
+
+__all__ = ["ViewState", "aggregates", "artefacts", "body_detail", "coverage", "export_findings",
+           "findings_page", "overview", "system_detail", "systems_page"]
+
+MAX_RELATIVES = 200  # siblings or children returned for the system drawing
+_SYSTEM_COLUMNS = ("id", "name", "label", "family", "parent", "mass", "radius",
+                   "semi_major_axis", "eccentricity", "periapsis", "apoapsis", "roche_rigid",
+                   "roche_fluid", "hill_radius")
+
+
+def _severity_rank() -> pl.Expr:
+    """0 for `error` … 4 for `note`, so sorting by it puts the most serious first."""
+    ranks = {name: rank for rank, name in enumerate(SEVERITIES)}
+    return pl.col("severity").replace_strict(ranks, default=len(SEVERITIES), return_dtype=pl.Int8)
+
+
+def _scan(cat_dir: Path, name: str) -> pl.LazyFrame:
+    """A lazy scan of one of the engine's Parquet files."""
+    return pl.scan_parquet(cat_dir / f"{name}.parquet")
+
+
+def _filters(state: ViewState) -> list[pl.Expr]:
+    """The filter expressions for the findings list."""
+    exprs = [pl.col(col).is_in(list(values)) for col, values in
+             (("severity", state.severity), ("rule", state.rule), ("label", state.label),
+              ("family", state.family)) if values]
+    for col, low, high in (("value", state.min_value, state.max_value),
+                           ("margin", state.min_margin, state.max_margin)):
+        if low is not None:
+            exprs.append(pl.col(col) >= low)
+        if high is not None:
+            exprs.append(pl.col(col) <= high)
+    return exprs
+
+
+def filtered_findings(cat_dir: Path, state: ViewState) -> pl.LazyFrame:
+    """The findings that pass the view's filters, in the view's order (lazy)."""
+    lf = _scan(cat_dir, "findings")
+    for expr in _filters(state):
+        lf = lf.filter(expr)
+    key, descending = state.sort_key()
+    if key == "severity":
+        return lf.sort([_severity_rank(), "margin", "body"], descending=[descending, True, False],
+                       nulls_last=True)
+    return lf.sort([key, "body"], descending=[descending, False], nulls_last=True)
+
+
+def findings_page(cat_dir: Path, state: ViewState) -> dict[str, Any]:
+    """One page of the filtered findings: ``{"total", "offset", "limit", "items"}``."""
+    lf = filtered_findings(cat_dir, state)
+    total = lf.select(pl.len()).collect().item()
+    items = lf.slice(state.offset, state.limit).collect().to_dicts()
+    return {"total": total, "offset": state.offset, "limit": state.limit,
+            "items": json_ready(items)}
+
+
+def export_findings(cat_dir: Path, state: ViewState, fmt: Literal["csv", "parquet"],
+                    dest: Path) -> Path:
+    """Write every filtered finding (no paging) to ``dest`` as CSV or Parquet, streaming."""
+    lf = filtered_findings(cat_dir, state)
+    if fmt == "csv":
+        neutralise_formulas(lf).sink_csv(dest)
+    else:
+        lf.sink_parquet(dest)
+    return dest
+
+
+def _choices(mapping: dict[str, Any] | None) -> dict[str, ColumnChoice]:
+    """The ColumnChoice per field from a manifest's mapping (``IngestReport.to_json()``)."""
+    raw = ((mapping or {}).get("mapping") or mapping or {}).get("choices", {})
+    return {f: ColumnChoice(**c) for f, c in raw.items()}
+
+
+def _field_rows(row: dict[str, Any], choices: dict[str, ColumnChoice]) -> list[dict[str, Any]]:
+    """Each canonical field: SI value and unit, and the source column, unit and value."""
+    out = []
+    for name in CANONICAL_FIELDS:
+        choice, value = choices.get(name), row.get(name)
+        original = value
+        if choice is not None and choice.unit is not None and isinstance(value, float):
+            original = value / choice.factor()
+        dimension = FIELD_DIMENSIONS.get(name)
+        out.append({"field": name, "value": value,
+                    "unit": "yr" if dimension == "age" else SI_UNIT.get(dimension or ""),
+                    "column": choice.column if choice else None,
+                    "original_unit": choice.unit if choice else None, "original": original})
+    return out
+
+
+def _worst(cat_dir: Path, ids: list[str]) -> dict[str, str]:
+    """The most serious severity found for each of ``ids``."""
+    if not ids:
+        return {}
+    df = (_scan(cat_dir, "findings").filter(pl.col("body").is_in(ids))
+          .group_by("body").agg(pl.col("severity").sort_by(_severity_rank()).first()).collect())
+    return dict(zip(df["body"].to_list(), df["severity"].to_list(), strict=True))
+
+
+def _system(cat_dir: Path, body_id: str, parent: str | None) -> dict[str, Any]:
+    """The parent, siblings and children of a body, each with its worst severity."""
+    lf = _scan(cat_dir, "bodies")
+    cols = [c for c in _SYSTEM_COLUMNS if c in lf.collect_schema()]
+    related = pl.col("parent") == body_id  # children
+    if parent is not None:
+        related = related | (pl.col("id") == parent) | (pl.col("parent") == parent)
+    found = lf.filter(related & (pl.col("id") != body_id)).select(cols).collect()  # one scan
+    children = found.filter(pl.col("parent") == body_id).head(MAX_RELATIVES)
+    parent_df = siblings = found.clear()
+    if parent is not None:
+        parent_df = found.filter(pl.col("id") == parent).head(1)
+        siblings = found.filter(pl.col("parent") == parent).head(MAX_RELATIVES)
+    parts = {"parent": parent_df.to_dicts()[:1], "siblings": siblings.to_dicts(),
+             "children": children.to_dicts()}
+    worst = _worst(cat_dir, [r["id"] for rows in parts.values() for r in rows])
+    for rows in parts.values():
+        for r in rows:
+            r["worst"] = worst.get(r["id"])
+    return {"parent": (parts["parent"] or [None])[0], "siblings": parts["siblings"],
+            "children": parts["children"]}
+
+
+def body_detail(cat_dir: Path, body_id: str, mapping: dict[str, Any] | None) -> dict[str, Any]:
+    """Everything about one body: fields (SI and original), derived values, findings, system."""
+    rows = _scan(cat_dir, "bodies").filter(pl.col("id") == body_id).head(100).collect()
+    if rows.height == 0:
+        raise NotFound(f"no body with id '{body_id}' in this catalogue")
+    row = rows.row(0, named=True)
+    hidden = set(CANONICAL_FIELDS) | set(ENGINE_COLUMNS) | {"_row", "_bad"}
+    derived = {k: v for k, v in row.items() if k in DERIVED_COLUMNS}
+    extra = {k: v for k, v in row.items()
+             if k not in hidden and k not in DERIVED_COLUMNS and not k.startswith("_")}
+    findings = (_scan(cat_dir, "findings").filter(pl.col("body") == body_id)
+                .sort(_severity_rank(), pl.col("margin"), descending=[False, True],
+                      nulls_last=True).collect().to_dicts())
+    return json_ready({
+        "id": body_id, "row": row.get("_row"), "bad": row.get("_bad"),
+        "duplicates": rows.height - 1, "fields": _field_rows(row, _choices(mapping)),
+        "derived": derived, "extra": extra, "findings": findings,
+        "system": _system(cat_dir, body_id, row.get("parent")),
+    })
+
+
+
+def coverage(cat_dir: Path) -> list[dict[str, Any]]:
+    """The rule coverage table: which rules ran on how many bodies, and why others were skipped."""
+    return json_ready(_scan(cat_dir, "coverage").collect().to_dicts())
+
+
+def artefacts(cat_dir: Path) -> list[dict[str, Any]]:
+    """The distribution artefacts found (cutoffs, gaps, spikes), strongest evidence first."""
+    lf = _scan(cat_dir, "artefacts")
+    if "p_value" in lf.collect_schema():
+        lf = lf.sort("p_value", nulls_last=True)
+    return json_ready(lf.collect().to_dicts())
+
+
+def aggregates(cat_dir: Path) -> dict[str, Any]:
+    """The precomputed binned counts for every diagram (``aggregates.json``)."""
+    path = cat_dir / "aggregates.json"
+    if not path.is_file():
+        raise NotFound("this catalogue has no aggregates; upload it again")
+    return json.loads(path.read_text(encoding="utf-8"))
+
+
+def overview(cat_dir: Path, manifest: dict[str, Any]) -> dict[str, Any]:
+    """The catalogue's overview: summary counts, rule coverage, artefacts and ingest problems."""
+    found = artefacts(cat_dir)
+    return {
+        "catalogue": {k: manifest.get(k) for k in ("id", "name", "rows", "created", "status")},
+        "summary": manifest.get("summary") or {},
+        "coverage": coverage(cat_dir),
+        "artefacts": found,
+    }
+
+
+NO_SYSTEM = "(no system)"  # the group of bodies whose system is blank
+MAX_SYSTEM_BODIES = 2000  # bodies listed on one system's page
+
+
+def _system_key(lf: pl.LazyFrame) -> pl.Expr:
+    """The system of each body, blanks (or a catalogue without the column) as NO_SYSTEM."""
+    column = pl.col("system") if "system" in lf.collect_schema() else pl.lit(None, pl.String)
+    return column.fill_null(NO_SYSTEM).alias("system")
+
+
+def _body_findings(cat_dir: Path) -> pl.LazyFrame:
+    """Per body: number of findings, the rank of its worst, and a count per severity."""
+    return (_scan(cat_dir, "findings").with_columns(_rank=_severity_rank()).group_by("body")
+            .agg(pl.len().alias("findings"), pl.col("_rank").min(),
+                 *[(pl.col("severity") == s).sum().alias(s) for s in SEVERITIES]))
+
+
+def _rank_to_severity(column: str) -> pl.Expr:
+    """A severity rank back to its name (null when no finding)."""
+    return pl.col(column).replace_strict(dict(enumerate(SEVERITIES)), default=None,
+                                         return_dtype=pl.String)
+
+
+def systems_page(cat_dir: Path, state: ViewState) -> dict[str, Any]:
+    """One page of the systems, most serious first: ``{"total", "offset", "limit", "items"}``.
+
+    Each item: system, bodies, primary (the heaviest parentless body), findings, a count per
+    severity, the worst severity and the body that carries it. ``state.severity`` filters by worst.
+    """
+    bodies, top = _scan(cat_dir, "bodies"), pl.col("parent").is_null()
+    lf = (bodies.select("id", "parent", "mass", _system_key(bodies))
+          .join(_body_findings(cat_dir), left_on="id", right_on="body", how="left")
+          .group_by("system")
+          .agg(pl.len().alias("bodies"),
+               pl.col("id").filter(top).sort_by(pl.col("mass").filter(top), pl.col("id")
+                                                 .filter(top), descending=[True, False],
+                                                 nulls_last=True).first().alias("primary"),
+               pl.col("findings").sum(), *[pl.col(s).sum() for s in SEVERITIES],
+               pl.col("_rank").min(),
+               pl.col("id").sort_by(["_rank", "findings"], descending=[False, True],
+                                    nulls_last=True).first().alias("worst_body"))
+          .with_columns(worst=_rank_to_severity("_rank"))
+          .with_columns(pl.when(pl.col("worst").is_null()).then(None)
+                        .otherwise(pl.col("worst_body")).alias("worst_body")))
+    if state.severity:
+        lf = lf.filter(pl.col("worst").is_in(list(state.severity)))
+    lf = lf.sort(["_rank", "findings", "system"], descending=[False, True, False],
+                 nulls_last=True)
+    total = lf.select(pl.len()).collect().item()
+    rows = lf.slice(state.offset, state.limit).drop("_rank").collect().to_dicts()
+    items = [{**{k: r[k] for k in ("system", "bodies", "primary", "findings", "worst",
+                                   "worst_body")},
+              "counts": {s: r[s] for s in SEVERITIES}} for r in rows]
+    return {"total": total, "offset": state.offset, "limit": state.limit,
+            "items": json_ready(items)}
+
+
+def system_detail(cat_dir: Path, system: str) -> dict[str, Any]:
+    """A system's bodies in depth-first tree order (each with depth and child ids), capped.
+
+    Roots are bodies whose parent is blank or outside the system; bodies caught in a parent
+    cycle start a tree of their own, so every body listed appears once.
+    """
+    bodies = _scan(cat_dir, "bodies")
+    cols = [c for c in ("id", "name", "label", "family", "parent", "mass", "radius",
+                        "semi_major_axis", "eccentricity") if c in bodies.collect_schema()]
+    members = bodies.filter(_system_key(bodies) == system)
+    total = members.select(pl.len()).collect().item()
+    if total == 0:
+        raise NotFound(f"no system '{system[:80]}' in this catalogue")
+    rows = (members.select(cols).head(MAX_SYSTEM_BODIES)
+            .join(_body_findings(cat_dir).select("body", "findings", "_rank"), left_on="id",
+                  right_on="body", how="left")
+            .with_columns(worst=_rank_to_severity("_rank"), findings=pl.col("findings")
+                          .fill_null(0))
+            .drop("_rank").sort(["semi_major_axis", "id"], nulls_last=True).collect())
+    ordered = _tree_order(json_ready(rows.to_dicts()))
+    return {"system": system, "total": total, "shown": len(ordered),
+            "capped": total > MAX_SYSTEM_BODIES, "bodies": ordered}
+
+
+def _tree_order(rows: list[dict[str, Any]]) -> list[dict[str, Any]]:
+    """Rows in depth-first order with ``depth`` and ``children`` (ids); no recursion."""
+    ids = {r["id"] for r in rows}
+    children: dict[str, list[dict[str, Any]]] = {}
+    for r in rows:
+        if r.get("parent") in ids and r["parent"] != r["id"]:
+            children.setdefault(r["parent"], []).append(r)
+    starts = [r for r in rows if r.get("parent") not in ids or r["parent"] == r["id"]] + rows
+    out, seen = [], set()
+    for start in starts:
+        stack = [(start, 0)]
+        while stack:
+            row, depth = stack.pop()
+            if id(row) in seen:
+                continue
+            seen.add(id(row))
+            kids = children.get(row["id"], [])
+            out.append({**row, "depth": depth, "children": [k["id"] for k in kids]})
+            stack.extend((k, depth + 1) for k in reversed(kids))
+    return out

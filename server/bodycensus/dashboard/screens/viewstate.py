@@ -1,0 +1,155 @@
+"""The state of a view in the URL query: one dataclass, one parser, one builder.
+
+Pages and the API both read filters with ``ViewState.from_query`` and build links with
+``ViewState.to_query``, so a copied address reproduces the view exactly. Lists are repeated keys
+(``severity=error&severity=impossible``), because labels may contain commas.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, fields, replace
+from typing import Any
+from urllib.parse import parse_qsl, urlencode
+
+from bodycensus.errors import BadInput
+from bodycensus.science.rules.base import SEVERITIES
+
+SORT_KEYS: tuple[str, ...] = ("severity", "rule", "body", "label", "family", "value", "limit",
+                              "margin", "_row")
+MAX_LIMIT = 1000
+_MAX_TEXT = 200
+_MAX_VALUES = 200
+_LISTS = ("severity", "rule", "label", "family")
+_FLOATS = ("min_value", "max_value", "min_margin", "max_margin")
+_TEXTS = ("diagram", "field", "body")
+_DIAGRAM = re.compile(r"^[a-z0-9_-]{1,64}$")
+
+
+@dataclass(frozen=True)
+class ViewState:
+    """Filters, order, page and on-screen choices of a view; defaults are left out of URLs."""
+
+    severity: tuple[str, ...] = ()
+    rule: tuple[str, ...] = ()
+    label: tuple[str, ...] = ()
+    family: tuple[str, ...] = ()
+    min_value: float | None = None
+    max_value: float | None = None
+    min_margin: float | None = None
+    max_margin: float | None = None
+    sort: str = "severity"  # a findings column; a leading '-' sorts descending
+    limit: int = 50
+    offset: int = 0
+    diagram: str | None = None  # the diagram shown, e.g. "roche" (the front end names them)
+    field: str | None = None  # the field of the distribution diagram
+    body: str | None = None  # the selected body
+
+    @classmethod
+    def from_query(cls, query: str | Mapping[str, Any] | Any) -> ViewState:
+        """Parse a query string, starlette ``QueryParams`` or mapping; BadInput on a bad value."""
+        values: dict[str, list[str]] = {}
+        for key, value in _pairs(query):
+            if value != "" and key in cls.__dataclass_fields__:
+                values.setdefault(key, []).append(value)
+        return cls(**{key: _parse(key, raw) for key, raw in values.items()})
+
+    def to_query(self) -> str:
+        """The query string of this view, without defaults, in a stable order."""
+        pairs: list[tuple[str, str]] = []
+        for f in fields(self):
+            value = getattr(self, f.name)
+            if value == f.default:
+                continue
+            if f.name in _LISTS:
+                pairs.extend((f.name, v) for v in value)
+            else:
+                pairs.append((f.name, repr(value) if isinstance(value, float) else str(value)))
+        return urlencode(pairs)
+
+    def with_(self, **changes: Any) -> ViewState:
+        """A copy with some choices changed (e.g. the next page, another severity)."""
+        return replace(self, **changes)
+
+    def sort_key(self) -> tuple[str, bool]:
+        """The column to sort by and whether descending."""
+        return self.sort.removeprefix("-"), self.sort.startswith("-")
+
+    @property
+    def filters(self) -> dict[str, Any]:
+        """The active filters only (for showing them as removable chips)."""
+        return {k: getattr(self, k) for k in _LISTS + _FLOATS if getattr(self, k) not in ((),
+                                                                                      None)}
+
+
+def _pairs(query: str | Mapping[str, Any] | Any) -> Iterable[tuple[str, str]]:
+    """(key, value) pairs from any of the accepted query forms."""
+    if isinstance(query, str):
+        return parse_qsl(query.lstrip("?"), keep_blank_values=True)
+    if hasattr(query, "multi_items"):
+        return query.multi_items()
+    out = []
+    for key, value in query.items():
+        seq = value if isinstance(value, list | tuple) else [value]
+        out.extend((key, str(v)) for v in seq if v is not None)
+    return out
+
+
+def _parse(key: str, raw: list[str]) -> Any:
+    """One field's value from its raw strings."""
+    if key in _LISTS:
+        return _parse_list(key, raw)
+    text = raw[-1]
+    if key in _FLOATS:
+        return _parse_float(key, text)
+    if key in ("limit", "offset"):
+        return _parse_int(key, text, 1 if key == "limit" else 0, MAX_LIMIT if key == "limit"
+                          else 10**12)
+    if key == "sort":
+        if text.removeprefix("-") not in SORT_KEYS:
+            raise BadInput(f"sort={text[:40]!r} is unknown; use one of {', '.join(SORT_KEYS)} "
+                           "(prefix '-' for descending)")
+        return text
+    return _parse_text(key, text)
+
+
+def _parse_list(key: str, raw: list[str]) -> tuple[str, ...]:
+    """A repeated key: distinct values in order, checked where the vocabulary is fixed."""
+    if len(raw) > _MAX_VALUES:
+        raise BadInput(f"{key}: at most {_MAX_VALUES} values")
+    values = tuple(dict.fromkeys(_parse_text(key, v) for v in raw))
+    if key == "severity":
+        unknown = [v for v in values if v not in SEVERITIES]
+        if unknown:
+            raise BadInput(f"severity={unknown[0][:40]!r} is unknown; use one of "
+                           f"{', '.join(SEVERITIES)}")
+    return values
+
+
+def _parse_float(key: str, text: str) -> float:
+    """A finite number."""
+    try:
+        value = float(text)
+    except ValueError:
+        value = math.nan
+    if not math.isfinite(value):
+        raise BadInput(f"{key}={text[:40]!r} is not a finite number, e.g. {key}=0.5")
+    return value
+
+
+def _parse_int(key: str, text: str, low: int, high: int) -> int:
+    """An integer within [low, high]."""
+    if not re.fullmatch(r"\d{1,13}", text.strip()) or not low <= int(text) <= high:
+        raise BadInput(f"{key}={text[:40]!r} must be a whole number from {low} to {high}")
+    return int(text)
+
+
+def _parse_text(key: str, text: str) -> str:
+    """A short string; diagram names are restricted to a slug."""
+    if len(text) > _MAX_TEXT:
+        raise BadInput(f"{key}: at most {_MAX_TEXT} characters")
+    if key == "diagram" and not _DIAGRAM.match(text):
+        raise BadInput(f"diagram={text[:40]!r} must be lower-case letters, digits, '-' or '_'")
+    return text

@@ -1,0 +1,1 @@
+"""Who may reach the dashboard: the token gate, login and cross-site checks."""

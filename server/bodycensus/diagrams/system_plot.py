@@ -1,0 +1,152 @@
+"""The to-scale drawing of a body's system for the Body screen, as plotly figure dicts.
+
+Centred on the parent: its disc, the rigid and fluid Roche zones for this body's density, the
+parent's Hill sphere, the siblings' orbits, the body's orbit (an ellipse with the parent at a
+focus) and the body's own Hill sphere. Every outline is a polar path, so the same drawing works on
+a linear scale and on a radial log scale (for systems that span decades).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from typing import Any
+
+from bodycensus.diagrams.plots import ACCENT, SEVERITY_STYLE, text
+
+Transform = Callable[[float], float]
+_STEPS = 120
+MAX_SIBLINGS = 40
+LOG_WHEN_SPAN = 20.0  # largest / smallest distance drawn: beyond it the log drawing comes first
+
+
+def _polar(radius: Callable[[float], float], f: Transform) -> tuple[list[float], list[float]]:
+    """Points of a closed polar curve r(theta), each distance mapped through ``f``."""
+    xs, ys = [], []
+    for i in range(_STEPS + 1):
+        theta = 2 * math.pi * i / _STEPS
+        r = f(radius(theta))
+        xs.append(_round(r * math.cos(theta)))
+        ys.append(_round(r * math.sin(theta)))
+    return xs, ys
+
+
+def _round(value: float) -> float:
+    """Four significant digits: plenty for a drawing, and a much smaller page."""
+    return float(f"{value:.4g}")
+
+
+def _orbit_radius(a: float, e: float) -> Callable[[float], float]:
+    """Distance from the focus along an ellipse: a (1 - e^2) / (1 + e cos theta)."""
+    e = min(max(e, 0.0), 0.99)
+    return lambda theta: a * (1 - e * e) / (1 + e * math.cos(theta))
+
+
+def _around(cx: float, r: float, f: Transform) -> tuple[list[float], list[float]]:
+    """A circle of radius r around the point (cx, 0), each point mapped radially through ``f``."""
+    xs, ys = [], []
+    for i in range(_STEPS + 1):
+        theta = 2 * math.pi * i / _STEPS
+        x, y = cx + r * math.cos(theta), r * math.sin(theta)
+        d = math.hypot(x, y)
+        scale = f(d) / d if d > 0 else 0.0
+        xs.append(_round(x * scale))
+        ys.append(_round(y * scale))
+    return xs, ys
+
+
+def _path(name: str, xy: tuple[list[float], list[float]], colour: str, fill: str | None = None,
+          dash: str = "solid", meta: str = "reference") -> dict[str, Any]:
+    """A closed outline (optionally filled) as a scatter trace."""
+    trace = {"type": "scatter", "mode": "lines", "name": name, "meta": meta, "x": xy[0],
+             "y": xy[1], "line": {"color": colour, "width": 1.5, "dash": dash},
+             "hoverinfo": "name"}
+    if fill:
+        trace.update(fill="toself", fillcolor=fill)
+    return trace
+
+
+def _value(detail: dict[str, Any], name: str) -> float | None:
+    """A field or derived quantity of the body (SI), or None."""
+    fields = {f["field"]: f["value"] for f in detail.get("fields", [])}
+    value = detail.get("derived", {}).get(name, fields.get(name))
+    return float(value) if isinstance(value, int | float) and math.isfinite(value) else None
+
+
+def _traces(detail: dict[str, Any], f: Transform, radius: float) -> list[dict[str, Any]]:
+    """Every outline of the drawing, mapped through ``f``."""
+    system = detail.get("system") or {}
+    parent = system.get("parent") or {}
+    traces = []
+    for name, key, line, fill in (
+            ("fluid Roche zone", "roche_fluid", "#d35400", "rgba(211,84,0,0.10)"),
+            ("rigid Roche zone", "roche_rigid", "#c0392b", "rgba(192,57,43,0.18)")):
+        if (r := _value(detail, key)) is not None:
+            traces.append(_path(name, _polar(lambda _t, r=r: r, f), line, fill))
+    traces.append(_path(f"parent {text(parent.get('id'))}", _polar(lambda _t: radius, f),
+                        "#555555", "rgba(120,120,120,0.35)", meta="parent"))
+    if (r := _value(detail, "parent_hill_radius")) is not None:
+        traces.append(_path("parent's Hill sphere", _polar(lambda _t, r=r: r, f), "#1b7837",
+                            dash="dash"))
+    for sib in (system.get("siblings") or [])[:MAX_SIBLINGS]:
+        if sib.get("semi_major_axis"):
+            xy = _polar(_orbit_radius(sib["semi_major_axis"], sib.get("eccentricity") or 0.0), f)
+            traces.append({**_path(f"orbit of {text(sib['id'])}", xy, "#bbbbbb", meta="sibling"),
+                           "showlegend": False})
+    traces += _body_traces(detail, f)
+    return traces
+
+
+def _body_traces(detail: dict[str, Any], f: Transform) -> list[dict[str, Any]]:
+    """The body's orbit, its position at periapsis and its own Hill sphere."""
+    a, e = _value(detail, "semi_major_axis"), _value(detail, "eccentricity") or 0.0
+    if a is None:
+        return []
+    worst = (detail.get("findings") or [{}])[0].get("severity")
+    colour = SEVERITY_STYLE[worst][0] if worst in SEVERITY_STYLE else ACCENT
+    traces = [_path(f"orbit of {text(detail['id'])}", _polar(_orbit_radius(a, e), f), colour,
+                    meta="orbit")]
+    peri = a * (1 - min(max(e, 0.0), 0.99))
+    if (hill := _value(detail, "hill_radius")) is not None:
+        traces.append(_path("its Hill sphere", _around(peri, hill, f), colour, dash="dot"))
+    traces.append({"type": "scatter", "mode": "markers", "name": f"{text(detail['id'])} at periapsis",
+                   "meta": "body", "x": [f(peri)], "y": [0.0], "hoverinfo": "name",
+                   "marker": {"color": colour, "size": 10, "symbol": "circle"}})
+    return traces
+
+
+def system_figures(detail: dict[str, Any]) -> tuple[dict[str, dict[str, Any]], str, str]:
+    """Linear and log drawings of the body's system, which one to show first, and a caption."""
+    parent = (detail.get("system") or {}).get("parent") or {}
+    radius = _value(detail, "parent_radius") or parent.get("radius")
+    if not radius or _value(detail, "semi_major_axis") is None:
+        return {}, "", ""
+    siblings = (detail.get("system") or {}).get("siblings") or []
+    extents = [v for k in ("apoapsis", "parent_hill_radius", "roche_fluid", "semi_major_axis")
+               if (v := _value(detail, k)) is not None]
+    extents += [s["semi_major_axis"] for s in siblings[:MAX_SIBLINGS] if s.get("semi_major_axis")]
+    nearest = min(radius, _value(detail, "periapsis") or radius)
+    span = max(extents) / nearest
+    scales: dict[str, Transform] = {
+        "linear": lambda r: r / radius,
+        "log": lambda r: max(0.0, 1.0 + math.log10(max(r, 1e-300) / radius)),
+    }
+    titles = {"linear": "distance (parent radii)",
+              "log": "1 + log<sub>10</sub>(distance / parent radius)"}
+    figures = {key: {"data": _traces(detail, f, radius), "layout": _layout(titles[key])}
+               for key, f in scales.items()}
+    caption = ("Centred on the parent. Shaded: inside the rigid (darker) and fluid Roche limits "
+               "for this body's density; dashed: the parent's Hill sphere; dotted: the body's "
+               "Hill sphere; grey: sibling orbits. On the log scale distances are mapped "
+               "radially, so shapes are kept only along each direction.")
+    return figures, "log" if span > LOG_WHEN_SPAN else "linear", caption
+
+
+def _layout(axis_title: str) -> dict[str, Any]:
+    """Equal-aspect axes on a light background."""
+    axis = {"title": {"text": axis_title}, "gridcolor": "#e3e3e3", "zeroline": False}
+    return {"height": 560, "margin": {"l": 60, "r": 20, "t": 20, "b": 110},
+            "paper_bgcolor": "#ffffff", "plot_bgcolor": "#fafafa",
+            "font": {"family": "system-ui, 'Segoe UI', Helvetica, Arial, sans-serif", "size": 13},
+            "xaxis": axis, "yaxis": {**axis, "scaleanchor": "x", "scaleratio": 1},
+            "legend": {"orientation": "h", "y": -0.14, "yanchor": "top"}}

@@ -1,0 +1,291 @@
+"""Read a catalogue file of any size and write the normalised SI Parquet table.
+
+Delimited text (comma, tab, semicolon), NDJSON or Parquet, optionally gzip or zstd, is scanned
+lazily with polars, mapped to canonical fields (``schema.guess_mapping``), converted to SI and
+streamed to Parquet, so memory stays bounded however long the file is. A file that cannot be read
+at all raises ``IngestError`` with one line saying where and what to do; a single unreadable cell
+does not: it becomes null and is listed in ``_bad``.
+
+
+``IngestError`` and the file-level checks live in ``readers`` (re-exported here).
+"""
+
+from __future__ import annotations
+
+import csv
+import os
+import re
+from collections.abc import Callable
+from dataclasses import asdict, dataclass
+from pathlib import Path
+
+import polars as pl
+
+from bodycensus.storage.durable import fsync_path
+from bodycensus.input.readers import (
+    HEAD_BYTES,
+    IngestError,
+    check_parquet,
+    csv_fault,
+    decompress,
+    detect_compression,
+    detect_format,
+    encoding_fault,
+    first_line,
+    head,
+    head_lines,
+    header_fault,
+    ndjson_fault,
+    sniff_delimiter,
+    storage_error,
+    text_lines,
+    to_string,
+)
+from bodycensus.input.schema import (
+    CANONICAL_FIELDS,
+    FIELD_TYPES,
+    NUMERIC_FIELDS,
+    Mapping,
+    SchemaError,
+    describe_columns,
+    guess_mapping,
+)
+
+Progress = Callable[[str, int], None]
+_ROW, _PRESENT, _BAD = "__bodycensus_row__", "__bodycensus_present__", "__bodycensus_bad__"
+_TRUE, _FALSE = ["true", "yes", "y", "t", "1", "1.0"], ["false", "no", "n", "f", "0", "0.0"]
+
+
+@dataclass(frozen=True)
+class IngestLimits:
+    """Guards against hostile or mistaken input, enforced while the file is read."""
+
+    max_decompressed_bytes: int = 64 * 2**30
+    max_rows: int = 2_000_000_000  # polars slices take at most 2**32 - 1
+    max_columns: int = 100_000
+
+
+@dataclass(frozen=True)
+class IngestReport:
+    """What ingest found: the file's shape, the mapping used and the unreadable cells per column."""
+
+    rows: int
+    format: str  # delimited | ndjson | parquet
+    compression: str | None  # gzip | zstd | None
+    delimiter: str | None
+    columns: list[str]
+    mapping: Mapping
+    unknown_columns: list[str]
+    bad_cells: dict[str, int]  # source column -> cells present but unreadable or non-finite
+
+    def to_json(self) -> dict:
+        """A plain dict for the API, the manifest and `bodycensus check`."""
+        return {**asdict(self), "mapping": self.mapping.to_json()}
+
+
+def _scan(plain: Path, fmt: str, delimiter: str | None) -> pl.LazyFrame:
+    """A lazy scan with a 1-based row index; text formats read every column as a string."""
+    if fmt == "parquet":
+        return pl.scan_parquet(plain, row_index_name=_ROW, row_index_offset=1)
+    if fmt == "ndjson":
+        names = pl.scan_ndjson(plain, infer_schema_length=10_000).collect_schema().names()
+        return pl.scan_ndjson(plain, infer_schema_length=10_000, row_index_name=_ROW,
+                              row_index_offset=1, schema_overrides=dict.fromkeys(names, pl.String))
+    return pl.scan_csv(plain, separator=delimiter or ",", infer_schema=False,
+                       encoding="utf8-lossy", row_index_name=_ROW, row_index_offset=1)
+
+
+def _explain(source: Path, plain: Path, fmt: str, delimiter: str | None,
+             err: Exception) -> Exception:
+    """A one-line IngestError for a polars failure, locating the fault where we can (a full or
+    read-only disk is passed on as the OSError it is)."""
+    if (disk := storage_error(err)) is not None:
+        return disk
+    fault = None
+    if fmt == "delimited":
+        fault = csv_fault(text_lines(plain), delimiter or ",")
+    elif fmt == "ndjson":
+        fault = ndjson_fault(text_lines(plain))
+    column = re.search(r"at column '([^']+)'", str(err))
+    if fault and column:
+        fault = f"column '{column[1]}', {fault}"
+    if fault is None:
+        fault = (f"cannot be read as {fmt} ({first_line(err)}); check that the file is "
+                 "complete and in one of: CSV/TSV/semicolon text, NDJSON, Parquet")
+    return IngestError(f"{source.name}: {fault}")
+
+
+def _check_text(source: Path, plain: Path, fmt: str) -> str | None:
+    """Refuse text that is not UTF-8 or whose header polars would misread; the delimiter."""
+    data, complete = head(plain, None, HEAD_BYTES, source.name)
+    fault = encoding_fault(data, complete)
+    lines = head_lines(data, complete)
+    delimiter = sniff_delimiter(lines[0]) if fmt == "delimited" and lines else None
+    if fault is None and delimiter is not None:
+        fault = header_fault(next(csv.reader(lines[:1], delimiter=delimiter)), lines[0])
+    if fault is not None:
+        raise IngestError(f"{source.name}: {fault}")
+    return delimiter
+
+
+def _clean(text: pl.Expr) -> pl.Expr:
+    """Text without surrounding whitespace; the empty string becomes null (absent, not bad)."""
+    stripped = text.str.strip_chars()
+    return pl.when(stripped != "").then(stripped)
+
+
+def _parse(name: str, col: pl.Expr, dtype: pl.DataType, factor: float) -> tuple[pl.Expr, ...]:
+    """A field's value (non-finite values kept for now) and whether its cell held anything."""
+    if name in NUMERIC_FIELDS and (dtype.is_numeric() or dtype == pl.Boolean):
+        return col.cast(pl.Float64) * factor, col.is_not_null()
+    if name == "tidally_locked" and dtype == pl.Boolean:
+        return col, col.is_not_null()
+    text = _clean(to_string(col, dtype))
+    if name in NUMERIC_FIELDS:
+        return text.cast(pl.Float64, strict=False) * factor, text.is_not_null()
+    if name == "tidally_locked":  # is_in streams; replace_strict held the whole column (polars 2.1)
+        word = text.str.to_lowercase()
+        return pl.when(word.is_in(_TRUE)).then(True).when(word.is_in(_FALSE)).then(False), \
+            text.is_not_null()
+    return text, pl.lit(False)
+
+
+def _is_bad(name: str) -> pl.Expr:
+    """A present cell whose value came out null or (for numbers) non-finite."""
+    value = pl.col(name)
+    readable = value.is_finite() if name in NUMERIC_FIELDS else value.is_not_null()
+    return (pl.col(_PRESENT + name) & ~readable.fill_null(False)).alias(_BAD + name)
+
+
+def _output_name(column: str) -> str:
+    """An unknown column's name in the table: its own, or orig_NAME when that is taken."""
+    taken = set(CANONICAL_FIELDS) | {"_row", "_bad"}
+    return f"orig_{column}" if column in taken else column
+
+
+def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping) -> pl.LazyFrame:
+    """The normalised table: canonical fields in SI, _row, _bad, then the unknown columns.
+
+    Three plain selects (parse, flag, assemble) keep each expression small for the streaming
+    engine: every cell is parsed once."""
+    parsed, mapped = [], [f for f in CANONICAL_FIELDS if f in mapping.choices]
+    for name in mapped:
+        choice = mapping.choices[name]
+        value, present = _parse(name, pl.col(choice.column), schema[choice.column],
+                                choice.factor())
+        parsed += [value.cast(FIELD_TYPES[name]).alias(name), present.alias(_PRESENT + name)]
+    unknown = [to_string(pl.col(c), schema[c]).alias(_output_name(c))
+               for c in mapping.unknown_columns]
+    flags = [pl.when(pl.col(_BAD + f)).then(pl.lit(f)) for f in mapped]
+    joined = pl.concat_str(flags, separator=",", ignore_nulls=True) if flags else pl.lit("")
+    fields = [pl.when(~pl.col(_BAD + f)).then(pl.col(f)).alias(f) if f in mapped
+              else pl.lit(None, dtype=FIELD_TYPES[f]).alias(f) for f in CANONICAL_FIELDS]
+    return (frame.select(*parsed, pl.col(_ROW).cast(pl.Int64).alias("_row"), *unknown)
+            .with_columns(_is_bad(f) for f in mapped)
+            .select(*fields, "_row", pl.when(joined != "").then(joined).cast(pl.String)
+                    .alias("_bad"), *(_output_name(c) for c in mapping.unknown_columns)))
+
+
+def _write(plan: pl.LazyFrame, dest: Path, source: Path, max_rows: int,
+           explain: Callable[[Exception], Exception]) -> int:
+    """Stream ``plan`` to ``dest`` atomically (temp file, fsync, rename); the number of rows.
+
+    At most ``max_rows`` + 1 rows are read: one more than the limit proves it is exceeded."""
+    tmp = dest.with_suffix(".tmp")
+    try:
+        plan.head(max_rows + 1).sink_parquet(tmp)
+        rows = pl.scan_parquet(tmp).select(pl.len()).collect().item()
+    except (pl.exceptions.PolarsError, pl.exceptions.PanicException, OSError) as err:
+        tmp.unlink(missing_ok=True)
+        raise explain(err) from err
+    if rows == 0 or rows > max_rows:
+        tmp.unlink(missing_ok=True)
+        raise IngestError(f"{source.name}: more than {max_rows:,} rows (the limit); split the "
+                          "catalogue or raise max_rows" if rows else
+                          f"{source.name}: no data rows (only a header, or blank); "
+                          "add at least one body to the file")
+    fsync_path(tmp)
+    os.replace(tmp, dest)
+    fsync_path(dest.parent)
+    return rows
+
+
+def _count_bad(dest: Path, mapping: Mapping) -> dict[str, int]:
+    """Source column -> number of its cells listed in _bad."""
+    counts = (pl.scan_parquet(dest).select(pl.col("_bad").drop_nulls().str.split(",").explode())
+              .group_by("_bad").len().collect())
+    found = dict(zip(counts["_bad"], counts["len"], strict=True))
+    return {mapping.choices[f].column: found[f] for f in CANONICAL_FIELDS if f in found}
+
+
+def _map(source: Path, columns: list[str], map_overrides: dict[str, str] | None,
+         unit_overrides: dict[str, str] | None) -> Mapping:
+    """The column mapping, or a one-line IngestError when it cannot be made."""
+    try:
+        mapping = guess_mapping(columns, map_overrides, unit_overrides)
+    except SchemaError as err:
+        raise IngestError(f"{source.name}: {err}") from err
+    if "id" not in mapping.choices:
+        raise IngestError(f"{source.name}: no id column among {describe_columns(columns)}; "
+                          "use --map id=COLUMN")
+    return mapping
+
+
+def _open(source: Path, plain: Path, limits: IngestLimits
+          ) -> tuple[str, str | None, pl.LazyFrame, pl.Schema]:
+    """Format, delimiter, lazy scan and schema of ``plain``, within the column limit."""
+    if plain.stat().st_size == 0:
+        raise IngestError(f"{source.name}: the file is empty; export the catalogue again")
+    with plain.open("rb") as fh:
+        fmt = detect_format(source.name, fh.read(8))
+    if fmt == "parquet":
+        check_parquet(source.name, plain)
+    delimiter = None if fmt == "parquet" else _check_text(source, plain, fmt)
+    try:
+        frame = _scan(plain, fmt, delimiter)
+        schema = pl.Schema({n: t for n, t in frame.collect_schema().items() if n != _ROW})
+    except (pl.exceptions.PolarsError, pl.exceptions.PanicException) as err:
+        raise _explain(source, plain, fmt, delimiter, err) from err
+    if len(schema) > limits.max_columns:
+        raise IngestError(f"{source.name}: {len(schema):,} columns, more than the limit of "
+                          f"{limits.max_columns:,}; drop unused columns or raise max_columns")
+    return fmt, delimiter, frame, schema
+
+
+def _read(source: Path, plain: Path, compression: str | None, dest: Path, limits: IngestLimits,
+          overrides: tuple[dict | None, dict | None], progress: Progress) -> IngestReport:
+    """Ingest an uncompressed file ``plain`` (read from ``source``) into ``dest``."""
+    fmt, delimiter, frame, schema = _open(source, plain, limits)
+    mapping = _map(source, schema.names(), *overrides)
+    progress("read", 0)
+    plan = _normalise(frame, schema, mapping)
+    rows = _write(plan, dest, source, limits.max_rows,
+                  lambda err: _explain(source, plain, fmt, delimiter, err))
+    progress("write", rows)
+    return IngestReport(rows=rows, format=fmt, compression=compression, delimiter=delimiter,
+                        columns=schema.names(), mapping=mapping,
+                        unknown_columns=list(mapping.unknown_columns),
+                        bad_cells=_count_bad(dest, mapping))
+
+
+def ingest(source: Path, dest: Path, *, map_overrides: dict[str, str] | None = None,
+           unit_overrides: dict[str, str] | None = None, limits: IngestLimits = IngestLimits(),
+           progress: Progress | None = None) -> IngestReport:
+    """Read ``source`` (any supported format) and write the normalised SI Parquet to ``dest``.
+
+    ``progress(stage, count)`` is called for "decompress" (count = bytes written so far), "read"
+    and "write" (count = rows so far)."""
+    source, dest = Path(source), Path(dest)
+    notify = progress or (lambda stage, count: None)
+    if not source.is_file():
+        raise IngestError(f"{source}: no such file; check the path")
+    dest.parent.mkdir(parents=True, exist_ok=True)
+    compression = detect_compression(source)
+    plain = source if compression is None else decompress(
+        source, compression, dest.parent, limits.max_decompressed_bytes, source.name, notify)
+    try:
+        return _read(source, plain, compression, dest, limits, (map_overrides, unit_overrides),
+                     notify)
+    finally:
+        if plain != source:
+            plain.unlink(missing_ok=True)

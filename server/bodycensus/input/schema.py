@@ -1,0 +1,293 @@
+"""Canonical fields, header aliases and unit hints, and the column mapping of a catalogue file.
+
+A header such as ``radius_km``, ``mass [earth_mass]`` or ``a (AU)`` names a field and, optionally,
+the unit its values are in. ``guess_mapping`` turns a file's header into a ``Mapping`` (which
+column feeds which field, in which unit, and how sure we are); ``--map`` and ``--unit`` overrides
+replace guesses. Knows ``units`` only.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+from typing import Literal
+
+import polars as pl
+
+from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT, UNITS, Unit, find_unit
+
+CANONICAL_FIELDS: tuple[str, ...] = (
+    "id", "name", "label", "family", "parent", "system", "mass", "radius", "semi_major_axis",
+    "eccentricity", "period", "rotation_period", "tidally_locked", "age", "temperature",
+    "luminosity",
+)
+TEXT_FIELDS: tuple[str, ...] = ("id", "name", "label", "family", "parent", "system")
+NUMERIC_FIELDS: tuple[str, ...] = tuple(
+    f for f in CANONICAL_FIELDS if f not in TEXT_FIELDS and f != "tidally_locked"
+)
+FIELD_TYPES: dict[str, pl.DataType] = {
+    f: pl.String() if f in TEXT_FIELDS else pl.Boolean() if f == "tidally_locked" else pl.Float64()
+    for f in CANONICAL_FIELDS
+}
+
+_FIELD_ALIASES: dict[str, tuple[str, ...]] = {
+    "id": ("id", "body_id", "uid", "objid", "object_id"),
+    "name": ("name", "designation", "body_name"),
+    "label": ("label", "type", "class", "kind", "body_type", "category"),
+    "family": ("family",),
+    "parent": ("parent", "orbits", "host", "primary", "parent_id", "central_body"),
+    "system": ("system", "system_id", "star_system"),
+    "mass": ("mass", "m", "mass_kg"),
+    "radius": ("radius", "r", "rad"),
+    "semi_major_axis": ("semi_major_axis", "a", "sma", "semimajor", "orbit_radius",
+                        "orbital_radius", "distance"),
+    "eccentricity": ("eccentricity", "e", "ecc"),
+    "period": ("period", "orbital_period", "p", "per", "year_length"),
+    "rotation_period": ("rotation_period", "rotation", "day_length", "spin_period"),
+    "tidally_locked": ("tidally_locked", "locked", "tidal_lock"),
+    "age": ("age",),
+    "temperature": ("temperature", "temp", "teff", "t_eq", "surface_temperature"),
+    "luminosity": ("luminosity", "lum"),
+}
+
+# Bare suffixes whose unit depends on the field: `mass_earth`, `radius_jup`, `luminosity_sun`.
+_BODY_SUFFIXES: dict[str, dict[str, str]] = {
+    "earth": {"mass": "earth_mass", "length": "earth_radius"},
+    "jup": {"mass": "jupiter_mass", "length": "jupiter_radius"},
+    "jupiter": {"mass": "jupiter_mass", "length": "jupiter_radius"},
+    "sun": {"mass": "solar_mass", "length": "solar_radius", "power": "solar_luminosity"},
+    "sol": {"mass": "solar_mass", "length": "solar_radius", "power": "solar_luminosity"},
+    "solar": {"mass": "solar_mass", "length": "solar_radius", "power": "solar_luminosity"},
+}
+# Years and seconds are one family of units: ages are kept in years, periods in seconds.
+_YEAR_S = UNITS["yr"].to_si
+_BRACKETED = re.compile(r"^(?P<base>.*?)\s*[\(\[](?P<unit>[^\)\]]*)[\)\]]\s*$")
+
+UnitSource = Literal["header", "override", "default"]
+
+
+class SchemaError(ValueError):
+    """A mapping or unit choice that cannot be used; the message says what to do instead."""
+
+
+def _key(text: str) -> str:
+    """Header text without case, spaces or punctuation: 'Semi-major axis' -> 'semimajoraxis'."""
+    return re.sub(r"[^0-9a-z]", "", text.lower())
+
+
+_ALIAS_TO_FIELD: dict[str, str] = {
+    _key(alias): name for name, aliases in _FIELD_ALIASES.items() for alias in aliases
+}
+
+
+@dataclass(frozen=True)
+class ColumnChoice:
+    """Which source column feeds a canonical field, in which unit, and whether the unit is a guess."""
+
+    field: str
+    column: str
+    unit: str | None
+    unit_source: UnitSource
+    ambiguous: bool
+
+    def factor(self) -> float:
+        """Multiply the column's numbers by this to get the field in SI (ages in years)."""
+        return 1.0 if self.unit is None else _factor_for(self.field, UNITS[self.unit])
+
+    def to_json(self) -> dict:
+        """A plain dict for the API and the report."""
+        return {"field": self.field, "column": self.column, "unit": self.unit,
+                "unit_source": self.unit_source, "ambiguous": self.ambiguous}
+
+
+@dataclass(frozen=True)
+class Mapping:
+    """The column mapping of one file: chosen columns per field, and the columns left over."""
+
+    choices: dict[str, ColumnChoice]
+    unknown_columns: list[str]
+    conflicts: dict[str, list[str]] = field(default_factory=dict)  # field -> columns not chosen
+
+    @property
+    def missing_fields(self) -> list[str]:
+        """Canonical fields that no column feeds."""
+        return [f for f in CANONICAL_FIELDS if f not in self.choices]
+
+    def to_json(self) -> dict:
+        """A plain dict for the API and the report."""
+        return {
+            "choices": {f: c.to_json() for f, c in self.choices.items()},
+            "unknown_columns": list(self.unknown_columns),
+            "conflicts": {f: list(cols) for f, cols in self.conflicts.items()},
+            "missing_fields": self.missing_fields,
+        }
+
+
+def _dimension_fits(field_name: str, unit: Unit) -> bool:
+    """Whether ``unit`` can measure ``field_name`` (time and age units are interchangeable)."""
+    need = FIELD_DIMENSIONS.get(field_name)
+    if need in ("time", "age"):
+        return unit.dimension in ("time", "age")
+    return need is not None and unit.dimension == need
+
+
+def _factor_for(field_name: str, unit: Unit) -> float:
+    """The factor from ``unit`` to the field's internal unit (SI; years for ages)."""
+    need = FIELD_DIMENSIONS[field_name]
+    if need == unit.dimension:
+        return unit.to_si
+    if need == "age":  # a time unit, e.g. yr or s: to years
+        return unit.to_si / _YEAR_S
+    return unit.to_si * _YEAR_S  # an age unit (years, Myr, Gyr) for a period: to seconds
+
+
+def _hint_unit(field_name: str, text: str) -> Unit | None:
+    """The unit written as ``text`` in a header of ``field_name``, if it fits the field."""
+    dimension = FIELD_DIMENSIONS.get(field_name)
+    body = _BODY_SUFFIXES.get(text.strip().lower())
+    unit = UNITS[body[dimension]] if body and dimension in body else find_unit(text)
+    return unit if unit is not None and _dimension_fits(field_name, unit) else None
+
+
+def _unit_parts(column: str) -> list[tuple[str, str]]:
+    """Ways to split a header into (name, unit text): 'a (AU)', 'mass [M_jup]', 'radius_km'."""
+    bracketed = _BRACKETED.match(column)
+    if bracketed:
+        return [(bracketed["base"], bracketed["unit"])]
+    tokens = [t for t in re.split(r"[^0-9A-Za-z]+", column) if t]
+    return [("".join(tokens[:-cut]), "_".join(tokens[-cut:]))
+            for cut in (1, 2) if len(tokens) > cut]  # radius_km, mass_earth_mass
+
+
+def _hint_for(field_name: str, column: str) -> Unit | None:
+    """The unit a header hints at for ``field_name``, whatever name the header gives the field."""
+    for _, unit_text in _unit_parts(column):
+        unit = _hint_unit(field_name, unit_text)
+        if unit is not None:
+            return unit
+    return None
+
+
+def read_header(column: str) -> tuple[str | None, Unit | None]:
+    """The field a header names and the unit it hints at, e.g. 'a (AU)' -> ('semi_major_axis', au)."""
+    parts = _unit_parts(column)
+    for base, unit_text in parts:
+        name = _ALIAS_TO_FIELD.get(_key(base))
+        unit = _hint_unit(name, unit_text) if name else None
+        if unit is not None:
+            return name, unit
+    if parts and _BRACKETED.match(column):  # 'radius (furlongs)': the field, but no usable unit
+        return _ALIAS_TO_FIELD.get(_key(parts[0][0])), None
+    return _ALIAS_TO_FIELD.get(_key(column)), None
+
+
+def field_names() -> str:
+    """The canonical field names, for error messages."""
+    return ", ".join(CANONICAL_FIELDS)
+
+
+def parse_assignment(text: str) -> tuple[str, str]:
+    """Split a ``field=value`` option (``--map``/``--unit``) into a known field and its value."""
+    name, sep, value = text.partition("=")
+    name, value = name.strip().lower(), value.strip()
+    if not sep or not name or not value:
+        raise SchemaError(f"'{text}' is not of the form field=value, e.g. radius=radius_km")
+    if name not in CANONICAL_FIELDS:
+        raise SchemaError(f"unknown field '{name}'; use one of: {field_names()}")
+    return name, value
+
+
+def _check_field(name: str) -> str:
+    """``name`` as a canonical field, or a SchemaError listing the fields."""
+    clean = name.strip().lower()
+    if clean not in CANONICAL_FIELDS:
+        raise SchemaError(f"unknown field '{name}'; use one of: {field_names()}")
+    return clean
+
+
+def check_unit(field_name: str, unit_name: str) -> Unit:
+    """The unit ``unit_name`` for ``field_name``; SchemaError if unknown or of the wrong dimension."""
+    name = _check_field(field_name)
+    if name not in FIELD_DIMENSIONS:
+        raise SchemaError(f"field '{name}' has no unit; drop --unit {name}=...")
+    unit = find_unit(unit_name)
+    if unit is None:
+        known = ", ".join(UNITS)
+        raise SchemaError(f"unknown unit '{unit_name}' for {name}; use one of: {known}")
+    if not _dimension_fits(name, unit):
+        fits = ", ".join(u.name for u in UNITS.values() if _dimension_fits(name, u))
+        raise SchemaError(
+            f"unit '{unit_name}' measures {unit.dimension}, but {name} needs one of: {fits}"
+        )
+    return unit
+
+
+def _choice(name: str, column: str, hint: Unit | None, override: Unit | None) -> ColumnChoice:
+    """The ColumnChoice for one field, with the unit from override, header hint or default."""
+    dimension = FIELD_DIMENSIONS.get(name)
+    if dimension is None:
+        return ColumnChoice(name, column, None, "default", False)
+    if override is not None:
+        return ColumnChoice(name, column, override.name, "override", False)
+    if hint is not None:
+        return ColumnChoice(name, column, hint.name, "header", False)
+    return ColumnChoice(name, column, SI_UNIT[dimension], "default", dimension != "dimensionless")
+
+
+def _guess_columns(columns: list[str]) -> tuple[dict[str, tuple[str, Unit | None]], dict]:
+    """Field -> (first matching column, its hint); and field -> later columns that also matched."""
+    found: dict[str, tuple[str, Unit | None]] = {}
+    conflicts: dict[str, list[str]] = {}
+    for column in columns:
+        name, hint = read_header(column)
+        if name is None:
+            continue
+        if name in found:
+            conflicts.setdefault(name, []).append(column)
+        else:
+            found[name] = (column, hint)
+    return found, conflicts
+
+
+def describe_columns(columns: list[str], most: int = 20) -> str:
+    """A file's column names for an error message: quoted, shortened, at most ``most`` of them."""
+    if not columns:
+        return "(no columns)"
+    shown = [repr(c if len(c) <= 40 else c[:37] + "...") for c in columns[:most]]
+    more = f" and {len(columns) - most} more" if len(columns) > most else ""
+    return ", ".join(shown) + more
+
+
+def _apply_map_overrides(found: dict, columns: list[str], overrides: dict[str, str]) -> None:
+    """Point each overridden field at its named column (checked against the file's columns)."""
+    for raw_field, column in overrides.items():
+        name = _check_field(raw_field)
+        if column not in columns:
+            raise SchemaError(f"--map {name}={column}: no column '{column}' in the file; "
+                              f"its columns are {describe_columns(columns)}")
+        for other, (taken, _) in list(found.items()):
+            if taken == column and other != name:
+                del found[other]
+        found[name] = (column, _hint_for(name, column))
+
+
+def guess_mapping(
+    columns: list[str],
+    map_overrides: dict[str, str] | None = None,
+    unit_overrides: dict[str, str] | None = None,
+) -> Mapping:
+    """Match a file's header to canonical fields by alias and unit hint, then apply overrides."""
+    found, conflicts = _guess_columns(columns)
+    _apply_map_overrides(found, columns, map_overrides or {})
+    units = {_check_field(f): check_unit(f, u) for f, u in (unit_overrides or {}).items()}
+    choices = {
+        name: _choice(name, *found[name], units.get(name))
+        for name in CANONICAL_FIELDS if name in found
+    }
+    used = {c.column for c in choices.values()}
+    conflicts = {f: [c for c in cols if c not in used] for f, cols in conflicts.items()}
+    return Mapping(
+        choices=choices,
+        unknown_columns=[c for c in columns if c not in used],
+        conflicts={f: cols for f, cols in conflicts.items() if cols},
+    )

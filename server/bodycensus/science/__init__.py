@@ -1,0 +1,1 @@
+"""The science floor: units and constants, physical families, formulas, rules and distribution artefacts. Imports nothing else of bodycensus."""

@@ -1,0 +1,94 @@
+"""Each family's plausible density at a body's mass, and unit slips that would explain a miss.
+
+The band comes from ``families.FAMILY_PARAMETERS`` (a factor times a composition curve from
+``physics.bodies``). A density far outside it that one known unit factor would bring inside is
+reported as a likely unit slip, never silently rescaled.
+"""
+
+from __future__ import annotations
+
+import polars as pl
+
+from bodycensus.science.families import FAMILY_PARAMETERS
+from bodycensus.science.physics import bodies
+from bodycensus.science.physics._ops import Num
+from bodycensus.science.units import M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
+
+_MASS = pl.col("_mass")
+
+
+def curve_density(curve: str, mass: Num) -> Num:
+    """Density (kg m-3) of a named composition curve at ``mass`` (float, array or expression)."""
+    if curve in bodies.SEAGER_FITS:
+        return bodies.composition_density(mass, curve)
+    curves = {
+        "cold_hhe": bodies.cold_hhe_density,
+        "white_dwarf": bodies.white_dwarf_density,
+        "main_sequence": bodies.main_sequence_density,
+    }
+    return curves[curve](mass)
+
+
+def _band_edge(side: str) -> pl.Expr:
+    expr: pl.Expr | None = None
+    for family, params in FAMILY_PARAMETERS.items():
+        band = params.density_band
+        if band is None:
+            continue
+        curve, factor = ((band.low_curve, band.low_factor) if side == "low"
+                         else (band.high_curve, band.high_factor))
+        edge = pl.lit(factor) if curve == "const" else factor * curve_density(curve, _MASS)
+        condition = pl.col("family") == family
+        expr = pl.when(condition).then(edge) if expr is None else expr.when(condition).then(edge)
+    assert expr is not None
+    edge = expr.otherwise(None)
+    return pl.when(edge.is_finite()).then(edge)  # a curve past its validity has no band
+
+
+def band_columns() -> list[pl.Expr]:
+    """The ``_band_low`` and ``_band_high`` columns (null for families without a band)."""
+    return [_band_edge("low").alias("_band_low"), _band_edge("high").alias("_band_high")]
+
+
+def band_low() -> pl.Expr:
+    """Lowest plausible density for the body's family at its mass."""
+    return pl.col("_band_low")
+
+
+def band_high() -> pl.Expr:
+    """Highest plausible density for the body's family at its mass."""
+    return pl.col("_band_high")
+
+
+# Known unit slips: (field, factor by which it came out too large, the likely cause). A mass too
+# large by f scales density by f; a radius too large by f scales it by f^-3.
+UNIT_SLIPS: tuple[tuple[str, float, str], ...] = (
+    ("radius", 1e3, "metres given where km were expected"),
+    ("radius", 1e-3, "km given where metres were expected"),
+    ("mass", 1e3, "kg given where g were expected"),
+    ("mass", 1e-3, "g given where kg were expected"),
+    ("mass", M_JUPITER / M_EARTH, "Jupiter masses given as Earth masses"),
+    ("mass", M_EARTH / M_JUPITER, "Earth masses given as Jupiter masses"),
+    ("mass", M_SUN / M_JUPITER, "solar masses given as Jupiter masses"),
+    ("mass", M_JUPITER / M_SUN, "Jupiter masses given as solar masses"),
+    ("radius", R_JUPITER / R_EARTH, "Jupiter radii given as Earth radii"),
+    ("radius", R_EARTH / R_JUPITER, "Earth radii given as Jupiter radii"),
+    ("radius", R_SUN / R_JUPITER, "solar radii given as Jupiter radii"),
+    ("radius", R_JUPITER / R_SUN, "Jupiter radii given as solar radii"),
+)
+SLIP_TOLERANCE = 10.0  # a slip is suspected only when the density misses its band by > 10x
+
+
+def unit_slip_hint(density: pl.Expr) -> pl.Expr:
+    """The likeliest unit slip, as text, when ``density`` misses its band by more than 10x
+    and dividing by one known factor brings it inside; null otherwise."""
+    low, high = band_low(), band_high()
+    far_out = (density < low / SLIP_TOLERANCE) | (density > high * SLIP_TOLERANCE)
+    hint: pl.Expr | None = None
+    for field, factor, cause in UNIT_SLIPS:
+        fixed = density / (factor if field == "mass" else factor**-3)
+        inside = far_out & (fixed >= low) & (fixed <= high)
+        text = pl.lit(f"{field} looks {factor:.4g}x too large ({cause}?)")
+        hint = pl.when(inside).then(text) if hint is None else hint.when(inside).then(text)
+    assert hint is not None
+    return hint.otherwise(None)

@@ -1,0 +1,117 @@
+"""Rules about one body on its own: density, size and mass limits by family."""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import polars as pl
+
+from bodycensus.science.families import FAMILIES, PLANETARY_FAMILIES
+from bodycensus.science.physics import bodies
+from bodycensus.science.rules.bands import band_high, band_low
+from bodycensus.science.rules.base import Rule, fmt
+from bodycensus.science.units import M_JUPITER, M_SUN
+
+DENSER_THAN_IRON_TOLERANCE = 1.05  # the Seager et al. 2007 fits are good to a few per cent
+OVERSIZE_FACTOR = 2.0  # inflated hot giants reach ~2 R_jup, about 2x the cold curve
+
+_SEAGER = "Seager et al. 2007, ApJ 669, 1279 (pure-iron mass-radius fit)"
+_MASS, _RADIUS, _DENSITY = pl.col("_mass"), pl.col("_radius"), pl.col("density")
+
+
+def _denser_than_iron() -> Rule:
+    limit = DENSER_THAN_IRON_TOLERANCE * bodies.composition_density(_MASS, "iron")
+    return Rule(
+        id="denser-than-iron", title="Denser than pure iron at its mass", severity="impossible",
+        source=_SEAGER, needs=("density",), value=_DENSITY, limit=limit, unit="kg/m3",
+        families=PLANETARY_FAMILIES,
+        message=pl.format("density {} kg/m3 exceeds a pure-iron body of this mass ({} kg/m3)",
+                          fmt(_DENSITY), fmt(limit)),
+    )
+
+
+def _family_density() -> Rule:
+    low, high = band_low(), band_high()
+    outside = (_DENSITY < low) | (_DENSITY > high)
+    not_iron = _DENSITY <= DENSER_THAN_IRON_TOLERANCE * bodies.composition_density(_MASS, "iron")
+    return Rule(
+        id="family-density", title="Density outside the family's band at that mass",
+        severity="suspect",
+        source="bands from composition curves: Seager et al. 2007; cold H/He (Zapolsky & "
+               "Salpeter 1969); Nauenberg 1972; main sequence R~M^0.8 (common practice)",
+        needs=("density", "_band_low"), value=_DENSITY,
+        limit=pl.when(_DENSITY < low).then(low).otherwise(high), unit="kg/m3",
+        direction="none",
+        fires=outside & (~pl.col("family").is_in(sorted(PLANETARY_FAMILIES)) | not_iron)
+        & pl.col("_slip_hint").is_null(),
+        families=frozenset(FAMILIES),
+        message=pl.format("density {} kg/m3 is outside the {} band {}-{} kg/m3 at this mass",
+                          fmt(_DENSITY), pl.col("family"), fmt(low), fmt(high)),
+    )
+
+
+def _oversized_cold_body() -> Rule:
+    ratio = _RADIUS / bodies.cold_hhe_radius(_MASS)
+    return Rule(
+        id="oversized-cold-body", title="Larger than a hydrogen-helium body of its mass can be",
+        severity="suspect",
+        source="Burrows & Liebert 1993 (cold H/He R ~ 1 R_jup); inflated hot giants ~2 R_jup",
+        needs=("_mass", "_radius"), value=ratio, limit=pl.lit(OVERSIZE_FACTOR),
+        unit="x cold H/He radius", families=frozenset({"gas_giant", "brown_dwarf"}),
+        message=pl.format("radius is {}x that of a cold H/He body of this mass", fmt(ratio)),
+    )
+
+
+def _mass_limit(rule_id: str, title: str, family: str, limit: float, source: str,
+                severity: str, direction: str = "above") -> Rule:
+    in_sun = _MASS / M_SUN
+    word = "above" if direction == "above" else "below"
+    return Rule(
+        id=rule_id, title=title, severity=severity, source=source, needs=("_mass",),
+        value=in_sun, limit=pl.lit(limit / M_SUN), unit="M_sun", direction=direction,
+        families=frozenset({family}),
+        message=pl.format("mass {} M_sun is {} the limit {} M_sun", fmt(in_sun), pl.lit(word),
+                          pl.lit(f"{limit / M_SUN:.4g}")),
+    )
+
+
+def _over_neutron_star_max() -> Rule:
+    rule = _mass_limit("over-neutron-star-max", "Heavier than any neutron star can be",
+                       "neutron_star", bodies.NEUTRON_STAR_SUSPECT_MASS,
+                       "Romani et al. 2022 (heaviest known 2.35 M_sun); Rhoades & Ruffini 1974 "
+                       "(causal bound ~3 M_sun, from memory)", "suspect")
+    impossible = _MASS > bodies.NEUTRON_STAR_MAX_MASS
+    severity = pl.when(impossible).then(pl.lit("impossible")).otherwise(pl.lit("suspect"))
+    return replace(rule, severity_expr=severity)
+
+
+def _brown_dwarf_range() -> Rule:
+    in_jup = _MASS / M_JUPITER
+    low, high = bodies.DEUTERIUM_BURNING_MASS / M_JUPITER, bodies.HYDROGEN_BURNING_MASS / M_JUPITER
+    return Rule(
+        id="brown-dwarf-range", title="Brown dwarf outside the deuterium-hydrogen burning range",
+        severity="suspect",
+        source="Spiegel, Burrows & Milsom 2011 (deuterium ~13 M_jup); Burrows & Liebert 1993",
+        needs=("_mass",), value=in_jup,
+        limit=pl.when(in_jup < low).then(low).otherwise(high), unit="M_jup", direction="none",
+        fires=(in_jup < low) | (in_jup > high), families=frozenset({"brown_dwarf"}),
+        message=pl.format("mass {} M_jup is outside {}-{} M_jup", fmt(in_jup),
+                          pl.lit(f"{low:.3g}"), pl.lit(f"{high:.3g}")),
+    )
+
+
+def body_rules() -> tuple[Rule, ...]:
+    """Every single-body rule."""
+    return (
+        _denser_than_iron(),
+        _family_density(),
+        _oversized_cold_body(),
+        _mass_limit("over-chandrasekhar", "White dwarf above the Chandrasekhar mass",
+                    "white_dwarf", bodies.CHANDRASEKHAR_MASS,
+                    "Chandrasekhar 1935 (1.44 M_sun for mu_e = 2)", "impossible"),
+        _over_neutron_star_max(),
+        _mass_limit("under-hydrogen-burning", "Star below the hydrogen-burning limit", "star",
+                    bodies.HYDROGEN_BURNING_MASS, "Burrows & Liebert 1993 (~0.075-0.08 M_sun)",
+                    "impossible", direction="below"),
+        _brown_dwarf_range(),
+    )

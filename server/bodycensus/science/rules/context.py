@@ -1,0 +1,176 @@
+"""The derived-column context every rule reads: physics per body, its parent, its inner sibling.
+
+``derive(table)`` turns the normalised table into one lazy frame with the columns listed in
+DEVELOPERS.md. Inputs that are not positive are treated as absent here (``non-positive`` reports
+them once), so no rule downstream fires on a negative mass.
+"""
+
+from __future__ import annotations
+
+import polars as pl
+
+from bodycensus.science.families import FAMILY_PARAMETERS
+from bodycensus.science.physics import bodies, orbits
+from bodycensus.science.rules.bands import band_columns, unit_slip_hint
+from bodycensus.science.units import YEAR
+
+_PARENT_COLUMNS = {
+    "id": "parent",
+    "mass": "parent_mass",
+    "radius": "parent_radius",
+    "_trusted_density": "parent_density",
+    "family": "parent_family",
+    "semi_major_axis": "parent_semi_major_axis",
+    "_e": "parent_eccentricity",  # validated: 0 when absent, null when outside [0, 1)
+    "parent": "grandparent",
+}
+
+
+def positive(name: str) -> pl.Expr:
+    """The column where it is a positive number, else null."""
+    column = pl.col(name)
+    return pl.when(column > 0).then(column)
+
+
+def _body_columns(table: pl.LazyFrame) -> pl.LazyFrame:
+    """Per-body physics that needs no other row."""
+    mass, radius = positive("mass"), positive("radius")
+    a = positive("semi_major_axis")
+    e = pl.when((pl.col("eccentricity") >= 0) & (pl.col("eccentricity") < 1)).then(
+        pl.col("eccentricity")).otherwise(pl.when(pl.col("eccentricity").is_null()).then(0.0))
+    return table.with_columns(
+        density=bodies.bulk_density(mass, radius),
+        gravity=bodies.surface_gravity(mass, radius),
+        gravity_g0=bodies.surface_gravity_g0(mass, radius),
+        escape_speed=bodies.escape_speed(mass, radius),
+        periapsis=orbits.periapsis(a, e),
+        apoapsis=orbits.apoapsis(a, e),
+        _a=a,
+        _e=e,
+        _mass=mass,
+        _radius=radius,
+    )
+
+
+def _with_parent(table: pl.LazyFrame) -> pl.LazyFrame:
+    """Join each body's parent (first row of that id) and grandparent mass onto it."""
+    parents = (
+        table.filter(pl.col("id").is_not_null())
+        .unique(subset="id", keep="first", maintain_order=False)
+        .select(
+            *[pl.col(src).alias(dst) for src, dst in _PARENT_COLUMNS.items() if src != "mass"],
+            pl.col("_mass").alias("parent_mass"),
+            pl.lit(True).alias("_parent_exists"),
+        )
+        .with_columns(
+            positive("parent_semi_major_axis").alias("parent_semi_major_axis"),
+            positive("parent_radius").alias("parent_radius"),
+        )
+    )
+    grandparents = parents.select(
+        pl.col("parent").alias("grandparent"), pl.col("parent_mass").alias("grandparent_mass")
+    )
+    return table.join(parents, on="parent", how="left").join(
+        grandparents, on="grandparent", how="left"
+    )
+
+
+def _tidal_parameters() -> tuple[pl.Expr, pl.Expr]:
+    """Rigidity and tidal Q of each body's family (families.FAMILY_PARAMETERS)."""
+    rigidity = {f: p.rigidity for f, p in FAMILY_PARAMETERS.items()}
+    quality = {f: p.quality_factor for f, p in FAMILY_PARAMETERS.items()}
+    family = pl.col("family")
+    return (family.replace_strict(rigidity, default=3e10, return_dtype=pl.Float64),
+            family.replace_strict(quality, default=100.0, return_dtype=pl.Float64))
+
+
+def _orbit_columns(table: pl.LazyFrame) -> pl.LazyFrame:
+    """Roche limits, Hill spheres, Kepler periods and the rest, for bodies with a parent."""
+    rigidity, quality = _tidal_parameters()
+    a, e, mass, radius = pl.col("_a"), pl.col("_e"), pl.col("_mass"), pl.col("_radius")
+    density = pl.col("_trusted_density")
+    parent_mass, parent_radius = pl.col("parent_mass"), pl.col("parent_radius")
+    parent_hill = orbits.hill_radius(pl.col("parent_semi_major_axis"),
+                                     pl.col("parent_eccentricity"), parent_mass,
+                                     pl.col("grandparent_mass"))
+    kepler = orbits.kepler_period(a, parent_mass, mass.fill_null(0.0))
+    return table.with_columns(
+        roche_rigid=orbits.roche_rigid(parent_radius, pl.col("parent_density"), density),
+        roche_fluid=orbits.roche_fluid(parent_radius, pl.col("parent_density"), density),
+        hill_radius=orbits.hill_radius(a, e, mass, parent_mass),
+        parent_hill_radius=parent_hill,
+        stable_hill_limit=orbits.stable_hill_fraction(pl.col("parent_eccentricity"), e) * parent_hill,
+        kepler_period=kepler,
+        period_ratio=positive("period") / kepler,
+        barycentre_offset=orbits.barycentre_offset(a, parent_mass, mass),
+        tidal_lock_time=orbits.tidal_lock_time(a, mass, radius, parent_mass, rigidity, quality)
+        / YEAR,
+        roche_x=(pl.col("parent_density") / density) ** (1.0 / 3.0),
+        roche_y=pl.col("periapsis") / parent_radius,
+        hill_ratio=pl.col("apoapsis") / parent_hill,
+    )
+
+
+def _sibling_columns(table: pl.LazyFrame) -> pl.LazyFrame:
+    """The next body inward around the same parent (siblings ordered by semi-major axis)."""
+    inner = {"id": "inner_id", "_a": "inner_a", "_mass": "inner_mass", "apoapsis": "inner_apoapsis"}
+    return table.with_columns(
+        pl.col(src).shift(1).over("parent", order_by="_a").alias(dst) for src, dst in inner.items()
+    )
+
+
+def _trusted(table: pl.LazyFrame) -> pl.LazyFrame:
+    """Flag a density that looks like a unit slip; orbit physics must not build on it."""
+    table = table.with_columns(unit_slip_hint(pl.col("density")).alias("_slip_hint"))
+    return table.with_columns(
+        pl.when(pl.col("_slip_hint").is_null()).then(pl.col("density")).alias("_trusted_density"))
+
+
+MAD_TO_SIGMA = 0.6745  # the MAD of a normal distribution is 0.6745 sigma (Iglewicz & Hoaglin 1993)
+OUTLIER_SCORES = {"_z_density": "density", "_z_mass": "_mass", "_z_radius": "_radius"}
+
+
+def _robust_z(column: str) -> pl.Expr:
+    """|0.6745 (x - median) / MAD| of log10(column) within the body's label."""
+    x = pl.col(column).log10()
+    median = x.median().over("label")
+    mad = (x - median).abs().median().over("label")
+    return (MAD_TO_SIGMA * (x - median) / mad).abs()
+
+
+def _label_statistics(table: pl.LazyFrame) -> pl.LazyFrame:
+    """Robust z-scores within each label, computed over the whole table before any filter."""
+    return table.with_columns(
+        *[_robust_z(column).alias(score) for score, column in OUTLIER_SCORES.items()],
+        pl.len().over("label").alias("_label_size"),
+    )
+
+
+def _ids(ids: pl.Series | None) -> pl.Series:
+    """Ids as a one-element list series, the form ``is_in`` takes for a set of values."""
+    return (ids if ids is not None else pl.Series("id", [], dtype=pl.String)).implode()
+
+
+def derive(table: pl.LazyFrame, cycle_ids: pl.Series | None = None) -> pl.LazyFrame:
+    """The normalised table plus every derived column the rules and diagrams use."""
+    table = table.with_columns(
+        pl.col("id").count().over("id").alias("_id_count"),
+        pl.col("id").is_in(_ids(cycle_ids)).alias("_in_cycle"),
+    )
+    with_body = _label_statistics(_trusted(_body_columns(table).with_columns(band_columns())))
+    return _sibling_columns(_orbit_columns(_with_parent(with_body)))
+
+
+# Working columns the rules read that are neither catalogue fields nor derived quantities to show
+# (underscore-prefixed ones are working columns too).
+ENGINE_COLUMNS: tuple[str, ...] = (
+    "grandparent", "grandparent_mass", "parent_semi_major_axis", "parent_eccentricity",
+    "inner_id", "inner_a", "inner_mass", "inner_apoapsis",
+)
+
+DERIVED_COLUMNS: tuple[str, ...] = (
+    "density", "gravity", "gravity_g0", "escape_speed", "periapsis", "apoapsis", "parent_mass",
+    "parent_radius", "parent_density", "parent_family", "roche_rigid", "roche_fluid",
+    "hill_radius", "parent_hill_radius", "stable_hill_limit", "kepler_period", "period_ratio",
+    "barycentre_offset", "tidal_lock_time", "roche_x", "roche_y", "hill_ratio",
+)

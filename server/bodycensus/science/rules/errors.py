@@ -1,0 +1,109 @@
+"""Rules of severity ``error``: the data itself is broken (missing, unreadable, inconsistent)."""
+
+from __future__ import annotations
+
+import polars as pl
+
+from bodycensus.science.rules.bands import band_high, band_low
+from bodycensus.science.rules.base import Rule, fmt
+
+_NONE = pl.lit(None, dtype=pl.Float64)
+_POSITIVE_FIELDS = ("mass", "radius", "semi_major_axis", "period", "rotation_period")
+_DATA = "data integrity (bodycensus input contract)"
+
+
+def _missing_value() -> Rule:
+    no_id = pl.col("id").is_null() | (pl.col("id").str.strip_chars() == "")
+    no_size = pl.col("mass").is_null() & pl.col("radius").is_null() & pl.col("_bad").is_null()
+    no_orbit = (pl.col("parent").is_not_null() & pl.col("semi_major_axis").is_null()
+                & pl.col("_bad").is_null())
+    parts = [pl.when(no_id).then(pl.lit("no id")),
+             pl.when(no_size).then(pl.lit("neither mass nor radius")),
+             pl.when(no_orbit).then(pl.lit("a parent but no semi-major axis"))]
+    return Rule(
+        id="missing-value", title="A required value is missing", severity="error", source=_DATA,
+        needs=(), value=_NONE, limit=_NONE, unit="", direction="none",
+        fires=no_id | no_size | no_orbit,
+        message=pl.concat_str(parts, separator="; ", ignore_nulls=True), scope="error",
+    )
+
+
+def _bad_cell() -> Rule:
+    return Rule(
+        id="bad-cell", title="A cell could not be read as a number", severity="error",
+        source=_DATA, needs=("_bad",), value=_NONE, limit=_NONE, unit="", direction="none",
+        fires=pl.lit(True),
+        message=pl.format("unreadable or non-finite value in: {}", pl.col("_bad")), scope="error",
+    )
+
+
+def _non_positive() -> Rule:
+    offending = [pl.when(pl.col(f) <= 0).then(pl.lit(f)) for f in _POSITIVE_FIELDS]
+    first_bad = pl.coalesce([pl.when(pl.col(f) <= 0).then(pl.col(f)) for f in _POSITIVE_FIELDS])
+    return Rule(
+        id="non-positive", title="A size, distance or time is zero or negative",
+        severity="error", source=_DATA, needs=(), value=first_bad, limit=pl.lit(0.0), unit="SI",
+        direction="none", fires=pl.any_horizontal([pl.col(f) <= 0 for f in _POSITIVE_FIELDS]),
+        message=pl.format("must be positive: {}",
+                          pl.concat_str(offending, separator=", ", ignore_nulls=True)),
+        scope="error",
+    )
+
+
+def _duplicate_id() -> Rule:
+    return Rule(
+        id="duplicate-id", title="Two or more rows share an id", severity="error", source=_DATA,
+        needs=("id",), value=pl.col("_id_count").cast(pl.Float64), limit=pl.lit(1.0), unit="rows",
+        message=pl.format("id '{}' appears on {} rows", pl.col("id"), pl.col("_id_count")),
+        scope="error",
+    )
+
+
+def _orphan_parent() -> Rule:
+    return Rule(
+        id="orphan-parent", title="The parent named is not in the catalogue", severity="error",
+        source=_DATA, needs=("parent",), value=_NONE, limit=_NONE, unit="", direction="none",
+        fires=pl.col("_parent_exists").is_null(),
+        message=pl.format("parent '{}' is not in the catalogue", pl.col("parent")), scope="error",
+    )
+
+
+def _parent_cycle() -> Rule:
+    return Rule(
+        id="parent-cycle", title="The chain of parents loops", severity="error", source=_DATA,
+        needs=("parent",), value=_NONE, limit=_NONE, unit="", direction="none",
+        fires=pl.col("_in_cycle"),
+        message=pl.format("following parents from '{}' never reaches a root (loop via '{}')",
+                          pl.col("id"), pl.col("parent")),
+        scope="error",
+    )
+
+
+def _unit_slip() -> Rule:
+    density, hint = pl.col("density"), pl.col("_slip_hint")
+    return Rule(
+        id="unit-slip", title="A value looks off by a unit factor", severity="error",
+        source="unit factors: IAU 2015 B3 nominal masses and radii; factor 1000 (k-prefix)",
+        needs=("density", "_band_low"), value=density, limit=band_low(), unit="kg/m3",
+        direction="none", fires=hint.is_not_null(),
+        message=pl.format("density {} kg/m3 is far outside its family's band {}-{}; {}",
+                          fmt(density), fmt(band_low()), fmt(band_high()), hint),
+        scope="error",
+    )
+
+
+def _bad_eccentricity() -> Rule:
+    e = pl.col("eccentricity")
+    return Rule(
+        id="bad-eccentricity", title="Eccentricity outside [0, 1) for a bound orbit",
+        severity="error", source="bound Keplerian orbits have 0 <= e < 1 (orbital mechanics)",
+        needs=("eccentricity",), value=e, limit=pl.when(e < 0).then(0.0).otherwise(1.0), unit="",
+        direction="none", fires=(e < 0) | (e >= 1),
+        message=pl.format("eccentricity {} is not in [0, 1)", fmt(e)), scope="error",
+    )
+
+
+def error_rules() -> tuple[Rule, ...]:
+    """Every data-integrity rule."""
+    return (_missing_value(), _bad_cell(), _non_positive(), _duplicate_id(), _orphan_parent(),
+            _parent_cycle(), _unit_slip(), _bad_eccentricity())

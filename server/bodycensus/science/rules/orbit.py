@@ -1,0 +1,207 @@
+"""Rules about a body's orbit: Roche limits, Hill spheres, Kepler's law, siblings, tidal locking.
+
+Orbit rules use the periapsis a(1 - e) and their findings belong to the orbiting body.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import polars as pl
+
+from bodycensus.science.families import FLUID_FAMILIES, SOLID_FAMILIES, STELLAR_FAMILIES
+from bodycensus.science.physics import orbits
+from bodycensus.science.rules.base import Rule, fmt
+
+
+@dataclass(frozen=True)
+class OrbitSettings:
+    """Tunable thresholds of the orbit rules, with their defaults."""
+
+    # Bodies at least this large are held together by gravity, not material strength, so the
+    # rigid Roche limit is binding (roundness sets in at ~200-300 km; Lineweaver & Norman 2010).
+    gravity_bound_radius: float = 200e3  # m
+    kepler_tolerance: float = 0.05  # fractional period mismatch before `kepler-mismatch` (common practice)
+    lock_time_factor: float = 10.0  # tidal Q and rigidity are uncertain by ~10x (common practice)
+    # Pairs lighter than this mass ratio are planet and host, not a binary, even when their
+    # barycentre lies outside the host (Sun-Jupiter: q = 0.001); Pluto-Charon has q = 0.12.
+    binary_mass_ratio: float = 0.01  # common practice
+
+
+_A, _PERI, _APO = pl.col("_a"), pl.col("periapsis"), pl.col("apoapsis")
+_NOT_STELLAR = frozenset({"iron", "rock", "rock_ice", "ice", "ocean", "minor", "gas_giant",
+                          "ice_giant", "brown_dwarf", "unknown"})
+_SELF_LUMINOUS = STELLAR_FAMILIES | {"brown_dwarf"}  # pairs whose mass transfer Eggleton describes
+_ROCHE_SOURCE = "Roche 1849 (fluid, 2.44); Shu 1982 The Physical Universe (rigid, 1.26)"
+
+
+def _km(expr: pl.Expr) -> pl.Expr:
+    return fmt(expr / 1e3)
+
+
+def _periapsis_inside_parent() -> Rule:
+    limit = pl.col("parent_radius") + pl.col("_radius").fill_null(0.0)
+    return Rule(
+        id="periapsis-inside-parent", title="The orbit passes through the parent",
+        severity="impossible", source="geometry: periapsis a(1-e) below the sum of radii",
+        needs=("periapsis", "parent_radius"), value=_PERI, limit=limit, unit="m",
+        direction="below", scope="orbit",
+        message=pl.format("periapsis {} km is inside the parent (radius {} km plus its own)",
+                          _km(_PERI), _km(pl.col("parent_radius"))),
+    )
+
+
+def _inside_rigid_roche(settings: OrbitSettings) -> Rule:
+    big = pl.col("_radius") >= settings.gravity_bound_radius
+    return Rule(
+        id="inside-rigid-roche", title="Inside the rigid-body Roche limit", severity="impossible",
+        source=_ROCHE_SOURCE + "; gravity-bound above ~200 km (Lineweaver & Norman 2010)",
+        needs=("periapsis", "roche_rigid", "_radius"), value=_PERI, limit=pl.col("roche_rigid"),
+        unit="m", direction="below", scope="orbit", families=_NOT_STELLAR,
+        severity_expr=pl.when(big).then(pl.lit("impossible")).otherwise(pl.lit("unstable")),
+        message=pl.format("periapsis {} km is inside the rigid Roche limit {} km",
+                          _km(_PERI), _km(pl.col("roche_rigid"))),
+    )
+
+
+def _inside_fluid_roche() -> Rule:
+    fluid = pl.col("family").is_in(sorted(FLUID_FAMILIES))
+    return Rule(
+        id="inside-fluid-roche", title="Inside the fluid-body Roche limit", severity="note",
+        source=_ROCHE_SOURCE, needs=("periapsis", "roche_fluid", "roche_rigid"), value=_PERI,
+        limit=pl.col("roche_fluid"), unit="m", direction="below", scope="orbit",
+        fires=(_PERI < pl.col("roche_fluid")) & (_PERI >= pl.col("roche_rigid")),
+        families=_NOT_STELLAR,
+        severity_expr=pl.when(fluid).then(pl.lit("unstable")).otherwise(pl.lit("note")),
+        message=pl.format("periapsis {} km is inside the fluid Roche limit {} km",
+                          _km(_PERI), _km(pl.col("roche_fluid"))),
+    )
+
+
+def _roche_lobe_overflow() -> Rule:
+    mass, parent_mass = pl.col("_mass"), pl.col("parent_mass")
+    own = pl.col("_radius") / orbits.roche_lobe_radius(_PERI, mass / parent_mass)
+    primary = pl.col("parent_radius") / orbits.roche_lobe_radius(_PERI, parent_mass / mass)
+    fill = pl.max_horizontal(own, primary)
+    return Rule(
+        id="roche-lobe-overflow", title="A star of the pair overfills its Roche lobe",
+        severity="unstable", source="Eggleton 1983, ApJ 268, 368 (Roche-lobe radius)",
+        needs=("periapsis", "_mass", "parent_mass", "_radius", "parent_radius"), value=fill,
+        limit=pl.lit(1.0), unit="lobe fill", scope="orbit",
+        families=_SELF_LUMINOUS,
+        fires=(fill > 1.0) & pl.col("parent_family").is_in(sorted(_SELF_LUMINOUS)),
+        message=pl.format("at periapsis the {} fills {}x its Roche lobe",
+                          pl.when(own >= primary).then(pl.lit("body")).otherwise(
+                              pl.lit("primary")), fmt(fill)),
+    )
+
+
+def _hill_rules() -> tuple[Rule, Rule]:
+    ratio = _A / pl.col("parent_hill_radius")
+    outside = Rule(
+        id="outside-hill-sphere", title="Orbit beyond the parent's Hill sphere",
+        severity="impossible", source="Hill sphere r_H = a(1-e)(m/3M)^(1/3) (Hill 1878)",
+        needs=("_a", "parent_hill_radius"), value=ratio, limit=pl.lit(1.0),
+        unit="x parent Hill radius", scope="orbit",
+        message=pl.format("semi-major axis is {}x the parent's Hill radius", fmt(ratio)),
+    )
+    stable_fraction = pl.col("stable_hill_limit") / pl.col("parent_hill_radius")
+    beyond = Rule(
+        id="beyond-stable-hill", title="Beyond the stable part of the Hill sphere",
+        severity="unstable",
+        source="Domingos, Winter & Yokoyama 2006, MNRAS 373, 1227 (prograde a_crit)",
+        needs=("_a", "stable_hill_limit", "parent_hill_radius"), value=ratio,
+        limit=stable_fraction, unit="x parent Hill radius", scope="orbit",
+        fires=(ratio > stable_fraction) & (ratio <= 1.0),
+        message=pl.format("semi-major axis is {}x the parent's Hill radius; prograde orbits are "
+                          "stable to {}x", fmt(ratio), fmt(stable_fraction)),
+    )
+    return outside, beyond
+
+
+def _kepler_mismatch(settings: OrbitSettings) -> Rule:
+    ratio, tol = pl.col("period_ratio"), settings.kepler_tolerance
+    return Rule(
+        id="kepler-mismatch", title="Period contradicts Kepler's third law", severity="suspect",
+        source="Kepler's third law, P = 2 pi sqrt(a^3 / G(M+m))",
+        needs=("period_ratio",), value=ratio,
+        limit=pl.when(ratio < 1).then(1 - tol).otherwise(1 + tol), unit="x Kepler period",
+        direction="none", fires=(ratio - 1).abs() > tol, scope="orbit",
+        message=pl.format("period is {}x the Kepler period {} d", fmt(ratio),
+                          fmt(pl.col("kepler_period") / 86400)),
+    )
+
+
+def _sibling_rules() -> tuple[Rule, Rule]:
+    crossing = Rule(
+        id="crossing-orbits", title="Orbit crosses the next sibling inward", severity="unstable",
+        source="orbit geometry: inner apoapsis a(1+e) beyond outer periapsis a(1-e)",
+        needs=("inner_apoapsis", "periapsis"), value=pl.col("inner_apoapsis"), limit=_PERI,
+        unit="m", scope="orbit",
+        message=pl.format("inner sibling '{}' reaches {} km, beyond this periapsis {} km",
+                          pl.col("inner_id"), _km(pl.col("inner_apoapsis")), _km(_PERI)),
+    )
+    mutual = orbits.mutual_hill_radius(pl.col("inner_a"), pl.col("inner_mass"), pl.col("_mass"),
+                                       pl.col("parent_mass"))
+    spacing = (_A - pl.col("inner_a")) / mutual
+    spaced = Rule(
+        id="hill-spacing", title="Too close to its inner sibling to be Hill-stable",
+        severity="unstable", source="Gladman 1993, Icarus 106, 247 (2 sqrt(3) mutual Hill radii)",
+        needs=("inner_a", "inner_mass", "_mass", "parent_mass", "_a"), value=spacing,
+        limit=pl.lit(orbits.HILL_STABLE_SEPARATION), unit="mutual Hill radii",
+        direction="below", scope="orbit",
+        fires=(spacing < orbits.HILL_STABLE_SEPARATION)
+        & (pl.col("inner_apoapsis") <= _PERI).fill_null(True),
+        message=pl.format("only {} mutual Hill radii from inner sibling '{}'", fmt(spacing),
+                          pl.col("inner_id")),
+    )
+    return crossing, spaced
+
+
+def _heavier_than_parent() -> Rule:
+    ratio = pl.col("_mass") / pl.col("parent_mass")
+    return Rule(
+        id="heavier-than-parent", title="Heavier than the body it orbits", severity="suspect",
+        source="hierarchy convention: the parent is the more massive body",
+        needs=("_mass", "parent_mass"), value=ratio, limit=pl.lit(1.0), unit="x parent mass",
+        scope="orbit", message=pl.format("mass is {}x the parent's", fmt(ratio)),
+    )
+
+
+def _binary_barycentre(settings: OrbitSettings) -> Rule:
+    offset = pl.col("barycentre_offset")
+    binary = pl.col("_mass") >= settings.binary_mass_ratio * pl.col("parent_mass")
+    return Rule(
+        id="binary-barycentre", title="A binary: the barycentre lies outside the parent",
+        severity="note", source="two-body barycentre a m/(M+m) (Newtonian mechanics)",
+        needs=("barycentre_offset", "parent_radius"), value=offset,
+        limit=pl.col("parent_radius"), unit="m", scope="orbit",
+        fires=(offset > pl.col("parent_radius")) & binary,
+        message=pl.format("barycentre is {} km from the parent's centre, outside its radius {} km",
+                          _km(offset), _km(pl.col("parent_radius"))),
+    )
+
+
+def _tidal_lock_age(settings: OrbitSettings) -> Rule:
+    synchronous = (pl.col("rotation_period") - pl.col("period")).abs() <= 0.01 * pl.col("period")
+    locked = pl.col("tidally_locked").fill_null(False) | synchronous.fill_null(False)
+    ratio = pl.col("tidal_lock_time") / pl.col("age")
+    return Rule(
+        id="tidal-lock-age", title="Tidally locked sooner than tides allow", severity="suspect",
+        source="Gladman et al. 1996, Icarus 122, 166 (despinning time, after Peale 1977)",
+        needs=("tidal_lock_time", "age"), value=ratio, limit=pl.lit(settings.lock_time_factor),
+        unit="x age", scope="orbit", families=SOLID_FAMILIES | (FLUID_FAMILIES - STELLAR_FAMILIES),
+        fires=locked & (ratio > settings.lock_time_factor),
+        message=pl.format("locked, but despinning takes {} yr, {}x its age", fmt(
+            pl.col("tidal_lock_time")), fmt(ratio)),
+    )
+
+
+def orbit_rules(settings: OrbitSettings = OrbitSettings()) -> tuple[Rule, ...]:
+    """Every orbit rule."""
+    return (
+        _periapsis_inside_parent(), _inside_rigid_roche(settings), _inside_fluid_roche(),
+        _roche_lobe_overflow(), *_hill_rules(), _kepler_mismatch(settings), *_sibling_rules(),
+        _heavier_than_parent(), _binary_barycentre(settings), _tidal_lock_age(settings),
+    )
+

@@ -1,0 +1,1 @@
+"""The storage floor: the data directory (catalogue folders, manifests, SQLite) and durable writes."""

@@ -1,0 +1,377 @@
+"""The data directory: catalogues (Parquet + manifest.json) and SQLite for saved views.
+
+Layout under ``data_dir``::
+
+    incoming/<id>/source<suffix>   an upload being mapped or ingested, with its manifest.json
+    incoming/<id>/work/            the engine's output while it is written
+    catalogues/<id>/               a finished catalogue: manifest.json, Parquet, aggregates.json
+    tmp/                           exports and deletions in progress (emptied at start-up)
+    bodycensus.sqlite              saved views (WAL)
+
+A catalogue appears under ``catalogues/`` only by renaming a complete work folder; every JSON
+file is written to a temporary name, fsynced and renamed, so a killed server leaves either the
+old or the new file, never half of one.
+"""
+
+from __future__ import annotations
+
+import errno
+import json
+import math
+import os
+import re
+import secrets
+import shutil
+import sqlite3
+import threading
+from collections.abc import Iterator
+from contextlib import closing, contextmanager, suppress
+from dataclasses import asdict, dataclass, field, replace
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import Any, Literal
+
+from bodycensus.storage.durable import fsync_path
+from bodycensus.errors import BodycensusError, Conflict, NotFound
+
+Status = Literal["mapping", "ingesting", "ready", "failed"]
+MANIFEST = "manifest.json"
+_ID = re.compile(r"^[A-Za-z0-9_-]{4,40}$")
+KILLED = "the server stopped during the ingest; upload the file again"
+
+
+class StorageError(BodycensusError):
+    """The data directory cannot be written (full disk, read-only, no permission): 507."""
+
+    status, code = 507, "storage"
+
+
+def storage_error(err: OSError) -> StorageError:
+    """The one-line StorageError for an OSError met while writing the data directory."""
+    if err.errno == errno.ENOSPC:
+        return StorageError("the disk of the data directory is full; free space and try again")
+    return StorageError(f"the data directory cannot be written ({err.strerror or err}); fix its "
+                        "permissions or mount and try again")
+
+
+def new_slug(nbytes: int = 6) -> str:
+    """A short random URL-safe slug (8 characters for 6 bytes)."""
+    return secrets.token_urlsafe(nbytes)
+
+
+def now() -> str:
+    """The current UTC time as an ISO 8601 string (seconds)."""
+    return datetime.now(UTC).isoformat(timespec="seconds")
+
+
+def json_ready(value: Any) -> Any:
+    """``value`` with non-finite floats as None and numpy scalars, tuples, sets and paths plain."""
+    if isinstance(value, dict):
+        return {str(k): json_ready(v) for k, v in value.items()}
+    if isinstance(value, list | tuple | set | frozenset):
+        return [json_ready(v) for v in value]
+    if hasattr(value, "item") and callable(value.item):  # numpy scalar
+        value = value.item()
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    if isinstance(value, Path):
+        return str(value)
+    return value
+
+
+def write_json_atomic(path: Path, data: Any) -> None:
+    """Write ``data`` as JSON to ``path``: temporary file, fsync, rename."""
+    text = json.dumps(json_ready(data), ensure_ascii=False, allow_nan=False, indent=1)
+    tmp = path.with_name(f".{path.name}.{secrets.token_hex(4)}.tmp")
+    try:
+        with open(tmp, "w", encoding="utf-8") as handle:
+            handle.write(text)
+            handle.flush()
+            os.fsync(handle.fileno())
+        os.replace(tmp, path)
+    finally:
+        tmp.unlink(missing_ok=True)
+    fsync_path(path.parent)
+
+
+@dataclass(frozen=True)
+class Manifest:
+    """What the store knows of one catalogue (``manifest.json``)."""
+
+    id: str
+    name: str
+    status: Status
+    created: str
+    source: str = ".csv"  # the upload's suffix, e.g. ".csv.gz"
+    progress: dict[str, Any] = field(default_factory=lambda: {"stage": "upload", "fraction": 0.0})
+    rows: int | None = None
+    error: str | None = None
+    mapping: dict[str, Any] | None = None  # applied mapping (or the proposal while `mapping`)
+    proposal: dict[str, Any] | None = None  # the mapping step: columns, samples, guesses
+    summary: dict[str, Any] | None = None
+    options: dict[str, Any] | None = None  # the overrides the run used (map, units, families)
+    demo: bool = False
+
+    def to_json(self) -> dict[str, Any]:
+        """A plain dict, as written to manifest.json."""
+        return asdict(self)
+
+    @classmethod
+    def from_json(cls, data: dict[str, Any]) -> Manifest:
+        """Read a manifest dict, ignoring keys this version does not know."""
+        known = {k: v for k, v in data.items() if k in cls.__dataclass_fields__}
+        return cls(**known)
+
+
+@dataclass(frozen=True)
+class SavedView:
+    """A saved view: a catalogue, its URL query, a title and a note, under a short slug."""
+
+    slug: str
+    catalogue: str
+    query: str
+    title: str
+    note: str
+    created: str
+
+    @property
+    def url(self) -> str:
+        """Where the view is shown."""
+        return f"/v/{self.slug}"
+
+
+class Store:
+    """Catalogues on disk and saved views in SQLite; safe to share between threads."""
+
+    def __init__(self, data_dir: Path) -> None:
+        self.data_dir = Path(data_dir)
+        self.catalogues = self.data_dir / "catalogues"
+        self.incoming = self.data_dir / "incoming"
+        self.tmp = self.data_dir / "tmp"
+        for folder in (self.catalogues, self.incoming, self.tmp):
+            folder.mkdir(parents=True, exist_ok=True)
+        self.db_path = self.data_dir / "bodycensus.sqlite"
+        self._lock = threading.RLock()
+        self._unsaved: dict[str, Manifest] = {}  # failures the disk would not take
+        self._init_db()
+        self.recover()
+
+    # --- catalogues ------------------------------------------------------------------------
+    def new_upload(self, suffix: str) -> tuple[str, Path]:
+        """Reserve an id and return it with the path the upload streams to."""
+        cat_id = new_slug()
+        folder = self.incoming / cat_id
+        try:
+            folder.mkdir()
+        except OSError as err:
+            raise storage_error(err) from err
+        return cat_id, folder / f"source{suffix}"
+
+    def source_path(self, cat_id: str) -> Path:
+        """The uploaded file of a catalogue that is still being mapped or ingested."""
+        manifest = self.get(cat_id)
+        return self.incoming / cat_id / f"source{manifest.source}"
+
+    def open_upload(self, manifest: Manifest) -> Manifest:
+        """Write the first manifest of a finished upload."""
+        self._write_manifest(self.incoming / manifest.id / MANIFEST, manifest)
+        return manifest
+
+    def discard(self, cat_id: str) -> None:
+        """Remove an upload that was refused; nothing of it stays."""
+        if _ID.match(cat_id):
+            self._remove(self.incoming / cat_id)
+
+    def get(self, cat_id: str) -> Manifest:
+        """The manifest of a catalogue; NotFound if there is none."""
+        if cat_id in self._unsaved:
+            return self._unsaved[cat_id]
+        path = self._manifest_path(cat_id)
+        if path is None:
+            raise NotFound(f"no catalogue '{cat_id}'; GET /api/catalogues lists them")
+        return Manifest.from_json(json.loads(path.read_text(encoding="utf-8")))
+
+    def list(self) -> list[Manifest]:
+        """Every catalogue, newest first."""
+        found = []
+        for root in (self.catalogues, self.incoming):
+            for folder in root.iterdir():
+                try:
+                    found.append(self.get(folder.name))
+                except (NotFound, ValueError, OSError):
+                    continue  # an upload still streaming, or a folder that is not ours
+        return sorted(found, key=lambda m: (m.created, m.id), reverse=True)
+
+    def update(self, cat_id: str, **changes: Any) -> Manifest:
+        """Change fields of a manifest that is still in ``incoming/`` and write it atomically."""
+        with self._lock:
+            manifest = replace(self.get(cat_id), **changes)
+            self._write_manifest(self.incoming / cat_id / MANIFEST, manifest)
+            return manifest
+
+    def claim(self, cat_id: str, expected: Status, **changes: Any) -> Manifest:
+        """Like ``update``, but only from status ``expected`` (Conflict otherwise), atomically."""
+        with self._lock:
+            manifest = self.get(cat_id)
+            if manifest.status != expected:
+                raise Conflict(f"catalogue '{cat_id}' is {manifest.status}, not {expected}")
+            return self.update(cat_id, **changes)
+
+    def scratch(self, suffix: str) -> Path:
+        """A fresh path under tmp/ for a file served once (an export), removed at start-up."""
+        return self.tmp / f"{new_slug()}{suffix}"
+
+    def set_progress(self, cat_id: str, stage: str, fraction: float) -> None:
+        """Record how far the ingest is (``fraction`` of the whole run, 0..1)."""
+        self.update(cat_id, progress={"stage": stage, "fraction": round(float(fraction), 4)})
+
+    def workdir(self, cat_id: str) -> Path:
+        """A fresh, empty folder for the engine's output."""
+        work = self.incoming / cat_id / "work"
+        self._remove(work)
+        work.mkdir(parents=True)
+        return work
+
+    def publish(self, cat_id: str, **changes: Any) -> Manifest:
+        """Mark the catalogue ready and rename its work folder into ``catalogues/``."""
+        with self._lock:
+            manifest = replace(self.get(cat_id), status="ready", error=None, proposal=None,
+                               progress={"stage": "done", "fraction": 1.0}, **changes)
+            work = self.incoming / cat_id / "work"
+            write_json_atomic(work / MANIFEST, manifest.to_json())
+            os.replace(work, self.catalogues / cat_id)
+            fsync_path(self.catalogues)
+            self._remove(self.incoming / cat_id)
+            return manifest
+
+    def fail(self, cat_id: str, error: str) -> Manifest:
+        """Mark the catalogue failed with a one-line reason; drop its upload and partial output.
+
+        The output goes first (on a full disk that frees the room for the manifest); when even
+        the manifest cannot be written, the failure is kept in memory until the next start."""
+        with self._lock:
+            for child in (self.incoming / cat_id).iterdir():
+                if child.name != MANIFEST:
+                    with suppress(OSError):
+                        self._remove(child)
+            try:
+                return self.update(cat_id, status="failed", error=error)
+            except StorageError:
+                failed = replace(self.get(cat_id), status="failed", error=error)
+                self._unsaved[cat_id] = failed
+                return failed
+
+    def delete(self, cat_id: str) -> None:
+        """Remove a catalogue and its saved views; Conflict while it is being ingested."""
+        with self._lock:
+            manifest = self.get(cat_id)
+            if manifest.status == "ingesting":
+                raise Conflict(f"catalogue '{cat_id}' is being ingested; delete it when it ends")
+            root = self.catalogues if manifest.status == "ready" else self.incoming
+            self._remove(root / cat_id)
+        self.delete_views(cat_id)
+
+    def ready_dir(self, cat_id: str) -> Path:
+        """The folder of a ready catalogue; NotFound or Conflict otherwise."""
+        manifest = self.get(cat_id)
+        if manifest.status != "ready":
+            hint = manifest.error or f"it is {manifest.status}; poll GET /api/catalogues/{cat_id}"
+            raise Conflict(f"catalogue '{cat_id}' is not ready: {hint}")
+        return self.catalogues / cat_id
+
+    def recover(self) -> None:
+        """After a crash: drop half uploads and temp files, fail ingests that were cut off."""
+        for child in self.tmp.iterdir():
+            self._remove(child)
+        for folder in list(self.incoming.iterdir()):
+            self._recover_one(folder)
+
+    def _recover_one(self, folder: Path) -> None:
+        """Bring one ``incoming/`` folder to a consistent state."""
+        if not (folder / MANIFEST).is_file() or (self.catalogues / folder.name).exists():
+            self._remove(folder)  # an upload cut off, or a publish cut off after its rename
+            return
+        try:
+            manifest = self.get(folder.name)
+        except (ValueError, OSError):
+            self._remove(folder)
+            return
+        if manifest.status == "ingesting":
+            self.fail(manifest.id, KILLED)
+
+    @staticmethod
+    def _write_manifest(path: Path, manifest: Manifest) -> None:
+        """Write a manifest atomically; a full or read-only disk becomes StorageError."""
+        try:
+            write_json_atomic(path, manifest.to_json())
+        except OSError as err:
+            raise storage_error(err) from err
+
+    def _manifest_path(self, cat_id: str) -> Path | None:
+        """Where the manifest of ``cat_id`` is, or None."""
+        if not _ID.match(cat_id):
+            return None
+        for root in (self.catalogues, self.incoming):
+            path = root / cat_id / MANIFEST
+            if path.is_file():
+                return path
+        return None
+
+    def _remove(self, path: Path) -> None:
+        """Delete a file or folder: renamed into tmp/ first so a crash leaves no half folder."""
+        if path.is_dir():
+            doomed = self.tmp / f"{path.name}.{secrets.token_hex(4)}.deleted"
+            os.replace(path, doomed)
+            shutil.rmtree(doomed, ignore_errors=True)
+        else:
+            path.unlink(missing_ok=True)
+
+    # --- saved views -----------------------------------------------------------------------
+    @contextmanager
+    def _db(self) -> Iterator[sqlite3.Connection]:
+        """A short-lived connection in a transaction (one per call keeps threads apart)."""
+        with closing(sqlite3.connect(self.db_path, timeout=30)) as conn, conn:
+            yield conn
+
+    def _init_db(self) -> None:
+        """Create the tables and switch the database to write-ahead logging."""
+        with self._db() as conn:
+            conn.execute("PRAGMA journal_mode=WAL")
+            conn.execute(
+                "CREATE TABLE IF NOT EXISTS views (slug TEXT PRIMARY KEY, catalogue TEXT NOT NULL,"
+                " query TEXT NOT NULL, title TEXT NOT NULL, note TEXT NOT NULL,"
+                " created TEXT NOT NULL)"
+            )
+            conn.execute("CREATE INDEX IF NOT EXISTS views_by_catalogue ON views (catalogue)")
+
+    def save_view(self, catalogue: str, query: str, title: str, note: str) -> SavedView:
+        """Store a view under a new slug; the catalogue must exist."""
+        self.get(catalogue)
+        view = SavedView(new_slug(), catalogue, query, title, note, now())
+        with self._db() as conn:
+            conn.execute("INSERT INTO views VALUES (?, ?, ?, ?, ?, ?)",
+                         (view.slug, view.catalogue, view.query, view.title, view.note,
+                          view.created))
+        return view
+
+    def get_view(self, slug: str) -> SavedView:
+        """The saved view ``slug``; NotFound if there is none."""
+        with self._db() as conn:
+            row = conn.execute("SELECT * FROM views WHERE slug = ?", (slug,)).fetchone()
+        if row is None:
+            raise NotFound(f"no saved view '{slug}'")
+        return SavedView(*row)
+
+    def list_views(self, catalogue: str) -> list[SavedView]:
+        """The saved views of a catalogue, newest first."""
+        with self._db() as conn:
+            rows = conn.execute(
+                "SELECT * FROM views WHERE catalogue = ? ORDER BY created DESC, slug",
+                (catalogue,),
+            ).fetchall()
+        return [SavedView(*row) for row in rows]
+
+    def delete_views(self, catalogue: str) -> None:
+        """Forget the saved views of a deleted catalogue."""
+        with self._db() as conn:
+            conn.execute("DELETE FROM views WHERE catalogue = ?", (catalogue,))
