@@ -9,9 +9,10 @@ from pathlib import Path
 from typing import Any
 
 import polars as pl
+
 from bodycensus.engines.local import CheckOptions, CheckResult, check_table
-from bodycensus.science.physics.orbits import kepler_period
 from bodycensus.input.schema import CANONICAL_FIELDS, FIELD_TYPES
+from bodycensus.science.physics.orbits import kepler_period
 from bodycensus.science.units import AU, M_EARTH, M_SUN, R_SUN
 
 # The rule ids issue 2 fixes (item 6), plus bad-cell for unreadable cells: an oracle written

@@ -7,11 +7,12 @@ from dataclasses import dataclass
 import numpy as np
 import polars as pl
 import pytest
+from catalogue_builder import ISSUE_RULE_IDS
+
 from bodycensus.demo import generate_demo
 from bodycensus.science.families import FAMILY_PARAMETERS, guess_family
 from bodycensus.science.physics import bodies
 from bodycensus.science.units import AU, DAY, HOUR, M_EARTH, YEAR
-from catalogue_builder import ISSUE_RULE_IDS
 
 N = 20_000
 RULES = ISSUE_RULE_IDS

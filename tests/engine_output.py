@@ -10,6 +10,7 @@ from pathlib import Path
 
 import numpy as np
 import polars as pl
+
 from bodycensus.science.physics import bodies as phys
 from bodycensus.science.physics import orbits
 from bodycensus.science.units import AU, M_EARTH, M_JUPITER, M_SUN, R_JUPITER, R_SUN

@@ -20,8 +20,9 @@ from __future__ import annotations
 from typing import Any
 
 import polars as pl
-from bodycensus.science.physics.bodies import sphere_volume
+
 from bodycensus.input.schema import CANONICAL_FIELDS, FIELD_TYPES
+from bodycensus.science.physics.bodies import sphere_volume
 from bodycensus.science.units import AU, DAY, HOUR, L_SUN, M_SUN, R_SUN
 
 KM = 1e3

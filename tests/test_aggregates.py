@@ -9,12 +9,13 @@ from typing import Any
 
 import polars as pl
 import pytest
+from engine_output import HOSTILE_LABEL, write_engine_output
+
 from bodycensus.diagrams import aggregates
 from bodycensus.diagrams.aggregates import band_density, compute_aggregates
 from bodycensus.science.families import FAMILY_PARAMETERS
 from bodycensus.science.physics.bodies import composition_radius
 from bodycensus.science.units import M_EARTH, M_SUN, R_EARTH
-from engine_output import HOSTILE_LABEL, write_engine_output
 
 
 @pytest.fixture(scope="module")

@@ -11,8 +11,6 @@ from pathlib import Path
 
 import polars as pl
 import pytest
-from bodycensus.dashboard.app import create_app
-from bodycensus.science.units import M_EARTH
 from web_support import (
     FORMULA_LABEL,
     LIMIT,
@@ -26,6 +24,9 @@ from web_support import (
     wait_done,
     write_catalogue,
 )
+
+from bodycensus.dashboard.app import create_app
+from bodycensus.science.units import M_EARTH
 
 
 @pytest.fixture(scope="module")

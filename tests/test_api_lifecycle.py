@@ -10,10 +10,6 @@ from pathlib import Path
 
 import httpx
 import pytest
-from bodycensus.dashboard.app import create_app, serve
-from bodycensus.errors import BadInput
-from bodycensus.dashboard.settings import Settings
-from bodycensus.storage.store import KILLED, Manifest, Store, now
 from web_support import (
     api_settings,
     asgi_client,
@@ -25,6 +21,11 @@ from web_support import (
     wait_done,
     write_catalogue,
 )
+
+from bodycensus.dashboard.app import create_app, serve
+from bodycensus.dashboard.settings import Settings
+from bodycensus.errors import BadInput
+from bodycensus.storage.store import KILLED, Manifest, Store, now
 
 # --- restarts ------------------------------------------------------------------------------
 

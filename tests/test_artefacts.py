@@ -13,6 +13,8 @@ import time
 import numpy as np
 import polars as pl
 import pytest
+from scipy import stats
+
 from bodycensus.science.artefacts import (
     ARTEFACT_SCHEMA,
     METHODS,
@@ -25,7 +27,6 @@ from bodycensus.science.artefacts import (
     detect_artefacts,
     edge_bins,
 )
-from scipy import stats
 
 N = 5000
 

@@ -14,11 +14,6 @@ from urllib.parse import parse_qs, quote, urlsplit
 
 import httpx
 import pytest
-from bodycensus.dashboard.routes import api
-from bodycensus.dashboard.routes import pages
-from bodycensus.dashboard.app import create_app
-from bodycensus.dashboard.security.auth import COOKIE
-from bodycensus.dashboard.settings import Settings
 from fastapi.routing import APIRoute
 from web_support import (
     SyncClient,
@@ -29,6 +24,11 @@ from web_support import (
     wait_done,
     write_catalogue,
 )
+
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.routes import api, pages
+from bodycensus.dashboard.security.auth import COOKIE
+from bodycensus.dashboard.settings import Settings
 
 TOKEN = "s3cret-token-for-tests"
 BEARER = {"Authorization": f"Bearer {TOKEN}"}

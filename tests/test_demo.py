@@ -12,11 +12,12 @@ from pathlib import Path
 import numpy as np
 import polars as pl
 import pytest
+from demo_support import RULES, Demo, N, demo, family_band, orbiting
+
 from bodycensus.demo import COLUMNS, TRUTH_COLUMNS, generate_demo, truth_path, write_demo
 from bodycensus.science.families import FAMILY_PARAMETERS
 from bodycensus.science.physics import bodies, orbits
 from bodycensus.science.units import M_JUPITER, M_SUN
-from demo_support import RULES, Demo, N, demo, family_band, orbiting
 
 __all__ = ["demo"]  # the session fixture
 

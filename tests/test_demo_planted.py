@@ -7,9 +7,10 @@ import math
 
 import numpy as np
 import polars as pl
+from demo_support import Demo, demo, family_band
+
 from bodycensus.science.physics import bodies, orbits
 from bodycensus.science.units import HOUR, M_EARTH, M_JUPITER, M_SUN
-from demo_support import Demo, demo, family_band
 
 __all__ = ["demo"]  # the session fixture
 

@@ -23,9 +23,6 @@ import httpx
 import numpy as np
 import polars as pl
 import pytest
-from bodycensus.dashboard.app import create_app
-from bodycensus.dashboard.settings import Settings
-from bodycensus.storage.store import KILLED
 from hostile_corpus import CLEAN, csv_bytes
 from web_support import (
     asgi_client,
@@ -36,6 +33,10 @@ from web_support import (
     wait_done,
     write_catalogue,
 )
+
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.settings import Settings
+from bodycensus.storage.store import KILLED
 
 
 def big_csv(path: Path, rows: int) -> Path:

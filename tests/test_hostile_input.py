@@ -13,10 +13,6 @@ from pathlib import Path
 import httpx
 import polars as pl
 import pytest
-from bodycensus.dashboard.app import create_app
-from bodycensus.input.ingest import IngestError, IngestLimits, ingest
-from bodycensus.input.readers import decompress
-from bodycensus.dashboard.settings import Settings
 from hostile_corpus import CLEAN, Case, all_cases, csv_bytes, write_corpus
 from web_support import (
     SyncClient,
@@ -28,6 +24,11 @@ from web_support import (
     wait_done,
     write_catalogue,
 )
+
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.settings import Settings
+from bodycensus.input.ingest import IngestError, IngestLimits, ingest
+from bodycensus.input.readers import decompress
 
 CASES = all_cases()
 MIB = 2**20

@@ -14,10 +14,11 @@ import pytest
 import zstandard
 from astropy import constants as const
 from astropy import units as u
+from polars.testing import assert_frame_equal
+
 from bodycensus.input import ingest as ingest_module
 from bodycensus.input.ingest import IngestError, IngestLimits, IngestReport, ingest
 from bodycensus.input.schema import guess_mapping
-from polars.testing import assert_frame_equal
 
 HEADER = ["ID", "Name", "type", "parent", "Mass (M_earth)", "radius_km", "a (AU)", "e",
           "period_days", "locked", "colour"]

@@ -28,8 +28,9 @@ from typing import Any
 
 import httpx
 import pytest
-from bodycensus.demo import write_demo
 from web_support import free_port, wait_done
+
+from bodycensus.demo import write_demo
 
 BODIES = int(os.environ.get("BODYCENSUS_LOAD_BODIES", "1000000"))
 SECONDS = float(os.environ.get("BODYCENSUS_LOAD_SECONDS", "60"))

@@ -15,11 +15,12 @@ from typing import Any
 import httpx
 import pytest
 import schemathesis
-from bodycensus.dashboard.app import create_app
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from schemathesis import GenerationMode
 from web_support import api_settings, live_server, upload, wait_done, write_catalogue
+
+from bodycensus.dashboard.app import create_app
 
 EXAMPLES = 40  # per operation; ~16 operations keep the whole module near half a minute
 TOKEN = "fuzzing-token-1234"

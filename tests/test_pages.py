@@ -10,14 +10,15 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from bodycensus.diagrams.aggregates import compute_aggregates
-from bodycensus.dashboard.app import create_app
-from bodycensus.dashboard.settings import Settings
-from bodycensus.storage.store import Manifest, Store, now, write_json_atomic
-from bodycensus.dashboard.screens.viewstate import ViewState
 from engine_output import HOSTILE_LABEL, write_engine_output
 from markupsafe import escape
 from web_support import SyncClient, asgi_client
+
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.screens.viewstate import ViewState
+from bodycensus.dashboard.settings import Settings
+from bodycensus.diagrams.aggregates import compute_aggregates
+from bodycensus.storage.store import Manifest, Store, now, write_json_atomic
 
 
 def _publish(store: Store) -> str:

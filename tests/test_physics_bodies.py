@@ -15,9 +15,10 @@ import astropy.constants as const
 import astropy.units as u
 import numpy as np
 import pytest
+from three_forms import assert_three_forms
+
 from bodycensus.science.physics import bodies
 from bodycensus.science.units import M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
-from three_forms import assert_three_forms
 
 KM = 1e3
 

@@ -10,10 +10,11 @@ import astropy.constants as const
 import astropy.units as u
 import numpy as np
 import pytest
+from three_forms import assert_three_forms
+
 from bodycensus.science.physics import orbits
 from bodycensus.science.physics.bodies import bulk_density
 from bodycensus.science.units import AU, DAY, M_EARTH, M_SUN, R_SUN, YEAR
-from three_forms import assert_three_forms
 
 KM = 1e3
 

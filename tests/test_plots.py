@@ -9,9 +9,10 @@ from typing import Any
 
 import plotly.graph_objects as go
 import pytest
+from engine_output import HOSTILE_LABEL, write_engine_output
+
 from bodycensus.diagrams import plots
 from bodycensus.diagrams.aggregates import compute_aggregates
-from engine_output import HOSTILE_LABEL, write_engine_output
 
 
 @pytest.fixture(scope="module")

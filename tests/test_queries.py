@@ -12,16 +12,17 @@ from pathlib import Path
 
 import polars as pl
 import pytest
-from bodycensus.dashboard.screens import queries
-from bodycensus.engines.local import check_file
-from bodycensus.errors import BadInput, NotFound
-from bodycensus.science.rules.base import SEVERITIES
-from bodycensus.science.units import M_EARTH
-from bodycensus.dashboard.screens.viewstate import ViewState
 from hypothesis import given
 from hypothesis import strategies as st
 from polars.testing import assert_frame_equal
 from web_support import FORMULA_LABEL, write_catalogue
+
+from bodycensus.dashboard.screens import queries
+from bodycensus.dashboard.screens.viewstate import ViewState
+from bodycensus.engines.local import check_file
+from bodycensus.errors import BadInput, NotFound
+from bodycensus.science.rules.base import SEVERITIES
+from bodycensus.science.units import M_EARTH
 
 
 @pytest.fixture(scope="module")

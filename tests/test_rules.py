@@ -10,6 +10,8 @@ from pathlib import Path
 
 import polars as pl
 import pytest
+from catalogue_builder import EARTH_LIKE, ISSUE_RULE_IDS, SUN_LIKE, fired, run
+
 from bodycensus.engines.local import CheckOptions, check_file
 from bodycensus.science.families import FAMILIES
 from bodycensus.science.physics import bodies, orbits
@@ -17,7 +19,6 @@ from bodycensus.science.physics.orbits import kepler_period
 from bodycensus.science.rules import RULE_IDS, all_rules
 from bodycensus.science.rules.base import SEVERITIES
 from bodycensus.science.units import AU, M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
-from catalogue_builder import EARTH_LIKE, ISSUE_RULE_IDS, SUN_LIKE, fired, run
 
 EXPECTED_IDS = set(ISSUE_RULE_IDS)
 

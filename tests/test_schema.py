@@ -6,6 +6,7 @@ import polars as pl
 import pytest
 from astropy import constants as const
 from astropy import units as u
+
 from bodycensus.input.schema import (
     CANONICAL_FIELDS,
     FIELD_TYPES,

@@ -16,8 +16,6 @@ from pathlib import Path
 import httpx
 import polars as pl
 import pytest
-from bodycensus.dashboard.app import create_app
-from bodycensus.dashboard.settings import Settings
 from web_support import (
     SyncClient,
     api_settings,
@@ -28,6 +26,9 @@ from web_support import (
     upload,
     wait_done,
 )
+
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.settings import Settings
 
 OWN = "http://127.0.0.1"  # the base URL of asgi_client: this server's own origin
 EVIL = "http://evil.example"

@@ -4,11 +4,12 @@ from __future__ import annotations
 
 import polars as pl
 import pytest
+from solar_system import SOLAR_SYSTEM_ROWS, solar_system_frame
+
+from bodycensus.input.schema import CANONICAL_FIELDS, FIELD_TYPES
 from bodycensus.science.families import FAMILIES
 from bodycensus.science.physics.bodies import bulk_density
 from bodycensus.science.physics.orbits import kepler_period
-from bodycensus.input.schema import CANONICAL_FIELDS, FIELD_TYPES
-from solar_system import SOLAR_SYSTEM_ROWS, solar_system_frame
 
 BY_ID = {row["id"]: row for row in SOLAR_SYSTEM_ROWS}
 

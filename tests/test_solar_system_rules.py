@@ -8,8 +8,9 @@ from __future__ import annotations
 from pathlib import Path
 
 import polars as pl
-from bodycensus.engines.local import CheckOptions, check_table
 from solar_system import solar_system_frame
+
+from bodycensus.engines.local import CheckOptions, check_table
 
 
 def test_no_impossible_and_no_error_in_the_solar_system(tmp_path: Path) -> None:

@@ -8,8 +8,17 @@ import threading
 from pathlib import Path
 
 import pytest
+
 from bodycensus.errors import Conflict, NotFound
-from bodycensus.storage.store import KILLED, MANIFEST, Manifest, Store, json_ready, now, write_json_atomic
+from bodycensus.storage.store import (
+    KILLED,
+    MANIFEST,
+    Manifest,
+    Store,
+    json_ready,
+    now,
+    write_json_atomic,
+)
 
 
 def _upload(store: Store, text: str = "id\nA\n", status: str = "mapping") -> Manifest:

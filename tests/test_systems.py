@@ -14,17 +14,18 @@ from urllib.parse import quote
 
 import polars as pl
 import pytest
-from bodycensus.dashboard.screens import queries
-from bodycensus.diagrams.aggregates import compute_aggregates
-from bodycensus.dashboard.app import create_app
-from bodycensus.errors import NotFound
-from bodycensus.science.rules.base import SEVERITIES
-from bodycensus.dashboard.settings import Settings
-from bodycensus.storage.store import Manifest, Store, now, write_json_atomic
-from bodycensus.science.units import AU, M_EARTH
-from bodycensus.dashboard.screens.viewstate import ViewState
 from catalogue_builder import EARTH_LIKE, SUN_LIKE, run
 from web_support import SyncClient, asgi_client
+
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.screens import queries
+from bodycensus.dashboard.screens.viewstate import ViewState
+from bodycensus.dashboard.settings import Settings
+from bodycensus.diagrams.aggregates import compute_aggregates
+from bodycensus.errors import NotFound
+from bodycensus.science.rules.base import SEVERITIES
+from bodycensus.science.units import AU, M_EARTH
+from bodycensus.storage.store import Manifest, Store, now, write_json_atomic
 
 HOSTILE = "<img src=x onerror=alert(1)>"
 ROWS = [

@@ -9,6 +9,7 @@ from __future__ import annotations
 import astropy.constants as const
 import astropy.units as u
 import pytest
+
 from bodycensus.science import units
 from bodycensus.science.units import UnknownUnitError, convert, factor_to_si, find_unit, parse_unit
 

@@ -21,8 +21,9 @@ from typing import Any
 import anyio.from_thread
 import httpx
 import uvicorn
-from bodycensus.dashboard.settings import Settings
 from fastapi import FastAPI
+
+from bodycensus.dashboard.settings import Settings
 
 AU_KM = 1.495978707e8  # km; IAU 2012 Resolution B2
 JUPITER_RADIUS_KM = 71492.0  # IAU 2015 B3 nominal equatorial radius

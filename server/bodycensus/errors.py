@@ -1,40 +1,34 @@
-"""The domain errors of the web layer and the one handler that renders every error.
+"""The domain's errors: one small tree, free of any web framework, used by every floor.
 
     BodycensusError            500 internal  (never raised on purpose)
      +-- NotFound              404 not_found
-     +-- BadInput              400 bad_input (422 for a file or body that cannot be used)
+     +-- BadInput              400 bad_input
+     |    +-- InputError       422 bad_input (a file, column, unit or family that cannot be used;
+     |                                        also a ValueError: IngestError, SchemaError, ...)
      +-- Conflict              409 conflict  (e.g. a catalogue that is not ready yet)
      +-- TooLarge              413 too_large
+     +-- StorageError          507 storage   (the data directory cannot be written)
 
-``ingest.IngestError``, ``schema.SchemaError`` and the unit and family parsing errors become
-``BadInput`` (422); starlette's HTTP errors and request-validation errors get the same shape. Paths under ``/api`` answer JSON
-``{"error": code, "detail": one line}``; others render the ``error.html`` template (plain text
-when the template is missing).
+``status`` and ``code`` say how the web layer answers (its handlers live in
+``dashboard/error_pages.py``); the command line exits 2 on any of them. Every message is one
+line that says where and what to do.
 """
 
 from __future__ import annotations
 
-import logging
+import errno
+import os
 from typing import Any
 
-from fastapi import FastAPI, Request
-from fastapi.exceptions import RequestValidationError
-from fastapi.responses import JSONResponse, PlainTextResponse, Response
-from starlette.exceptions import HTTPException
-
-from bodycensus.science.families import FamilyMappingError
-from bodycensus.input.ingest import IngestError
-from bodycensus.input.schema import SchemaError
-from bodycensus.science.units import UnknownUnitError
-
-log = logging.getLogger(__name__)
 _MAX_DETAIL = 300
-INPUT_ERRORS: tuple[type[Exception], ...] = (IngestError, SchemaError, UnknownUnitError,
-                                              FamilyMappingError)
+_DISK_WORDS = {"no space left": errno.ENOSPC, "os error 28": errno.ENOSPC,
+               "read-only file system": errno.EROFS, "os error 30": errno.EROFS,
+               "permission denied": errno.EACCES, "os error 13": errno.EACCES}
+_DISK_ERRNOS = (errno.ENOSPC, errno.EROFS, errno.EACCES, errno.EPERM)
 
 
 class BodycensusError(Exception):
-    """Base of the web layer's errors; ``status`` and ``code`` decide the answer."""
+    """Base of the domain's errors; ``status`` and ``code`` decide the web answer."""
 
     status = 500
     code = "internal"
@@ -58,6 +52,12 @@ class BadInput(BodycensusError):
     status, code = 400, "bad_input"
 
 
+class InputError(BadInput, ValueError):
+    """A file, column, unit or family mapping that cannot be used (422)."""
+
+    status = 422
+
+
 class Conflict(BodycensusError):
     """A request that does not fit the current state, e.g. findings of a catalogue still ingesting."""
 
@@ -70,9 +70,10 @@ class TooLarge(BodycensusError):
     status, code = 413, "too_large"
 
 
-_HTTP_CODES = {400: "bad_input", 401: "unauthorised", 403: "forbidden", 404: "not_found",
-               405: "method_not_allowed", 409: "conflict", 413: "too_large",
-               415: "unsupported_media_type", 422: "bad_input"}
+class StorageError(BodycensusError):
+    """The data directory cannot be written (full disk, read-only, no permission): 507."""
+
+    status, code = 507, "storage"
 
 
 def one_line(text: Any) -> str:
@@ -81,73 +82,22 @@ def one_line(text: Any) -> str:
     return flat if len(flat) <= _MAX_DETAIL else flat[: _MAX_DETAIL - 1] + "…"
 
 
-def as_domain_error(exc: Exception) -> BodycensusError | None:
-    """The BodycensusError that ``exc`` stands for, if it is one of ours or a bad-input error."""
-    if isinstance(exc, BodycensusError):
-        return exc
-    if isinstance(exc, INPUT_ERRORS):
-        return BadInput(str(exc), status=422)
-    return None
+def _disk_errno(err: BaseException) -> int | None:
+    """The disk-full / read-only / permission errno behind ``err`` (polars hides it in text)."""
+    if isinstance(err, OSError) and err.errno in _DISK_ERRNOS:
+        return err.errno
+    text = str(err).lower()
+    return next((code for words, code in _DISK_WORDS.items() if words in text), None)
 
 
-def error_response(request: Request, status: int, code: str, detail: str) -> Response:
-    """JSON for ``/api`` paths, the error page otherwise."""
-    detail = one_line(detail)
-    if request.url.path.startswith("/api"):
-        return JSONResponse({"error": code, "detail": detail}, status_code=status)
-    return _error_page(request, status, code, detail)
-
-
-def _error_page(request: Request, status: int, code: str, detail: str) -> Response:
-    """Render ``error.html`` with the front end's templates; plain text if that fails."""
-    templates = getattr(request.app.state, "templates", None)
-    if templates is not None:
-        try:
-            return templates.TemplateResponse(
-                request, "error.html",
-                {"status": status, "error": code, "detail": detail}, status_code=status,
-            )
-        except Exception:  # a missing or broken template must not hide the original error
-            log.exception("error page could not be rendered")
-    return PlainTextResponse(f"{status} {code}: {detail}", status_code=status)
-
-
-async def _domain_handler(request: Request, exc: Exception) -> Response:
-    """Our errors and ingest/schema errors."""
-    err = as_domain_error(exc) or BodycensusError("unexpected error")
-    return error_response(request, err.status, err.code, err.detail)
-
-
-async def _http_handler(request: Request, exc: Exception) -> Response:
-    """Starlette's HTTP errors (unknown route, wrong method) in our shape."""
-    assert isinstance(exc, HTTPException)
-    code = _HTTP_CODES.get(exc.status_code, "error")
-    response = error_response(request, exc.status_code, code, str(exc.detail))
-    response.headers.update(exc.headers or {})
-    return response
-
-
-async def _validation_handler(request: Request, exc: Exception) -> Response:
-    """FastAPI's request validation, reduced to the first problem on one line."""
-    assert isinstance(exc, RequestValidationError)
-    first = exc.errors()[0] if exc.errors() else {}
-    where = ".".join(str(part) for part in first.get("loc", ()))
-    return error_response(request, 422, "bad_input", f"{where}: {first.get('msg', 'invalid')}")
-
-
-async def _internal_handler(request: Request, exc: Exception) -> Response:
-    """Anything else: logged with its traceback, answered in the same shape."""
-    log.error("unhandled error on %s", request.url.path, exc_info=exc)
-    err = as_domain_error(exc)
-    if err is not None:
-        return error_response(request, err.status, err.code, err.detail)
-    return error_response(request, 500, "internal", "unexpected server error; see the server log")
-
-
-def install_error_handlers(app: FastAPI) -> None:
-    """Register the one error shape on ``app``."""
-    for kind in (BodycensusError, *INPUT_ERRORS):
-        app.add_exception_handler(kind, _domain_handler)
-    app.add_exception_handler(HTTPException, _http_handler)
-    app.add_exception_handler(RequestValidationError, _validation_handler)
-    app.add_exception_handler(Exception, _internal_handler)
+def storage_error(err: BaseException, retry: str = "try again") -> StorageError | None:
+    """The one-line StorageError for a disk fault met while writing the data directory, or None
+    when ``err`` is no disk fault. ``retry`` ends the message (what the person does next)."""
+    code = _disk_errno(err)
+    if code is None:
+        return None
+    if code == errno.ENOSPC:
+        return StorageError(f"the disk of the data directory is full; free space and {retry}")
+    reason = err.strerror if isinstance(err, OSError) and err.strerror else os.strerror(code)
+    return StorageError(f"the data directory cannot be written ({reason}); fix its permissions "
+                        f"or mount and {retry}")

@@ -12,10 +12,11 @@ from pathlib import Path
 from urllib.parse import urlsplit
 
 import pytest
-from bodycensus.dashboard.app import create_app
-from bodycensus.dashboard.settings import Settings
 from playwright.sync_api import Browser, BrowserContext, Page, Route, sync_playwright
 from web_support import live_server
+
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.settings import Settings
 
 CHROMIUM = "/usr/bin/chromium"
 ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",

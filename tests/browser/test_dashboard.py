@@ -12,9 +12,10 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from bodycensus.demo import write_demo
 from conftest import new_context
 from playwright.sync_api import Browser, Page, expect
+
+from bodycensus.demo import write_demo
 
 HOSTILE_LABEL = "<img src=x onerror=alert(1)>"
 FIGURE_INFO = """() => {

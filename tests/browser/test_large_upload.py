@@ -12,9 +12,10 @@ import time
 from pathlib import Path
 
 import pytest
-from bodycensus.demo import write_demo
 from conftest import new_context
 from playwright.sync_api import Browser, Error, Page, expect
+
+from bodycensus.demo import write_demo
 
 BODIES = int(os.environ.get("BODYCENSUS_BROWSER_BODIES", "1000000"))
 READ_BAR = """() => ({bar: document.getElementById('upload-progress').value,

@@ -9,8 +9,9 @@ import re
 from pathlib import Path
 
 import pytest
-from bodycensus.demo import write_demo
 from playwright.sync_api import Page, expect
+
+from bodycensus.demo import write_demo
 
 HOSTILE_SYSTEM = "<img src=x onerror=alert(1)>"
 

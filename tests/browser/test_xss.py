@@ -20,12 +20,13 @@ from urllib.parse import quote
 
 import httpx
 import pytest
-from bodycensus.dashboard.app import create_app
-from bodycensus.demo import write_demo
-from bodycensus.dashboard.settings import Settings
 from conftest import new_context
 from playwright.sync_api import Browser, Page, expect
 from web_support import live_server
+
+from bodycensus.dashboard.app import create_app
+from bodycensus.dashboard.settings import Settings
+from bodycensus.demo import write_demo
 
 TOKEN = "browser-token-12345"
 LABEL = "<img src=x onerror=alert(1)>"

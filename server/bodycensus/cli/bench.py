@@ -35,9 +35,9 @@ def _timed(job: Callable[[], object]) -> tuple[float, float]:
 
 def _stage(name: str, workdir: str, queue: multiprocessing.Queue) -> None:
     """Run one named stage in this (child) process and report (seconds, peak MiB)."""
-    from bodycensus.science import artefacts
     from bodycensus.engines.local import ARTEFACT_FIELDS, CheckOptions, check_table
     from bodycensus.input.ingest import ingest
+    from bodycensus.science import artefacts
     from bodycensus.science.rules import all_rules
     from bodycensus.science.rules.base import evaluate
 

@@ -16,11 +16,11 @@ from typing import Any, TextIO
 
 import polars as pl
 
-from bodycensus.storage.csvsafe import neutralise_formulas
 from bodycensus.engines.local import CheckOptions, CheckResult, check_file
+from bodycensus.input.schema import parse_assignment
 from bodycensus.science.families import parse_family_override
 from bodycensus.science.rules.base import SEVERITIES, SEVERITY_RANK
-from bodycensus.input.schema import parse_assignment
+from bodycensus.storage.csvsafe import neutralise_formulas
 
 FOUND_AT_FAIL_LEVEL = 1
 PROGRESS_FILE_BYTES = 20 * 2**20  # files above this report progress on stderr by default

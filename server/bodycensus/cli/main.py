@@ -14,14 +14,9 @@ from pathlib import Path
 from bodycensus import __version__
 from bodycensus.cli.check import add_check_parser, run_check
 from bodycensus.errors import BodycensusError
-from bodycensus.science.families import FamilyMappingError
-from bodycensus.input.ingest import IngestError
-from bodycensus.input.schema import SchemaError
-from bodycensus.science.units import UnknownUnitError
 
 BAD_INPUT = 2
-_INPUT_ERRORS = (IngestError, SchemaError, UnknownUnitError, FamilyMappingError, BodycensusError,
-                 FileNotFoundError, IsADirectoryError, PermissionError)
+_INPUT_ERRORS = (BodycensusError, FileNotFoundError, IsADirectoryError, PermissionError)
 
 
 def _add_serve(commands: argparse._SubParsersAction) -> None:
@@ -120,8 +115,8 @@ def score_demo(catalogue: Path, truth: Path) -> str:
 
     import polars as pl
 
-    from bodycensus.engines.local import check_file
     from bodycensus.demo.scoring import score, score_text
+    from bodycensus.engines.local import check_file
 
     with tempfile.TemporaryDirectory(prefix="bodycensus-score-") as workdir:
         result = check_file(catalogue, Path(workdir))

@@ -19,13 +19,13 @@ from fastapi.responses import FileResponse
 from fastapi.staticfiles import StaticFiles
 
 from bodycensus import __version__
-from bodycensus.dashboard.routes import api
-from bodycensus.dashboard.security import auth
-from bodycensus.dashboard.routes import pages
-from bodycensus.errors import BadInput, install_error_handlers
+from bodycensus.dashboard.error_pages import install_error_handlers
 from bodycensus.dashboard.intake.jobs import Jobs, add_catalogue
+from bodycensus.dashboard.routes import api, pages
+from bodycensus.dashboard.security import auth
 from bodycensus.dashboard.security.guard import Guard
 from bodycensus.dashboard.settings import Settings
+from bodycensus.errors import BadInput
 from bodycensus.storage.store import Store
 
 DEMO_NAME = "Demo catalogue"

@@ -15,16 +15,16 @@ from typing import Any, Protocol
 
 import polars as pl
 
-from bodycensus.science import artefacts as artefact_detector
-from bodycensus.storage.durable import fsync_path
 from bodycensus.engines.summary import build_summary
-from bodycensus.science.families import FAMILIES, family_mapping
 from bodycensus.input.ingest import IngestLimits, IngestReport, ingest
+from bodycensus.science import artefacts as artefact_detector
+from bodycensus.science.families import FAMILIES, family_mapping
 from bodycensus.science.rules import all_rules
 from bodycensus.science.rules.base import SEVERITY_RANK, coverage, evaluate
 from bodycensus.science.rules.context import derive
 from bodycensus.science.rules.graph import cycle_members
 from bodycensus.science.rules.orbit import OrbitSettings
+from bodycensus.storage.durable import fsync_path
 
 
 class Progress(Protocol):

@@ -21,7 +21,7 @@ from pathlib import Path
 
 import polars as pl
 
-from bodycensus.storage.durable import fsync_path
+from bodycensus.errors import storage_error
 from bodycensus.input.readers import (
     HEAD_BYTES,
     IngestError,
@@ -37,7 +37,6 @@ from bodycensus.input.readers import (
     header_fault,
     ndjson_fault,
     sniff_delimiter,
-    storage_error,
     text_lines,
     to_string,
 )
@@ -50,6 +49,7 @@ from bodycensus.input.schema import (
     describe_columns,
     guess_mapping,
 )
+from bodycensus.storage.durable import fsync_path
 
 Progress = Callable[[str, int], None]
 _ROW, _PRESENT, _BAD = "__bodycensus_row__", "__bodycensus_present__", "__bodycensus_bad__"
@@ -98,8 +98,8 @@ def _scan(plain: Path, fmt: str, delimiter: str | None) -> pl.LazyFrame:
 def _explain(source: Path, plain: Path, fmt: str, delimiter: str | None,
              err: Exception) -> Exception:
     """A one-line IngestError for a polars failure, locating the fault where we can (a full or
-    read-only disk is passed on as the OSError it is)."""
-    if (disk := storage_error(err)) is not None:
+    read-only disk becomes the StorageError it is)."""
+    if (disk := storage_error(err, retry="upload the file again")) is not None:
         return disk
     fault = None
     if fmt == "delimited":

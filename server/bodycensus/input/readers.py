@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import codecs
 import csv
-import errno
 import gzip
 import io
 import json
@@ -25,6 +24,8 @@ from typing import BinaryIO
 import polars as pl
 import zstandard
 
+from bodycensus.errors import InputError
+
 CHUNK = 1 << 20
 HEAD_BYTES = 2 << 20  # what the first look and the text checks read of a file
 DELIMITERS = (",", "\t", ";")
@@ -35,31 +36,18 @@ EXTENSIONS = {
 COMPRESSIONS = {".gz": "gzip", ".gzip": "gzip", ".zst": "zstd", ".zstd": "zstd"}
 _MAGIC = {b"\x1f\x8b": "gzip", b"\x28\xb5\x2f\xfd": "zstd"}
 _READ_ERRORS = (OSError, EOFError, zlib.error, zstandard.ZstdError)
-_STORAGE = {"no space left": errno.ENOSPC, "os error 28": errno.ENOSPC,
-            "read-only file system": errno.EROFS, "os error 30": errno.EROFS,
-            "permission denied": errno.EACCES, "os error 13": errno.EACCES}
 _ODD_SEPARATORS = ("|", ":", "  ", "^", "~")
 _UNREADABLE = ("binary data, UTF-16 text or a JSON array cannot be read; export it as UTF-8 "
                "CSV/TSV, NDJSON (one object per line) or Parquet")
 
 
-class IngestError(ValueError):
+class IngestError(InputError):
     """A file that cannot be read at all; the message is one line: where, what, and what to do."""
 
 
 def first_line(err: BaseException) -> str:
     """The first line of an exception's message (polars messages run to many lines)."""
     return (str(err).strip() or type(err).__name__).splitlines()[0]
-
-
-def storage_error(err: BaseException) -> OSError | None:
-    """The disk-full / read-only / permission OSError behind ``err`` (polars hides it in text)."""
-    if isinstance(err, OSError) and err.errno in (errno.ENOSPC, errno.EROFS, errno.EACCES,
-                                                  errno.EPERM):
-        return err
-    text = str(err).lower()
-    code = next((c for words, c in _STORAGE.items() if words in text), None)
-    return OSError(code, os.strerror(code)) if code is not None else None
 
 
 # --- compression ---------------------------------------------------------------------------

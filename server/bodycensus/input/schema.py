@@ -14,6 +14,7 @@ from typing import Literal
 
 import polars as pl
 
+from bodycensus.errors import InputError
 from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT, UNITS, Unit, find_unit
 
 CANONICAL_FIELDS: tuple[str, ...] = (
@@ -66,7 +67,7 @@ _BRACKETED = re.compile(r"^(?P<base>.*?)\s*[\(\[](?P<unit>[^\)\]]*)[\)\]]\s*$")
 UnitSource = Literal["header", "override", "default"]
 
 
-class SchemaError(ValueError):
+class SchemaError(InputError):
     """A mapping or unit choice that cannot be used; the message says what to do instead."""
 
 

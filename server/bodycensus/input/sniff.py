@@ -18,7 +18,6 @@ from typing import Any
 import polars as pl
 
 from bodycensus.errors import BadInput, TooLarge
-from bodycensus.science.families import guess_family
 from bodycensus.input.readers import (
     HEAD_BYTES,
     IngestError,
@@ -36,6 +35,7 @@ from bodycensus.input.readers import (
     to_string,
 )
 from bodycensus.input.schema import Mapping, guess_mapping
+from bodycensus.science.families import guess_family
 
 SAMPLE_ROWS = 20
 SAMPLES_PER_COLUMN = 5

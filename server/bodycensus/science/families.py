@@ -10,6 +10,8 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
+from bodycensus.errors import InputError
+
 FAMILIES: tuple[str, ...] = (
     "iron", "rock", "rock_ice", "ice", "ocean", "gas_giant", "ice_giant", "brown_dwarf",
     "star", "giant_star", "white_dwarf", "neutron_star", "black_hole", "minor", "unknown",
@@ -108,7 +110,7 @@ def guess_family(label: str | None) -> str:
     return "unknown"
 
 
-class FamilyMappingError(ValueError):
+class FamilyMappingError(InputError):
     """A ``label=family`` override that names no family of ours."""
 
 

@@ -9,6 +9,8 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
+from bodycensus.errors import InputError
+
 # --- constants -------------------------------------------------------------------------------
 G = 6.67430e-11  # m3 kg-1 s-2; CODATA 2018 (unchanged in CODATA 2022)
 AU = 149_597_870_700.0  # m; IAU 2012 Resolution B2 (exact)
@@ -117,7 +119,7 @@ SI_UNIT: dict[str, str] = {
 }
 
 
-class UnknownUnitError(ValueError):
+class UnknownUnitError(InputError):
     """A unit name that bodycensus does not know."""
 
 

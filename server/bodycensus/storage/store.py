@@ -15,7 +15,6 @@ old or the new file, never half of one.
 
 from __future__ import annotations
 
-import errno
 import json
 import math
 import os
@@ -31,27 +30,13 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any, Literal
 
+from bodycensus.errors import Conflict, NotFound, StorageError, storage_error
 from bodycensus.storage.durable import fsync_path
-from bodycensus.errors import BodycensusError, Conflict, NotFound
 
 Status = Literal["mapping", "ingesting", "ready", "failed"]
 MANIFEST = "manifest.json"
 _ID = re.compile(r"^[A-Za-z0-9_-]{4,40}$")
 KILLED = "the server stopped during the ingest; upload the file again"
-
-
-class StorageError(BodycensusError):
-    """The data directory cannot be written (full disk, read-only, no permission): 507."""
-
-    status, code = 507, "storage"
-
-
-def storage_error(err: OSError) -> StorageError:
-    """The one-line StorageError for an OSError met while writing the data directory."""
-    if err.errno == errno.ENOSPC:
-        return StorageError("the disk of the data directory is full; free space and try again")
-    return StorageError(f"the data directory cannot be written ({err.strerror or err}); fix its "
-                        "permissions or mount and try again")
 
 
 def new_slug(nbytes: int = 6) -> str:
@@ -164,7 +149,7 @@ class Store:
         try:
             folder.mkdir()
         except OSError as err:
-            raise storage_error(err) from err
+            raise (storage_error(err) or err) from err
         return cat_id, folder / f"source{suffix}"
 
     def source_path(self, cat_id: str) -> Path:
@@ -305,7 +290,7 @@ class Store:
         try:
             write_json_atomic(path, manifest.to_json())
         except OSError as err:
-            raise storage_error(err) from err
+            raise (storage_error(err) or err) from err
 
     def _manifest_path(self, cat_id: str) -> Path | None:
         """Where the manifest of ``cat_id`` is, or None."""

@@ -8,7 +8,6 @@ a ``failed`` manifest with a one-line reason and no partial catalogue.
 
 from __future__ import annotations
 
-import errno
 import logging
 import math
 import shutil
@@ -17,14 +16,13 @@ from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
+from bodycensus.dashboard.settings import Settings
 from bodycensus.diagrams.aggregates import compute_aggregates
 from bodycensus.engines.local import CheckOptions, check_file
-from bodycensus.errors import BadInput, as_domain_error, one_line
-from bodycensus.science.families import FAMILIES
+from bodycensus.errors import BadInput, BodycensusError, one_line, storage_error
 from bodycensus.input.ingest import IngestLimits
-from bodycensus.input.readers import storage_error
 from bodycensus.input.schema import guess_mapping
-from bodycensus.dashboard.settings import Settings
+from bodycensus.science.families import FAMILIES
 from bodycensus.storage.store import Manifest, Store, now, write_json_atomic
 
 log = logging.getLogger(__name__)
@@ -86,14 +84,10 @@ class _Progress:
 
 def describe_failure(err: BaseException) -> str:
     """A one-line reason for a failed ingest that says what to do."""
-    domain = as_domain_error(err) if isinstance(err, Exception) else None
-    if domain is not None:
-        return one_line(domain.detail)
-    err = storage_error(err) or err  # polars reports a full disk as text
-    if isinstance(err, OSError) and err.errno == errno.ENOSPC:
-        return "the disk of the data directory is full; free space and upload the file again"
-    if isinstance(err, OSError) and err.errno in (errno.EACCES, errno.EROFS, errno.EPERM):
-        return "the data directory is not writable; fix its permissions and upload again"
+    if isinstance(err, BodycensusError):
+        return one_line(err.detail)
+    if (disk := storage_error(err, retry="upload the file again")) is not None:
+        return disk.detail  # polars reports a full disk as text
     if isinstance(err, MemoryError):
         return "the server ran out of memory; upload a smaller file or add memory"
     return one_line(f"internal error while checking ({type(err).__name__}); see the server log")
@@ -131,7 +125,7 @@ class Jobs:
         try:
             run_check(self.store, self.settings, cat_id, overrides)
         except BaseException as err:  # the thread must record every failure, then end
-            if as_domain_error(err) is None:
+            if not isinstance(err, BodycensusError):
                 log.exception("ingest of %s failed", cat_id)
             manifest = self.store.get(cat_id)  # say the person's file name, not ours
             reason = describe_failure(err).replace(f"source{manifest.source}", manifest.name)

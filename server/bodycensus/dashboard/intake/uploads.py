@@ -20,8 +20,8 @@ from python_multipart.multipart import MultipartParser, parse_options_header
 from starlette.concurrency import run_in_threadpool
 from starlette.requests import ClientDisconnect, Request
 
-from bodycensus.errors import BadInput, TooLarge
-from bodycensus.storage.store import Store, storage_error
+from bodycensus.errors import BadInput, TooLarge, storage_error
+from bodycensus.storage.store import Store
 
 FIELD = "file"
 FORMATS = (".csv", ".tsv", ".tab", ".txt", ".ndjson", ".jsonl", ".parquet", ".pq")
@@ -147,7 +147,7 @@ async def receive_upload(request: Request, store: Store, max_bytes: int) -> Uplo
         return _finish(receiver, store, size)
     except OSError as err:  # the data directory is full or not writable
         _abort(receiver, store)
-        raise storage_error(err) from err
+        raise (storage_error(err) or err) from err
     except BaseException:
         _abort(receiver, store)
         raise

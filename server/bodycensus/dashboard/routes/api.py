@@ -10,10 +10,9 @@ from fastapi.responses import FileResponse
 from starlette.background import BackgroundTask
 from starlette.concurrency import run_in_threadpool
 
-from bodycensus.dashboard.screens import queries
 from bodycensus.dashboard.deps import JobsDep, ReadyDir, SettingsDep, StoreDep
-from bodycensus.errors import BadInput, Conflict
 from bodycensus.dashboard.intake.jobs import Overrides
+from bodycensus.dashboard.intake.uploads import FIELD, Upload, receive_upload
 from bodycensus.dashboard.models import (
     BodyOut,
     CatalogueList,
@@ -27,10 +26,11 @@ from bodycensus.dashboard.models import (
     ViewList,
     ViewOut,
 )
+from bodycensus.dashboard.screens import queries
+from bodycensus.dashboard.screens.viewstate import MAX_LIMIT, ViewState
+from bodycensus.errors import BadInput, Conflict
 from bodycensus.input.sniff import sniff
 from bodycensus.storage.store import Manifest, SavedView, Store, now
-from bodycensus.dashboard.intake.uploads import FIELD, Upload, receive_upload
-from bodycensus.dashboard.screens.viewstate import MAX_LIMIT, ViewState
 
 _ERRORS: dict[int | str, dict[str, Any]] = {
     code: {"model": ErrorOut} for code in (400, 404, 409, 413, 415, 421, 422, 507)

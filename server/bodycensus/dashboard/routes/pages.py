@@ -14,10 +14,8 @@ from fastapi import APIRouter, Request
 from fastapi.responses import HTMLResponse
 from fastapi.templating import Jinja2Templates
 
-from bodycensus.dashboard.screens import queries
-from bodycensus.dashboard.screens import report
 from bodycensus.dashboard.deps import StoreDep
-from bodycensus.science.families import FAMILIES
+from bodycensus.dashboard.screens import queries, report
 from bodycensus.dashboard.screens.page_context import (
     DIAGRAMS,
     artefact_rows,
@@ -26,8 +24,9 @@ from bodycensus.dashboard.screens.page_context import (
     format_number,
     mapping_context,
 )
-from bodycensus.storage.store import Manifest, SavedView, Store
 from bodycensus.dashboard.screens.viewstate import SEVERITIES, SORT_KEYS, ViewState
+from bodycensus.science.families import FAMILIES
+from bodycensus.storage.store import Manifest, SavedView, Store
 
 TEMPLATES_DIR = Path(str(files("bodycensus.web") / "templates"))
 templates = Jinja2Templates(directory=TEMPLATES_DIR)  # autoescape is on for every template

@@ -11,13 +11,13 @@ import math
 from collections.abc import Callable
 from typing import Any
 
-from bodycensus.diagrams import plots
-from bodycensus.science.families import FAMILIES
 from bodycensus.dashboard.screens.queries import MAX_RELATIVES
-from bodycensus.input.schema import CANONICAL_FIELDS
-from bodycensus.diagrams.system_plot import system_figures
-from bodycensus.science.units import UNITS
 from bodycensus.dashboard.screens.viewstate import ViewState
+from bodycensus.diagrams import plots
+from bodycensus.diagrams.system_plot import system_figures
+from bodycensus.input.schema import CANONICAL_FIELDS
+from bodycensus.science.families import FAMILIES
+from bodycensus.science.units import UNITS
 
 CatUrl = Callable[..., str]
 DIAGRAMS: dict[str, str] = {

@@ -13,14 +13,14 @@ from typing import Any, Literal
 
 import polars as pl
 
-from bodycensus.storage.csvsafe import neutralise_formulas
+from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.errors import NotFound
+from bodycensus.input.schema import CANONICAL_FIELDS, ColumnChoice
 from bodycensus.science.rules.base import SEVERITIES
 from bodycensus.science.rules.context import DERIVED_COLUMNS, ENGINE_COLUMNS
-from bodycensus.input.schema import CANONICAL_FIELDS, ColumnChoice
-from bodycensus.storage.store import json_ready
 from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT
-from bodycensus.dashboard.screens.viewstate import ViewState
+from bodycensus.storage.csvsafe import neutralise_formulas
+from bodycensus.storage.store import json_ready
 
 __all__ = ["ViewState", "aggregates", "artefacts", "body_detail", "coverage", "export_findings",
            "findings_page", "overview", "system_detail", "systems_page"]

@@ -12,9 +12,9 @@ from typing import Any
 
 from jinja2 import Environment
 
-from bodycensus.diagrams import plots
 from bodycensus.dashboard.screens.page_context import CAPTIONS, DIAGRAMS
 from bodycensus.dashboard.screens.viewstate import ViewState
+from bodycensus.diagrams import plots
 
 
 def plotly_source() -> str:
