@@ -54,4 +54,4 @@ def run(rows: list[dict[str, Any]], workdir: Path, **options: Any) -> CheckResul
 def fired(result: CheckResult, rule: str) -> dict[str, str]:
     """``{body: severity}`` of one rule's findings."""
     rows = result.findings.filter(pl.col("rule") == rule)
-    return dict(zip(rows["body"].to_list(), rows["severity"].to_list()))
+    return dict(zip(rows["body"].to_list(), rows["severity"].to_list(), strict=True))

@@ -151,7 +151,8 @@ def test_views_save_get_list(served: tuple[SyncClient, str, Path]) -> None:
         "title": "Roche suspects", "note": "<b>check</b> these"})
     assert saved.status_code == 201
     view = saved.json()
-    assert view["url"] == f"/v/{view['slug']}" and view["query"] == "severity=impossible&sort=-margin"
+    assert view["url"] == f"/v/{view['slug']}"
+    assert view["query"] == "severity=impossible&sort=-margin"
     assert client.get(f"/api/views/{view['slug']}").json() == view
     assert view in client.get(f"/api/catalogues/{cat_id}/views").json()["items"]
     assert client.get(view["url"]).status_code == 200  # the page itself is the front end's

@@ -96,7 +96,8 @@ def test_real_server_upload_and_limit(tmp_path: Path) -> None:
         before = data_entries(data_dir)
 
         def chunks() -> Iterator[bytes]:  # no content-length: the limit must hold mid-stream
-            yield b"--b\r\nContent-Disposition: form-data; name=\"file\"; filename=\"x.csv\"\r\n\r\n"
+            yield (b"--b\r\nContent-Disposition: form-data; name=\"file\"; "
+                   b"filename=\"x.csv\"\r\n\r\n")
             for _ in range(24):
                 yield b"id\n" + b"y" * 65536
         big = client.post("/api/catalogues", content=chunks(),

@@ -12,7 +12,8 @@ import pytest
 HEADER = "id,type,orbits,mass (earth_mass),radius_km,a (au),e,period_days\n"
 CLEAN = ("sol,yellow dwarf star,,332946,695700,,,\n"
          "terra,terrestrial planet,sol,1,6371,1,0.0167,365.256\n")
-IRON_IMPOSSIBLE = "lead,terrestrial planet,sol,1,4000,2,0.01,\n"  # density ~23,000: Seager iron 11,200
+# density ~23,000: Seager iron 11,200
+IRON_IMPOSSIBLE = "lead,terrestrial planet,sol,1,4000,2,0.01,\n"
 
 
 def bodycensus(*args: str) -> subprocess.CompletedProcess[str]:

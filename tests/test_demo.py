@@ -159,7 +159,8 @@ def test_clean_stars_and_remnants_respect_mass_limits(demo: Demo) -> None:
     s, c = demo.si, demo.clean
     mass = {f: s["mass"][c & (s["family"] == f)] for f in ("star", "brown_dwarf", "white_dwarf",
                                                            "neutron_star")}
-    assert mass["star"].min() > 0.09 * M_SUN  # hydrogen burning ~0.075 M_sun (Burrows & Liebert 1993)
+    # hydrogen burning ~0.075 M_sun (Burrows & Liebert 1993)
+    assert mass["star"].min() > 0.09 * M_SUN
     assert mass["brown_dwarf"].min() > 13 * M_JUPITER  # deuterium burning (Spiegel et al. 2011)
     assert mass["brown_dwarf"].max() < 0.075 * M_SUN
     assert mass["white_dwarf"].max() < 1.44 * M_SUN  # Chandrasekhar 1935

@@ -97,7 +97,8 @@ def test_sigkill_during_ingest_loses_nothing_earlier(tmp_path: Path) -> None:
         findings = client.get(f"/api/catalogues/{earlier}/findings").json()
         kept = hashes(data_dir / "catalogues")
         with source.open("rb") as handle:
-            cat_id = client.post("/api/catalogues", files={"file": ("big.csv", handle)}).json()["id"]
+            answer = client.post("/api/catalogues", files={"file": ("big.csv", handle)})
+            cat_id = answer.json()["id"]
         stage = _wait_for_stage(client, cat_id)
         proc.send_signal(signal.SIGKILL)
         proc.wait(timeout=10)

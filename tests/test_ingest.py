@@ -1,4 +1,5 @@
-"""Tests for bodycensus.input.ingest: every format and compression, SI conversion, bad cells, errors.
+"""Tests for bodycensus.input.ingest: every format and compression, SI conversion, bad cells,
+errors.
 
 Every fixture file is a few rows written into tmp_path by the test itself.
 """
@@ -58,7 +59,8 @@ def _catalogue(tmp_path: Path, fmt: str, compression: str) -> Path:
            "parquet": ".parquet"}[fmt] + compression
     path = tmp_path / f"catalogue{ext}"
     if fmt == "parquet":
-        frame = pl.DataFrame([{k: v or None for k, v in zip(HEADER, row, strict=True)} for row in ROWS])
+        frame = pl.DataFrame([{k: v or None for k, v in zip(HEADER, row, strict=True)}
+                              for row in ROWS])
         frame.write_parquet(path.with_suffix("") if compression else path)
         plain = path.with_suffix("") if compression else path
         if compression:

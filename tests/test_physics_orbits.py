@@ -259,7 +259,8 @@ def test_tidal_lock_time_matches_astropy_evaluation() -> None:
     k2 = 1.5 / (1 + 19 * rigidity / (2 * rho * g * r))
     w, inertia = 2 * np.pi / (12 * u.h), 0.4 * m * r**2
     expected = (w * a**6 * inertia * Q_SOLID / (3 * const.G * m_p**2 * k2 * r**5)).to_value(u.s)
-    ours = orbits.tidal_lock_time(a.to_value(u.m), MOON[0], MOON[1], EARTH[0], RIGIDITY_ROCK, Q_SOLID)
+    ours = orbits.tidal_lock_time(a.to_value(u.m), MOON[0], MOON[1], EARTH[0], RIGIDITY_ROCK,
+                                  Q_SOLID)
     assert ours == pytest.approx(expected, rel=1e-10)
     assert orbits.love_number_k2(MOON[0], MOON[1], RIGIDITY_ROCK) == pytest.approx(
         k2.to_value(u.one), rel=1e-12)

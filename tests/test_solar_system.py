@@ -17,7 +17,8 @@ BY_ID = {row["id"]: row for row in SOLAR_SYSTEM_ROWS}
 def test_frame_has_the_normalised_table_schema() -> None:
     # DEVELOPERS.md, "Normalised table": canonical fields in SI, then _row (i64) and _bad (str).
     frame = solar_system_frame()
-    expected = {**{f: FIELD_TYPES[f] for f in CANONICAL_FIELDS}, "_row": pl.Int64, "_bad": pl.String}
+    expected = {**{f: FIELD_TYPES[f] for f in CANONICAL_FIELDS}, "_row": pl.Int64,
+                "_bad": pl.String}
     assert frame.schema == pl.Schema(expected)
     assert frame["_row"].to_list() == list(range(1, len(SOLAR_SYSTEM_ROWS) + 1))
     assert frame["_bad"].null_count() == frame.height

@@ -59,7 +59,8 @@ class InputError(BadInput, ValueError):
 
 
 class Conflict(BodycensusError):
-    """A request that does not fit the current state, e.g. findings of a catalogue still ingesting."""
+    """A request that does not fit the current state, e.g. findings of a catalogue still ingesting.
+    """
 
     status, code = 409, "conflict"
 

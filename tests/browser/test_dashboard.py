@@ -102,7 +102,8 @@ def test_each_diagram_draws_its_reference_lines(page: Page, base_url: str, catal
 
 
 def test_hostile_label_is_text_in_the_diagram(page: Page, base_url: str, catalogue: str) -> None:
-    url = f"{base_url}/catalogues/{catalogue}/diagrams?diagram=density&label=%3Cimg+src%3Dx+onerror%3Dalert%281%29%3E"
+    url = (f"{base_url}/catalogues/{catalogue}/diagrams?diagram=density"
+           "&label=%3Cimg+src%3Dx+onerror%3Dalert%281%29%3E")
     _figure(page, url)
     expect(page.locator("#diagram-form select[name=label]")).to_have_value(HOSTILE_LABEL)
     expect(page.locator("#figure .gtitle")).to_contain_text(HOSTILE_LABEL)

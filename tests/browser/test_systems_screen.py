@@ -18,7 +18,8 @@ HOSTILE_SYSTEM = "<img src=x onerror=alert(1)>"
 
 @pytest.fixture(scope="module")
 def catalogue(page: Page, base_url: str, tmp_path_factory: pytest.TempPathFactory) -> str:
-    """Upload the 3,000-body demo (as the dashboard test) plus one star whose system name is HTML; the catalogue's id."""
+    """Upload the 3,000-body demo (as the dashboard test) plus one star whose system name is HTML;
+    the catalogue's id."""
     path, _truth = write_demo(tmp_path_factory.mktemp("systems") / "sector.csv", n_bodies=3000)
     with path.open("r+", newline="", encoding="utf-8") as handle:
         header = next(csv.reader(handle))

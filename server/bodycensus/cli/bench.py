@@ -42,7 +42,8 @@ def _stage(name: str, workdir: str, queue: multiprocessing.Queue) -> None:
     from bodycensus.science.rules.base import evaluate
 
     folder = Path(workdir)
-    csv, normalised, bodies = folder / "demo.csv", folder / "norm.parquet", folder / "bodies.parquet"
+    csv, normalised = folder / "demo.csv", folder / "norm.parquet"
+    bodies = folder / "bodies.parquet"
     jobs: dict[str, Callable[[], object]] = {
         "baseline read+write": lambda: pl.read_csv(csv, infer_schema=False).write_parquet(
             folder / "base.parquet"),
@@ -91,7 +92,10 @@ def _print_table(results: dict[str, tuple[float, float]], n_bodies: int) -> None
     print(f"{'stage':<22}{'seconds':>9}{'peak MiB':>10}{'bodies/s':>12}")
     for name, (seconds, mib) in results.items():
         print(f"{name:<22}{seconds:>9.2f}{mib:>10.0f}{n_bodies / seconds:>12,.0f}")
-    ratio = lambda a, b: results[a][0] / results[b][0]
+
+    def ratio(a: str, b: str) -> float:
+        return results[a][0] / results[b][0]
+
     print(f"ratio ingest / baseline read+write:      {ratio('ingest', 'baseline read+write'):.2f}")
     print(f"ratio derive+rules / baseline pass:      {ratio('derive+rules', 'baseline pass'):.2f}")
     print(f"ratio artefacts / rules only (goal <0.5): {ratio('artefacts', 'rules only'):.2f}")

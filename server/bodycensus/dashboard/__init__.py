@@ -1,1 +1,2 @@
-"""The web application: the FastAPI app, its routes, what each screen shows, upload jobs and security."""
+"""The web application: the FastAPI app, its routes, what each screen shows, upload jobs and
+security."""

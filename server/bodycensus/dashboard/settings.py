@@ -41,7 +41,8 @@ class Settings:
     def listen_problem(self) -> str | None:
         """Why the server must not start with these settings (None when it may)."""
         if self.token is not None and len(self.token) < MIN_TOKEN_LENGTH:
-            return f"the access token is shorter than {MIN_TOKEN_LENGTH} characters; use a longer one"
+            return (f"the access token is shorter than {MIN_TOKEN_LENGTH} characters; "
+                    "use a longer one")
         if self.token is None and not is_loopback(self.host):
             return (f"refusing to listen on {self.host} without an access token; pass --token or "
                     f"set {TOKEN_ENV}, or listen on 127.0.0.1")

@@ -38,7 +38,7 @@ def duplicate_id(p: Planter) -> None:
     """A moon that carries another moon's id."""
     rows = p.pick(p.sole_moons(), 2 * p.per_rule)
     half = len(rows) // 2
-    for row, original in zip(rows[half:], rows[:half]):
+    for row, original in zip(rows[half:], rows[:half], strict=False):
         p.duplicates[int(row)] = int(original)
     p.record("duplicate-id", rows[:half], rows[half:2 * half])
 
@@ -134,7 +134,8 @@ brown_dwarf_range = _reweigh("brown dwarf", 11.0 * M_JUPITER, bodies.cold_hhe_ra
 
 
 def label_outlier(p: Planter) -> None:
-    """An icy moon of 0.35 x the compressed-ice density: inside its family band, far off its label."""
+    """An icy moon of 0.35 x the compressed-ice density: inside its family band, far off its label.
+    """
     t = p.t
     new_radius = bodies.composition_radius(t["mass"], "water_ice") * 0.35 ** (-1 / 3)
     parent = np.maximum(t["parent"], 0)

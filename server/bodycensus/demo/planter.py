@@ -57,7 +57,8 @@ class Planter:
 
     # --- picking and recording -------------------------------------------------------------
     def pick(self, mask: np.ndarray, count: int | None = None) -> np.ndarray:
-        """Up to ``count`` (default: per_rule) rows of ``mask``, each in a different unused system."""
+        """Up to ``count`` (default: per_rule) rows of ``mask``, each in a different unused system.
+        """
         count = self.per_rule if count is None else count
         candidates = self.rng.permutation(np.flatnonzero(mask & ~self.used[self.t["sys"]]))
         candidates = candidates[: max(1000, 50 * count)]  # plenty of distinct systems, cheaply
@@ -69,7 +70,7 @@ class Planter:
     def record(self, rule: str, rows: np.ndarray, partners: np.ndarray | None = None) -> None:
         """Add truth rows for ``rule``."""
         partners = np.full(len(rows), -1) if partners is None else partners
-        self.truth.extend((rule, int(r), int(p)) for r, p in zip(rows, partners))
+        self.truth.extend((rule, int(r), int(p)) for r, p in zip(rows, partners, strict=True))
 
     # --- keeping the physics consistent after an edit -------------------------------------
     def parent_of(self, rows: np.ndarray, key: str) -> np.ndarray:

@@ -86,7 +86,8 @@ def _star_orbiters(rng: np.random.Generator, sysd: Table) -> Table:
     sys, code = _planet_kinds(rng, sysd)
     mass, radius = _planet_sizes(rng, code)
     pair = np.flatnonzero(sysd["c_code"] >= 0)
-    t: Table = {"sys": np.concatenate([sys, pair]), "code": np.concatenate([code, sysd["c_code"][pair]]),
+    t: Table = {"sys": np.concatenate([sys, pair]),
+                "code": np.concatenate([code, sysd["c_code"][pair]]),
                 "mass": np.concatenate([mass, sysd["c_mass"][pair]]),
                 "radius": np.concatenate([radius, sysd["c_radius"][pair]]),
                 "temp": np.concatenate([np.full(len(sys), np.nan), sysd["c_temp"][pair]]),
@@ -116,7 +117,8 @@ def _parent_of(table: Table, index: np.ndarray) -> Table:
 
 
 def _moon_counts(rng: np.random.Generator, orb: Table, room_limit: np.ndarray) -> np.ndarray:
-    """Moons per orbiter: Poisson, fewer where the room between Roche limit and Hill limit is small."""
+    """Moons per orbiter: Poisson, fewer where the room between Roche limit and Hill limit is small.
+    """
     mean = np.zeros(len(orb["code"]))
     planet = (orb["code"] >= PLANET_CODE0) & (orb["code"] < MOON_CODE0)
     mean[planet] = np.array([k.moons for k in PLANET_KINDS])[orb["code"][planet] - PLANET_CODE0]
@@ -137,7 +139,7 @@ def _moons(rng: np.random.Generator, orb: Table) -> Table:
     planet_mass = orb["mass"][host]
     mass = planet_mass * lognormal(rng, median * (planet_mass / M_EARTH) ** slope, sigma, len(host))
     radius = np.empty(len(host))
-    for flag, (curve, median, sigma) in zip((False, True), MOON_CURVES):
+    for flag, (curve, median, sigma) in zip((False, True), MOON_CURVES, strict=True):
         w = icy == flag
         radius[w] = bodies.composition_radius(mass[w], curve) \
             * lognormal(rng, median, sigma, int(w.sum())) ** (-1.0 / 3.0)

@@ -1,1 +1,2 @@
-"""The diagrams floor: binned aggregates of a checked catalogue and the plotly figures drawn from them."""
+"""The diagrams floor: binned aggregates of a checked catalogue and the plotly figures drawn from
+them."""

@@ -40,7 +40,8 @@ def edges(low: float | None, high: float | None, bins: int) -> list[float]:
 
 
 def bin_index(expr: pl.Expr, bin_edges: list[float]) -> pl.Expr:
-    """The 0-based bin of each value on equal-width ``bin_edges`` (the top edge falls in the last)."""
+    """The 0-based bin of each value on equal-width ``bin_edges`` (the top edge falls in the last).
+    """
     bins = len(bin_edges) - 1
     width = (bin_edges[-1] - bin_edges[0]) / bins
     index = ((expr - bin_edges[0]) / width).floor().cast(pl.Int64)

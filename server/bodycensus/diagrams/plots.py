@@ -99,7 +99,8 @@ def flagged_traces(rows: list[dict[str, Any]], ys: list[float] | None = None,
             "x": [r["x"] for _, r in picked],
             "y": [ys[i] if ys is not None else r["y"] for i, r in picked],
             "customdata": [r["body"] for _, r in picked],
-            "hovertext": [_hover(r) for _, r in picked], "hovertemplate": "%{hovertext}<extra></extra>",
+            "hovertext": [_hover(r) for _, r in picked],
+            "hovertemplate": "%{hovertext}<extra></extra>",
             "marker": {"color": colour, "symbol": symbol, "size": 9,
                        "line": {"color": "#ffffff", "width": 1}},
         })
@@ -107,7 +108,8 @@ def flagged_traces(rows: list[dict[str, Any]], ys: list[float] | None = None,
 
 
 def _on_bars(rows: list[dict[str, Any]], edges: list[float], counts: list[int]) -> list[float]:
-    """Heights that put flagged markers on top of their histogram bar, stacked when they share it."""
+    """Heights that put flagged markers on top of their histogram bar, stacked when they share it.
+    """
     top = max(counts) if counts and max(counts) > 0 else 1
     width = (edges[-1] - edges[0]) / len(counts)
     seen: dict[int, int] = {}
@@ -184,7 +186,8 @@ def _line(name: str, x: list[float], y: list[float], colour: str,
 
 
 def mass_radius_figure(aggs: dict[str, Any]) -> Figure:
-    """Mass-radius diagram (log-log): 2-D density with iron, rock, water-ice and cold H/He curves."""
+    """Mass-radius diagram (log-log): 2-D density with iron, rock, water-ice and cold H/He curves.
+    """
     diagram = aggs.get("mass_radius")
     if not diagram:
         return _empty("Mass and radius", "No body has both a mass and a radius.")
@@ -302,8 +305,8 @@ def _step(edges: list[float], series: dict[str, Any], i: int) -> dict[str, Any]:
     """One label's histogram as a step line, so many labels can share the axes."""
     palette = (ACCENT, "#7f7f7f", "#b35806", "#1b7837", "#762a83", "#8c510a", "#01665e")
     return {"type": "scatter", "mode": "lines", "name": text(series["label"]),
-            "x": centres(edges), "y": series["counts"], "line": {"shape": "hvh", "width": 1.6,
-                                                                 "color": palette[i % len(palette)]},
+            "x": centres(edges), "y": series["counts"],
+            "line": {"shape": "hvh", "width": 1.6, "color": palette[i % len(palette)]},
             "hovertemplate": f"{text(series['label'])}: %{{y}} bodies<extra></extra>"}
 
 

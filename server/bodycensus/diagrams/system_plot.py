@@ -109,8 +109,9 @@ def _body_traces(detail: dict[str, Any], f: Transform) -> list[dict[str, Any]]:
     peri = a * (1 - min(max(e, 0.0), 0.99))
     if (hill := _value(detail, "hill_radius")) is not None:
         traces.append(_path("its Hill sphere", _around(peri, hill, f), colour, dash="dot"))
-    traces.append({"type": "scatter", "mode": "markers", "name": f"{text(detail['id'])} at periapsis",
-                   "meta": "body", "x": [f(peri)], "y": [0.0], "hoverinfo": "name",
+    traces.append({"type": "scatter", "mode": "markers",
+                   "name": f"{text(detail['id'])} at periapsis", "meta": "body",
+                   "x": [f(peri)], "y": [0.0], "hoverinfo": "name",
                    "marker": {"color": colour, "size": 10, "symbol": "circle"}})
     return traces
 

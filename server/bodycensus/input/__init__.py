@@ -1,1 +1,2 @@
-"""The input floor: file formats, readers, the column mapping and ingest into the normalised table."""
+"""The input floor: file formats, readers, the column mapping and ingest into the normalised table.
+"""

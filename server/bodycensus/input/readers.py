@@ -1,9 +1,10 @@
 """Open any supported catalogue file and say, by line and column, why one cannot be read.
 
-Compression is found by extension, else by magic bytes; gzip and zstd are decompressed as a stream that stops at a size limit, and the format is told from the
-name or the first bytes. The ``*_fault`` functions return a one-line 'where: what; what to do'
-for text that polars would reject or silently misread; the upload's first look (``sniff``) and
-the ingest share them, so both give the same answer.
+Compression is found by extension, else by magic bytes; gzip and zstd are decompressed as a
+stream that stops at a size limit, and the format is told from the name or the first bytes.
+The ``*_fault`` functions return a one-line 'where: what; what to do' for text that polars would
+reject or silently misread; the upload's first look (``sniff``) and the ingest share them, so
+both give the same answer.
 """
 
 from __future__ import annotations

@@ -83,7 +83,8 @@ _ALIAS_TO_FIELD: dict[str, str] = {
 
 @dataclass(frozen=True)
 class ColumnChoice:
-    """Which source column feeds a canonical field, in which unit, and whether the unit is a guess."""
+    """Which source column feeds a canonical field, in which unit, and whether the unit is a guess.
+    """
 
     field: str
     column: str
@@ -170,7 +171,8 @@ def _hint_for(field_name: str, column: str) -> Unit | None:
 
 
 def read_header(column: str) -> tuple[str | None, Unit | None]:
-    """The field a header names and the unit it hints at, e.g. 'a (AU)' -> ('semi_major_axis', au)."""
+    """The field a header names and the unit it hints at, e.g. 'a (AU)' -> ('semi_major_axis', au).
+    """
     parts = _unit_parts(column)
     for base, unit_text in parts:
         name = _ALIAS_TO_FIELD.get(_key(base))
@@ -207,7 +209,8 @@ def _check_field(name: str) -> str:
 
 
 def check_unit(field_name: str, unit_name: str) -> Unit:
-    """The unit ``unit_name`` for ``field_name``; SchemaError if unknown or of the wrong dimension."""
+    """The unit ``unit_name`` for ``field_name``; SchemaError if unknown or of the wrong dimension.
+    """
     name = _check_field(field_name)
     if name not in FIELD_DIMENSIONS:
         raise SchemaError(f"field '{name}' has no unit; drop --unit {name}=...")

@@ -3,8 +3,8 @@
 Reads at most ``HEAD_BYTES`` of (decompressed) text, or the first rows of a Parquet file, so it
 is cheap for any size and safe against decompression bombs. A fault found there (bad encoding,
 a header that is data, an over-long row, an open quote, a broken NDJSON line) refuses the upload
-with the line and column; ``readers`` holds the checks, shared with the ingest. The dashboard uses it to decide
-whether the person must confirm the mapping before the ingest starts.
+with the line and column; ``readers`` holds the checks, shared with the ingest. The dashboard
+uses it to decide whether the person must confirm the mapping before the ingest starts.
 """
 
 from __future__ import annotations

@@ -1,1 +1,2 @@
-"""The science floor: units and constants, physical families, formulas, rules and distribution artefacts. Imports nothing else of bodycensus."""
+"""The science floor: units and constants, physical families, formulas, rules and distribution
+artefacts. Imports nothing else of bodycensus."""

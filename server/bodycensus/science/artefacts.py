@@ -171,8 +171,8 @@ def _runs(s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 def _row(kind: str, at: float, low: float, high: float, observed: int, expected: float,
          evidence: str, p: float) -> dict:
     """One raw detection, before the false-discovery control."""
-    return {"kind": kind, "at": float(at), "low": float(low), "high": float(high), "observed": observed,
-                "expected": float(expected), "evidence": evidence, "p_value": p}
+    return {"kind": kind, "at": float(at), "low": float(low), "high": float(high),
+            "observed": observed, "expected": float(expected), "evidence": evidence, "p_value": p}
 
 
 def _neighbour_counts(counts: np.ndarray, hits: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -1,1 +1,2 @@
-"""The storage floor: the data directory (catalogue folders, manifests, SQLite) and durable writes."""
+"""The storage floor: the data directory (catalogue folders, manifests, SQLite) and durable writes.
+"""

@@ -134,8 +134,9 @@ def list_findings(request: Request, cat_dir: ReadyDir,
                   max_margin: float | None = None, sort: str = "severity",
                   limit: Annotated[int, Query(ge=1, le=MAX_LIMIT)] = 50,
                   offset: Annotated[int, Query(ge=0)] = 0) -> dict[str, Any]:
-    """Findings filtered by severity (error, impossible, unstable, suspect, note), rule, label, family and value/margin ranges; sorted by
-    ``sort`` (a column, '-' for descending); paginated by ``limit`` and ``offset``."""
+    """Findings filtered by severity (error, impossible, unstable, suspect, note), rule, label,
+    family and value/margin ranges; sorted by ``sort`` (a column, '-' for descending); paginated
+    by ``limit`` and ``offset``."""
     return queries.findings_page(cat_dir, _state(request))
 
 

@@ -1,1 +1,2 @@
-"""What each screen shows: data functions, template contexts, URL state and the standalone report."""
+"""What each screen shows: data functions, template contexts, URL state and the standalone report.
+"""

@@ -35,9 +35,9 @@ CAPTIONS: dict[str, str] = {
              "the rigid line y = 1.26 x (Shu 1982) or the fluid line y = 2.44 x (Roche 1849) "
              "a body is inside that Roche limit; under y = 1 its orbit cuts the parent.",
     "orbits": "Left: apoapsis over the parent's Hill radius, with the stable prograde limit "
-              "0.49 (Domingos, Winter & Yokoyama 2006). Right: how far each period is from Kepler's "
-              "third law, in per cent, with the 5 % tolerance of kepler-mismatch; bodies beyond "
-              "+-10 % sit at the ends.",
+              "0.49 (Domingos, Winter & Yokoyama 2006). Right: how far each period is from "
+              "Kepler's third law, in per cent, with the 5 % tolerance of kepler-mismatch; "
+              "bodies beyond +-10 % sit at the ends.",
     "distributions": "Histogram of a numeric field per label; artefacts found in it are marked: "
                      "a line at a cutoff, a shaded band for a gap, a star for a spike.",
 }

@@ -1,1 +1,2 @@
-"""Pure physics: each formula written once, usable on floats, numpy arrays and polars expressions."""
+"""Pure physics: each formula written once, usable on floats, numpy arrays and polars expressions.
+"""

@@ -12,8 +12,10 @@ from bodycensus.science.physics.bodies import bulk_density, surface_gravity
 from bodycensus.science.units import HOUR, G
 
 # Roche coefficients: d = c R_M (rho_M / rho_m)^(1/3).
-RIGID_ROCHE_COEFFICIENT = 2.0 ** (1.0 / 3.0)  # = 1.26; rigid sphere (Shu 1982, The Physical Universe)
-FLUID_ROCHE_COEFFICIENT = 2.44  # fluid satellite (Roche 1849; 2.423-2.455 with rotation, Chandrasekhar)
+# = 1.26; rigid sphere (Shu 1982, The Physical Universe)
+RIGID_ROCHE_COEFFICIENT = 2.0 ** (1.0 / 3.0)
+# fluid satellite (Roche 1849; 2.423-2.455 with rotation, Chandrasekhar)
+FLUID_ROCHE_COEFFICIENT = 2.44
 
 HILL_STABLE_SEPARATION = 2.0 * math.sqrt(3.0)  # mutual Hill radii; two planets (Gladman 1993)
 

@@ -63,7 +63,8 @@ class Rule:
         return self.value > self.limit
 
     def margin(self) -> pl.Expr:
-        """How far past the limit, as a fraction of it (positive = violated; null without a limit)."""
+        """How far past the limit, as a fraction of it (positive = violated; null without a limit).
+        """
         if self.direction == "below":
             return (self.limit - self.value) / self.limit.abs()
         if self.direction == "above":

@@ -99,7 +99,8 @@ def _orbit_columns(table: pl.LazyFrame) -> pl.LazyFrame:
         roche_fluid=orbits.roche_fluid(parent_radius, pl.col("parent_density"), density),
         hill_radius=orbits.hill_radius(a, e, mass, parent_mass),
         parent_hill_radius=parent_hill,
-        stable_hill_limit=orbits.stable_hill_fraction(pl.col("parent_eccentricity"), e) * parent_hill,
+        stable_hill_limit=orbits.stable_hill_fraction(pl.col("parent_eccentricity"), e)
+        * parent_hill,
         kepler_period=kepler,
         period_ratio=positive("period") / kepler,
         barycentre_offset=orbits.barycentre_offset(a, parent_mass, mass),

@@ -21,7 +21,8 @@ class OrbitSettings:
     # Bodies at least this large are held together by gravity, not material strength, so the
     # rigid Roche limit is binding (roundness sets in at ~200-300 km; Lineweaver & Norman 2010).
     gravity_bound_radius: float = 200e3  # m
-    kepler_tolerance: float = 0.05  # fractional period mismatch before `kepler-mismatch` (common practice)
+    # fractional period mismatch before `kepler-mismatch` (common practice)
+    kepler_tolerance: float = 0.05
     lock_time_factor: float = 10.0  # tidal Q and rigidity are uncertain by ~10x (common practice)
     # Pairs lighter than this mass ratio are planet and host, not a binary, even when their
     # barycentre lies outside the host (Sun-Jupiter: q = 0.001); Pluto-Charon has q = 0.12.

@@ -20,7 +20,7 @@ def statistics_rules() -> tuple[Rule, ...]:
     scores = [pl.col(c) for c in _SCORES.values()]
     worst = pl.max_horizontal(scores)
     which = pl.coalesce([pl.when(s == worst).then(pl.lit(name))
-                         for s, name in zip(scores, _SCORES)])
+                         for s, name in zip(scores, _SCORES, strict=True)])
     return (
         Rule(
             id="label-outlier", title="An outlier within its label", severity="suspect",
