@@ -15,6 +15,7 @@ from typing import Any, Protocol
 
 import polars as pl
 
+from bodycensus.durable import fsync_path
 from bodycensus.engines.summary import build_summary
 from bodycensus.input.ingest import IngestLimits, IngestReport, ingest
 from bodycensus.science import artefacts as artefact_detector
@@ -24,7 +25,6 @@ from bodycensus.science.rules.base import SEVERITY_RANK, coverage, evaluate
 from bodycensus.science.rules.context import derive
 from bodycensus.science.rules.graph import cycle_members
 from bodycensus.science.rules.orbit import OrbitSettings
-from bodycensus.storage.durable import fsync_path
 
 
 class Progress(Protocol):

@@ -21,6 +21,7 @@ from pathlib import Path
 
 import polars as pl
 
+from bodycensus.durable import fsync_path
 from bodycensus.errors import storage_error
 from bodycensus.input.readers import (
     HEAD_BYTES,
@@ -49,7 +50,6 @@ from bodycensus.input.schema import (
     describe_columns,
     guess_mapping,
 )
-from bodycensus.storage.durable import fsync_path
 
 Progress = Callable[[str, int], None]
 _ROW, _PRESENT, _BAD = "__bodycensus_row__", "__bodycensus_present__", "__bodycensus_bad__"

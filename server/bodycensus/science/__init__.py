@@ -1,2 +1,2 @@
 """The science floor: units and constants, physical families, formulas, rules and distribution
-artefacts. Imports nothing else of bodycensus."""
+artefacts. Imports only the base floor (errors)."""

@@ -30,8 +30,8 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any, Literal
 
+from bodycensus.durable import fsync_path
 from bodycensus.errors import Conflict, NotFound, StorageError, storage_error
-from bodycensus.storage.durable import fsync_path
 
 Status = Literal["mapping", "ingesting", "ready", "failed"]
 MANIFEST = "manifest.json"
