@@ -18,6 +18,7 @@ from astropy import units as u
 from polars.testing import assert_frame_equal
 
 from bodycensus.input import ingest as ingest_module
+from bodycensus.input.formats import DelimitedText, Layout, NdjsonText, ParquetFile
 from bodycensus.input.ingest import IngestError, IngestLimits, IngestReport, ingest
 from bodycensus.input.schema import guess_mapping
 
@@ -355,8 +356,8 @@ def test_the_normalising_plan_runs_fully_on_the_streaming_engine(tmp_path: Path,
     # Bounded memory on huge files needs every node streaming: polars marks an in-memory
     # fallback (e.g. replace_strict in polars 2.1) with this fill colour in its physical graph.
     source = _catalogue(tmp_path, fmt, "")
-    kind, delimiter = ("delimited", ",") if fmt == "csv" else (fmt, None)
-    frame = ingest_module._scan(source, kind, delimiter)
+    reader = {"csv": DelimitedText(), "ndjson": NdjsonText(), "parquet": ParquetFile()}[fmt]
+    frame = reader.scan(source, Layout(",") if fmt == "csv" else Layout())
     schema = pl.Schema({n: t for n, t in frame.collect_schema().items()
                         if n != ingest_module._ROW})
     plan = ingest_module._normalise(frame, schema, guess_mapping(schema.names()))

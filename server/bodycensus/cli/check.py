@@ -17,6 +17,7 @@ from typing import Any, TextIO
 import polars as pl
 
 from bodycensus.engines.local import CheckOptions, CheckResult, check_file
+from bodycensus.input.formats import accepted
 from bodycensus.input.schema import parse_assignment
 from bodycensus.science.families import parse_family_override
 from bodycensus.science.rules.base import SEVERITIES, SEVERITY_RANK
@@ -30,8 +31,8 @@ def add_check_parser(commands: argparse._SubParsersAction) -> None:
     """Register ``check`` and its options."""
     check = commands.add_parser(
         "check", help="check a catalogue file and print the findings",
-        description="Check a catalogue file (CSV/TSV/semicolon, NDJSON or Parquet, optionally "
-                    ".gz/.zst) and print what physics rules out or makes suspicious.")
+        description=f"Check a catalogue file ({accepted()}) and print what physics rules out or "
+                    "makes suspicious.")
     check.add_argument("file", type=Path, help="the catalogue file")
     check.add_argument("--map", action="append", default=[], metavar="FIELD=COLUMN",
                        help="read FIELD from COLUMN (repeatable), e.g. --map radius=r_eq")

@@ -14,6 +14,7 @@ from pathlib import Path
 from bodycensus import __version__
 from bodycensus.cli.check import add_check_parser, run_check
 from bodycensus.errors import BodycensusError
+from bodycensus.input.readers import compression_hint
 
 BAD_INPUT = 2
 _INPUT_ERRORS = (BodycensusError, FileNotFoundError, IsADirectoryError, PermissionError)
@@ -39,7 +40,8 @@ def _add_serve(commands: argparse._SubParsersAction) -> None:
     limits.add_argument("--max-upload-mb", type=int, default=None,
                         help="largest upload in MiB, as sent (default 4096)")
     limits.add_argument("--max-decompressed-mb", type=int, default=None,
-                        help="largest .gz/.zst file once decompressed, in MiB (default 16384)")
+                        help=f"largest {compression_hint()} file once decompressed, in MiB "
+                             "(default 16384)")
     limits.add_argument("--max-rows", type=int, default=None,
                         help="most data rows in one catalogue (default 50000000)")
     limits.add_argument("--max-columns", type=int, default=None,

@@ -26,6 +26,7 @@ from bodycensus.dashboard.security import auth
 from bodycensus.dashboard.security.guard import Guard
 from bodycensus.dashboard.settings import Settings
 from bodycensus.errors import BadInput
+from bodycensus.input.formats import catalogue_suffix
 from bodycensus.storage.store import Store
 
 DEMO_NAME = "Demo catalogue"
@@ -47,7 +48,7 @@ def _bundled_demo() -> Path | None:
     if not _SAMPLE_DATA.is_dir():
         return None
     found = sorted(p for p in _SAMPLE_DATA.iterdir() if p.is_file() and "truth" not in p.name
-                   and p.name.endswith((".csv", ".csv.gz", ".parquet", ".ndjson")))
+                   and catalogue_suffix(p.name) is not None)
     return found[0] if found else None
 
 

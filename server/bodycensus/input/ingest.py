@@ -1,44 +1,42 @@
 """Read a catalogue file of any size and write the normalised SI Parquet table.
 
-Delimited text (comma, tab, semicolon), NDJSON or Parquet, optionally gzip or zstd, is scanned
+A file of any registered format (``formats.FORMATS``), optionally compressed, is scanned
 lazily with polars, mapped to canonical fields (``schema.guess_mapping``), converted to SI and
 streamed to Parquet, so memory stays bounded however long the file is. A file that cannot be read
 at all raises ``IngestError`` with one line saying where and what to do; a single unreadable cell
 does not: it becomes null and is listed in ``_bad``.
 
 
-``IngestError`` and the file-level checks live in ``readers`` (re-exported here).
+``IngestError`` and the file-level checks live in ``readers`` (re-exported here); how each
+format is checked, scanned and its faults located, in its record in ``formats``.
 """
 
 from __future__ import annotations
 
-import csv
 import os
 import re
 from collections.abc import Callable
 from dataclasses import asdict, dataclass
 from pathlib import Path
+from typing import Any
 
 import polars as pl
 
 from bodycensus.durable import fsync_path
 from bodycensus.errors import storage_error
+from bodycensus.input.formats import (
+    FORMATS,
+    MAGIC_BYTES,
+    ROW_INDEX,
+    InputFormat,
+    Layout,
+    detect_format,
+)
 from bodycensus.input.readers import (
-    HEAD_BYTES,
     IngestError,
-    check_parquet,
-    csv_fault,
     decompress,
     detect_compression,
-    detect_format,
-    encoding_fault,
     first_line,
-    head,
-    head_lines,
-    header_fault,
-    ndjson_fault,
-    sniff_delimiter,
-    text_lines,
     to_string,
 )
 from bodycensus.input.schema import (
@@ -52,7 +50,7 @@ from bodycensus.input.schema import (
 )
 
 Progress = Callable[[str, int], None]
-_ROW, _PRESENT, _BAD = "__bodycensus_row__", "__bodycensus_present__", "__bodycensus_bad__"
+_ROW, _PRESENT, _BAD = ROW_INDEX, "__bodycensus_present__", "__bodycensus_bad__"
 _TRUE, _FALSE = ["true", "yes", "y", "t", "1", "1.0"], ["false", "no", "n", "f", "0", "0.0"]
 
 
@@ -70,7 +68,7 @@ class IngestReport:
     """What ingest found: the file's shape, the mapping used and the unreadable cells per column."""
 
     rows: int
-    format: str  # delimited | ndjson | parquet
+    format: str  # the reader's kind: delimited | ndjson | parquet
     compression: str | None  # gzip | zstd | None
     delimiter: str | None
     columns: list[str]
@@ -78,54 +76,31 @@ class IngestReport:
     unknown_columns: list[str]
     bad_cells: dict[str, int]  # source column -> cells present but unreadable or non-finite
 
-    def to_json(self) -> dict:
+    def to_json(self) -> dict[str, Any]:
         """A plain dict for the API, the manifest and `bodycensus check`."""
         return {**asdict(self), "mapping": self.mapping.to_json()}
 
 
-def _scan(plain: Path, fmt: str, delimiter: str | None) -> pl.LazyFrame:
-    """A lazy scan with a 1-based row index; text formats read every column as a string."""
-    if fmt == "parquet":
-        return pl.scan_parquet(plain, row_index_name=_ROW, row_index_offset=1)
-    if fmt == "ndjson":
-        names = pl.scan_ndjson(plain, infer_schema_length=10_000).collect_schema().names()
-        return pl.scan_ndjson(plain, infer_schema_length=10_000, row_index_name=_ROW,
-                              row_index_offset=1, schema_overrides=dict.fromkeys(names, pl.String))
-    return pl.scan_csv(plain, separator=delimiter or ",", infer_schema=False,
-                       encoding="utf8-lossy", row_index_name=_ROW, row_index_offset=1)
-
-
-def _explain(source: Path, plain: Path, fmt: str, delimiter: str | None,
+def _explain(source: Path, plain: Path, fmt: InputFormat, layout: Layout,
              err: Exception) -> Exception:
-    """A one-line IngestError for a polars failure, locating the fault where we can (a full or
-    read-only disk becomes the StorageError it is)."""
+    """A one-line IngestError for a polars failure, located by the format's reader where it
+    can (a full or read-only disk becomes the StorageError it is)."""
     if (disk := storage_error(err, retry="upload the file again")) is not None:
         return disk
-    fault = None
-    if fmt == "delimited":
-        fault = csv_fault(text_lines(plain), delimiter or ",")
-    elif fmt == "ndjson":
-        fault = ndjson_fault(text_lines(plain))
+    fault = fmt.reader.fault(plain, layout)
     column = re.search(r"at column '([^']+)'", str(err))
     if fault and column:
         fault = f"column '{column[1]}', {fault}"
     if fault is None:
-        fault = (f"cannot be read as {fmt} ({first_line(err)}); check that the file is "
-                 "complete and in one of: CSV/TSV/semicolon text, NDJSON, Parquet")
+        fault = (f"cannot be read as {fmt.reader.kind} ({first_line(err)}); check that the file "
+                 f"is complete and in one of: {', '.join(f.title for f in FORMATS)}")
     return IngestError(f"{source.name}: {fault}")
 
 
-def _check_text(source: Path, plain: Path, fmt: str) -> str | None:
-    """Refuse text that is not UTF-8 or whose header polars would misread; the delimiter."""
-    data, complete = head(plain, None, HEAD_BYTES, source.name)
-    fault = encoding_fault(data, complete)
-    lines = head_lines(data, complete)
-    delimiter = sniff_delimiter(lines[0]) if fmt == "delimited" and lines else None
-    if fault is None and delimiter is not None:
-        fault = header_fault(next(csv.reader(lines[:1], delimiter=delimiter)), lines[0])
-    if fault is not None:
-        raise IngestError(f"{source.name}: {fault}")
-    return delimiter
+def _first_bytes(plain: Path) -> bytes:
+    """The start of a plain file, for recognising its format."""
+    with plain.open("rb") as fh:
+        return fh.read(MAGIC_BYTES)
 
 
 def _clean(text: pl.Expr) -> pl.Expr:
@@ -194,7 +169,7 @@ def _write(plan: pl.LazyFrame, dest: Path, source: Path, max_rows: int,
     tmp = dest.with_suffix(".tmp")
     try:
         plan.head(max_rows + 1).sink_parquet(tmp)
-        rows = pl.scan_parquet(tmp).select(pl.len()).collect().item()
+        rows = int(pl.scan_parquet(tmp).select(pl.len()).collect().item())
     except (pl.exceptions.PolarsError, pl.exceptions.PanicException, OSError) as err:
         tmp.unlink(missing_ok=True)
         raise explain(err) from err
@@ -232,38 +207,36 @@ def _map(source: Path, columns: list[str], map_overrides: dict[str, str] | None,
 
 
 def _open(source: Path, plain: Path, limits: IngestLimits
-          ) -> tuple[str, str | None, pl.LazyFrame, pl.Schema]:
-    """Format, delimiter, lazy scan and schema of ``plain``, within the column limit."""
+          ) -> tuple[InputFormat, Layout, pl.LazyFrame, pl.Schema]:
+    """Format, layout, lazy scan and schema of ``plain``, within the column limit."""
     if plain.stat().st_size == 0:
         raise IngestError(f"{source.name}: the file is empty; export the catalogue again")
-    with plain.open("rb") as fh:
-        fmt = detect_format(source.name, fh.read(8))
-    if fmt == "parquet":
-        check_parquet(source.name, plain)
-    delimiter = None if fmt == "parquet" else _check_text(source, plain, fmt)
+    fmt = detect_format(source.name, lambda: _first_bytes(plain))
+    layout = fmt.reader.prepare(plain, source.name)
     try:
-        frame = _scan(plain, fmt, delimiter)
+        frame = fmt.reader.scan(plain, layout)
         schema = pl.Schema({n: t for n, t in frame.collect_schema().items() if n != _ROW})
     except (pl.exceptions.PolarsError, pl.exceptions.PanicException) as err:
-        raise _explain(source, plain, fmt, delimiter, err) from err
+        raise _explain(source, plain, fmt, layout, err) from err
     if len(schema) > limits.max_columns:
         raise IngestError(f"{source.name}: {len(schema):,} columns, more than the limit of "
                           f"{limits.max_columns:,}; drop unused columns or raise max_columns")
-    return fmt, delimiter, frame, schema
+    return fmt, layout, frame, schema
 
 
 def _read(source: Path, plain: Path, compression: str | None, dest: Path, limits: IngestLimits,
-          overrides: tuple[dict | None, dict | None], progress: Progress) -> IngestReport:
+          overrides: tuple[dict[str, str] | None, dict[str, str] | None], progress: Progress
+          ) -> IngestReport:
     """Ingest an uncompressed file ``plain`` (read from ``source``) into ``dest``."""
-    fmt, delimiter, frame, schema = _open(source, plain, limits)
+    fmt, layout, frame, schema = _open(source, plain, limits)
     mapping = _map(source, schema.names(), *overrides)
     progress("read", 0)
     plan = _normalise(frame, schema, mapping)
     rows = _write(plan, dest, source, limits.max_rows,
-                  lambda err: _explain(source, plain, fmt, delimiter, err))
+                  lambda err: _explain(source, plain, fmt, layout, err))
     progress("write", rows)
-    return IngestReport(rows=rows, format=fmt, compression=compression, delimiter=delimiter,
-                        columns=schema.names(), mapping=mapping,
+    return IngestReport(rows=rows, format=fmt.reader.kind, compression=compression,
+                        delimiter=layout.delimiter, columns=schema.names(), mapping=mapping,
                         unknown_columns=list(mapping.unknown_columns),
                         bad_cells=_count_bad(dest, mapping))
 

@@ -1,10 +1,10 @@
 """Open any supported catalogue file and say, by line and column, why one cannot be read.
 
-Compression is found by extension, else by magic bytes; gzip and zstd are decompressed as a
-stream that stops at a size limit, and the format is told from the name or the first bytes.
-The ``*_fault`` functions return a one-line 'where: what; what to do' for text that polars would
-reject or silently misread; the upload's first look (``sniff``) and the ingest share them, so
-both give the same answer.
+The compression layer is a registry (``COMPRESSIONS``: gzip, zstd), found by suffix, else by
+magic bytes, and decompressed as a stream that stops at a size limit. The ``*_fault`` functions
+return a one-line 'where: what; what to do' for text that polars would reject or silently
+misread; the readers of ``formats`` use them for the upload's first look (``sniff``) and for the
+ingest alike, so both give the same answer.
 """
 
 from __future__ import annotations
@@ -18,25 +18,22 @@ import os
 import re
 import tempfile
 import zlib
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Generator, Iterable, Iterator
+from dataclasses import dataclass
 from pathlib import Path
-from typing import BinaryIO
+from typing import TYPE_CHECKING, BinaryIO
 
 import polars as pl
 import zstandard
 
 from bodycensus.errors import InputError
 
+if TYPE_CHECKING:
+    from polars._typing import PolarsDataType  # a data type as an instance or its class
+
 CHUNK = 1 << 20
 HEAD_BYTES = 2 << 20  # what the first look and the text checks read of a file
 DELIMITERS = (",", "\t", ";")
-EXTENSIONS = {
-    ".csv": "delimited", ".tsv": "delimited", ".tab": "delimited", ".txt": "delimited",
-    ".ndjson": "ndjson", ".jsonl": "ndjson", ".parquet": "parquet", ".pq": "parquet",
-}
-COMPRESSIONS = {".gz": "gzip", ".gzip": "gzip", ".zst": "zstd", ".zstd": "zstd"}
-_MAGIC = {b"\x1f\x8b": "gzip", b"\x28\xb5\x2f\xfd": "zstd"}
-_READ_ERRORS = (OSError, EOFError, zlib.error, zstandard.ZstdError)
 _ODD_SEPARATORS = ("|", ":", "  ", "^", "~")
 _UNREADABLE = ("binary data, UTF-16 text or a JSON array cannot be read; export it as UTF-8 "
                "CSV/TSV, NDJSON (one object per line) or Parquet")
@@ -54,19 +51,21 @@ def first_line(err: BaseException) -> str:
 # --- compression ---------------------------------------------------------------------------
 
 
-def detect_compression(source: Path) -> str | None:
-    """gzip or zstd by extension, else by magic bytes; None for a plain file."""
-    if source.suffix.lower() in COMPRESSIONS:
-        return COMPRESSIONS[source.suffix.lower()]
-    with source.open("rb") as fh:
-        magic = fh.read(4)
-    return next((name for start, name in _MAGIC.items() if magic.startswith(start)), None)
+def _plain_chunks(raw: BinaryIO) -> Iterator[bytes]:
+    """An uncompressed file in chunks."""
+    yield from iter(lambda: raw.read(CHUNK), b"")
 
 
-def _zstd_chunks(fh: BinaryIO) -> Iterator[bytes]:
+def _gzip_chunks(raw: BinaryIO) -> Iterator[bytes]:
+    """Decompressed chunks of a (possibly multi-member) gzip stream."""
+    with gzip.GzipFile(fileobj=raw) as fh:
+        yield from iter(lambda: fh.read(CHUNK), b"")
+
+
+def _zstd_chunks(raw: BinaryIO) -> Iterator[bytes]:
     """Decompressed chunks of a (possibly multi-frame) zstd stream; raises if it is truncated."""
     decoder, pending = zstandard.ZstdDecompressor().decompressobj(), False
-    while chunk := fh.read(CHUNK):
+    while chunk := raw.read(CHUNK):
         while chunk:
             yield decoder.decompress(chunk)
             pending, chunk = not decoder.eof, b""
@@ -76,16 +75,63 @@ def _zstd_chunks(fh: BinaryIO) -> Iterator[bytes]:
         raise EOFError("the stream ends inside a frame")
 
 
-def chunks(source: Path, compression: str | None) -> Iterator[bytes]:
+@dataclass(frozen=True)
+class Compression:
+    """One compression: its suffixes, its magic bytes, a reader of its decompressed chunks and
+    the exceptions that reader raises on corrupt or truncated data."""
+
+    name: str
+    suffixes: tuple[str, ...]  # lower case, with the dot; the first is the one suggested
+    magic: bytes
+    chunks: Callable[[BinaryIO], Iterator[bytes]]
+    errors: tuple[type[Exception], ...]
+
+
+COMPRESSIONS: tuple[Compression, ...] = (
+    Compression("gzip", (".gz", ".gzip"), b"\x1f\x8b", _gzip_chunks, (zlib.error,)),
+    Compression("zstd", (".zst", ".zstd"), b"\x28\xb5\x2f\xfd", _zstd_chunks,
+                (zstandard.ZstdError,)),
+)
+
+
+def join_or(words: Iterable[str]) -> str:
+    """``a, b or c``: a list of alternatives for a message or a help text."""
+    items = list(words)
+    return " or ".join([", ".join(items[:-1]), items[-1]] if len(items) > 1 else items)
+
+
+def compression_suffixes() -> list[str]:
+    """Every suffix that marks a compressed file, in registry order."""
+    return [suffix for comp in COMPRESSIONS for suffix in comp.suffixes]
+
+
+def compression_hint() -> str:
+    """The suggested suffix of each compression, as alternatives: ``.gz or .zst``."""
+    return join_or(comp.suffixes[0] for comp in COMPRESSIONS)
+
+
+def detect_compression(source: Path) -> str | None:
+    """The name of the compression of ``source`` by its suffix, else by its magic bytes; None
+    for a plain file."""
+    suffix = source.suffix.lower()
+    named = next((c.name for c in COMPRESSIONS if suffix in c.suffixes), None)
+    if named is not None:
+        return named
+    with source.open("rb") as fh:
+        start = fh.read(max(len(c.magic) for c in COMPRESSIONS))
+    return next((c.name for c in COMPRESSIONS if start.startswith(c.magic)), None)
+
+
+def _read_errors() -> tuple[type[Exception], ...]:
+    """What reading a damaged file raises, whatever its compression."""
+    return (OSError, EOFError, *(err for comp in COMPRESSIONS for err in comp.errors))
+
+
+def chunks(source: Path, compression: str | None) -> Generator[bytes, None, None]:
     """The file's content in chunks, decompressed; read errors propagate as they are."""
+    reader = next((c.chunks for c in COMPRESSIONS if c.name == compression), _plain_chunks)
     with source.open("rb") as raw:
-        if compression == "zstd":
-            yield from _zstd_chunks(raw)
-        elif compression == "gzip":
-            with gzip.GzipFile(fileobj=raw) as fh:
-                yield from iter(lambda: fh.read(CHUNK), b"")
-        else:
-            yield from iter(lambda: raw.read(CHUNK), b"")
+        yield from reader(raw)
 
 
 def _corrupt(name: str, compression: str | None, written: int, err: BaseException
@@ -104,7 +150,7 @@ def head(source: Path, compression: str | None, size: int, name: str) -> tuple[b
             out += chunk
             if len(out) > size:
                 return bytes(out[:size]), False
-    except _READ_ERRORS as err:
+    except _read_errors() as err:
         raise _corrupt(name, compression, len(out), err) from err
     finally:
         stream.close()
@@ -141,36 +187,17 @@ def _next_chunk(stream: Iterator[bytes], name: str, compression: str, written: i
     """The next decompressed chunk (None at the end); read faults as IngestError."""
     try:
         return next(stream, None)
-    except _READ_ERRORS as err:
+    except _read_errors() as err:
         raise _corrupt(name, compression, written, err) from err
 
 
-# --- format --------------------------------------------------------------------------------
-
-
 def inner_suffix(name: str) -> str:
-    """The format suffix of ``name`` under any .gz/.zst (``x.csv.gz`` -> ``.csv``)."""
+    """The suffix of ``name`` under any compression suffix (``x.csv.gz`` -> ``.csv``)."""
     path = Path(name.lower())
-    return path.with_suffix("").suffix if path.suffix in COMPRESSIONS else path.suffix
+    return path.with_suffix("").suffix if path.suffix in compression_suffixes() else path.suffix
 
 
-def detect_format(name: str, start: bytes) -> str:
-    """delimited, ndjson or parquet: by the name's extension, then by the first bytes."""
-    lead = start.lstrip(b"\xef\xbb\xbf \t\r\n")[:1]
-    return EXTENSIONS.get(inner_suffix(name)) or (
-        "parquet" if start.startswith(b"PAR1") else "ndjson" if lead == b"{" else "delimited")
-
-
-def check_parquet(name: str, plain: Path) -> None:
-    """Refuse a Parquet file that lacks Parquet's magic bytes at both ends."""
-    with plain.open("rb") as fh:
-        start = fh.read(4)
-        fh.seek(max(plain.stat().st_size - 4, 0))
-        tail = fh.read(4)
-    if start != b"PAR1" or tail != b"PAR1":
-        where = "start" if start != b"PAR1" else "end (truncated?)"
-        raise IngestError(f"{name}: not a valid Parquet file (no PAR1 marker at its {where}); "
-                          "export it again, or give it a .csv/.ndjson name")
+# --- text and values -----------------------------------------------------------------------
 
 
 def sniff_delimiter(header: str) -> str:
@@ -178,7 +205,7 @@ def sniff_delimiter(header: str) -> str:
     return max(DELIMITERS, key=re.sub(r'"[^"]*"', "", header).count)
 
 
-def to_string(col: pl.Expr, dtype: pl.DataType) -> pl.Expr:
+def to_string(col: pl.Expr, dtype: PolarsDataType) -> pl.Expr:
     """Any column as text, verbatim (structs as JSON, lists as ``[a, b]``)."""
     if dtype == pl.String:
         return col
@@ -191,7 +218,32 @@ def to_string(col: pl.Expr, dtype: pl.DataType) -> pl.Expr:
     return col.cast(pl.String)
 
 
+def text_lines(plain: Path) -> Iterator[str]:
+    """The lines of a (decompressed) text file, undecodable bytes replaced."""
+    with plain.open("r", encoding="utf-8", errors="replace", newline="") as fh:
+        yield from fh
+
+
+def head_lines(data: bytes, complete: bool) -> list[str]:
+    """The complete lines of a head of text (a cut last line dropped), BOM removed."""
+    text = data.decode("utf-8", errors="replace").removeprefix("\ufeff")
+    lines = io.StringIO(text, newline="").readlines()
+    return lines if complete or len(lines) < 2 else lines[:-1]
+
+
 # --- faults, by line and column -------------------------------------------------------------
+
+
+def check_parquet(name: str, plain: Path) -> None:
+    """Refuse a Parquet file that lacks Parquet's magic bytes at both ends."""
+    with plain.open("rb") as fh:
+        start = fh.read(4)
+        fh.seek(max(plain.stat().st_size - 4, 0))
+        tail = fh.read(4)
+    if start != b"PAR1" or tail != b"PAR1":
+        where = "start" if start != b"PAR1" else "end (truncated?)"
+        raise IngestError(f"{name}: not a valid Parquet file (no PAR1 marker at its {where}); "
+                          "export it again, or give it a .csv/.ndjson name")
 
 
 def _where(text: bytes, pos: int) -> str:
@@ -281,16 +333,3 @@ def ndjson_fault(lines: Iterable[str]) -> str | None:
         if not isinstance(value, dict):
             return f"line {number}: not a JSON object; each line must be one {{...}} record"
     return None
-
-
-def text_lines(plain: Path) -> Iterator[str]:
-    """The lines of a (decompressed) text file, undecodable bytes replaced."""
-    with plain.open("r", encoding="utf-8", errors="replace", newline="") as fh:
-        yield from fh
-
-
-def head_lines(data: bytes, complete: bool) -> list[str]:
-    """The complete lines of a head of text (a cut last line dropped), BOM removed."""
-    text = data.decode("utf-8", errors="replace").removeprefix("\ufeff")
-    lines = io.StringIO(text, newline="").readlines()
-    return lines if complete or len(lines) < 2 else lines[:-1]

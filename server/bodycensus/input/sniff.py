@@ -3,43 +3,26 @@
 Reads at most ``HEAD_BYTES`` of (decompressed) text, or the first rows of a Parquet file, so it
 is cheap for any size and safe against decompression bombs. A fault found there (bad encoding,
 a header that is data, an over-long row, an open quote, a broken NDJSON line) refuses the upload
-with the line and column; ``readers`` holds the checks, shared with the ingest. The dashboard
-uses it to decide whether the person must confirm the mapping before the ingest starts.
+with the line and column; the format's reader (``formats``) takes that look with the checks of
+``readers``, shared with the ingest. The dashboard uses it to decide whether the person must
+confirm the mapping before the ingest starts.
 """
 
 from __future__ import annotations
 
-import csv
-import json
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-import polars as pl
-
 from bodycensus.errors import BadInput, TooLarge
-from bodycensus.input.readers import (
-    HEAD_BYTES,
-    IngestError,
-    check_parquet,
-    csv_fault,
-    detect_compression,
-    detect_format,
-    encoding_fault,
-    first_line,
-    head,
-    head_lines,
-    header_fault,
-    ndjson_fault,
-    sniff_delimiter,
-    to_string,
-)
+from bodycensus.input.formats import MAGIC_BYTES, detect_format
+from bodycensus.input.readers import detect_compression, head
 from bodycensus.input.schema import Mapping, guess_mapping
 from bodycensus.science.families import guess_family
 
 SAMPLE_ROWS = 20
 SAMPLES_PER_COLUMN = 5
-_PARQUET = (".parquet", ".pq")
+HEAD_ROWS = SAMPLE_ROWS * 50  # rows read (and checked) for the samples and the labels
 
 
 @dataclass(frozen=True)
@@ -67,75 +50,15 @@ class Sniff:
                 "reasons": self.reasons}
 
 
-def _lines(path: Path, name: str) -> tuple[list[str], bool]:
-    """The complete, non-blank lines of the head; IngestError (422) for text we cannot read."""
-    data, complete = head(path, detect_compression(path), HEAD_BYTES, name)
-    fault = encoding_fault(data, complete)
-    lines = head_lines(data, complete)
-    if fault is None and not complete and len(lines) == 1 and "\n" not in lines[0]:
-        fault = (f"line 1 is longer than {HEAD_BYTES:,} bytes; is this a catalogue with a "
-                 "header row?")
-    if fault is not None:
-        raise IngestError(f"{name}: {fault}")
-    return [line for line in lines if line.strip()], complete
-
-
-def _delimited(lines: list[str], complete: bool, name: str
-               ) -> tuple[list[str], list[dict[str, str]]]:
-    """Header and first rows of delimited text; refuses a bad header, long rows, open quotes."""
-    delimiter = sniff_delimiter(lines[0])
-    header = next(csv.reader(lines[:1], delimiter=delimiter))
-    checked = lines[: SAMPLE_ROWS * 50 + 1]  # the rows the first look samples
-    fault = header_fault(header, lines[0]) or csv_fault(
-        checked, delimiter, complete and len(checked) == len(lines))
-    if fault is not None:
-        raise IngestError(f"{name}: {fault}")
-    rows = list(csv.reader(lines[1: SAMPLE_ROWS * 50 + 1], delimiter=delimiter))
-    header = [h.strip() for h in header]
-    return header, [dict(zip(header, r, strict=False)) for r in rows]
-
-
-def _ndjson(lines: list[str], name: str) -> tuple[list[str], list[dict[str, str]]]:
-    """Keys and first records of NDJSON; refuses a line that is not a JSON object."""
-    if (fault := ndjson_fault(lines)) is not None:
-        raise IngestError(f"{name}: {fault}")
-    records = [{str(k): "" if v is None else str(v) for k, v in json.loads(line).items()}
-               for line in lines[: SAMPLE_ROWS * 50]]
-    header = list(dict.fromkeys(k for r in records for k in r))
-    return header, records
-
-
-def _parquet(path: Path, name: str) -> tuple[list[str], list[dict[str, str]]]:
-    """Columns and first rows of a Parquet file, as text (nested values too)."""
-    try:
-        check_parquet(name, path)
-        frame = pl.scan_parquet(path).head(SAMPLE_ROWS * 50).collect()
-        text = frame.select(to_string(pl.col(c), t).alias(c) for c, t in frame.schema.items())
-    except (pl.exceptions.PolarsError, pl.exceptions.PanicException, OSError) as err:
-        raise BadInput(f"{name}: not a readable Parquet file ({first_line(err)[:80]}); export "
-                       "it again", 422) from err
-    return frame.columns, [{k: v or "" for k, v in r.items()} for r in text.to_dicts()]
-
-
-def _table(path: Path, name: str) -> tuple[list[str], list[dict[str, str]]]:
-    """Header and first rows of any supported file."""
-    with path.open("rb") as fh:
-        fmt = detect_format(path.name, fh.read(8))
-    if fmt == "parquet":
-        return _parquet(path, name)
-    lines, complete = _lines(path, name)
-    if not lines:
-        raise BadInput(f"{name}: the file is empty; export the catalogue again", 422)
-    if fmt == "ndjson" or lines[0].lstrip().startswith("{"):
-        return _ndjson(lines, name)
-    return _delimited(lines, complete, name)
-
-
 def sniff(path: Path, name: str, max_columns: int) -> Sniff | None:
-    """A first look at ``path``; None for a compressed Parquet file (the ingest reads it)."""
-    if len(path.suffixes) > 1 and path.suffixes[-2] in _PARQUET:
+    """A first look at ``path``; None for a format that cannot be looked into without
+    decompressing it whole (a compressed Parquet file: the ingest reads it)."""
+    compression = detect_compression(path)
+    fmt = detect_format(path.name, lambda: head(path, compression, MAGIC_BYTES, name)[0])
+    table = fmt.reader.head(path, compression, name, HEAD_ROWS)
+    if table is None:
         return None
-    columns, rows = _table(path, name)
+    columns, rows = table.columns, table.rows
     if not [c for c in columns if c]:
         raise BadInput(f"{name}: no header row found; the first line must name the columns", 422)
     if len(columns) > max_columns:

@@ -20,6 +20,7 @@ from bodycensus.dashboard.settings import Settings
 from bodycensus.diagrams.aggregates import compute_aggregates
 from bodycensus.engines.local import CheckOptions, check_file
 from bodycensus.errors import BadInput, BodycensusError, one_line, storage_error
+from bodycensus.input.formats import catalogue_suffix
 from bodycensus.input.ingest import IngestLimits
 from bodycensus.input.schema import guess_mapping
 from bodycensus.science.families import FAMILIES
@@ -144,7 +145,7 @@ class Jobs:
 def add_catalogue(store: Store, jobs: Jobs, source: Path, name: str, demo: bool = False
                   ) -> Manifest:
     """Copy a local file in as a new catalogue and start its run with the guessed mapping."""
-    suffix = "".join(source.suffixes[-2:]) if source.suffix in (".gz", ".zst") else source.suffix
+    suffix = catalogue_suffix(source.name) or source.suffix
     cat_id, dest = store.new_upload(suffix)
     shutil.copyfile(source, dest)
     store.open_upload(Manifest(id=cat_id, name=name, status="mapping", created=now(),

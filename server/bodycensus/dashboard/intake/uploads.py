@@ -21,11 +21,11 @@ from starlette.concurrency import run_in_threadpool
 from starlette.requests import ClientDisconnect, Request
 
 from bodycensus.errors import BadInput, TooLarge, storage_error
+from bodycensus.input.formats import catalogue_suffix, suffix_hint
+from bodycensus.input.readers import compression_hint
 from bodycensus.storage.store import Store
 
 FIELD = "file"
-FORMATS = (".csv", ".tsv", ".tab", ".txt", ".ndjson", ".jsonl", ".parquet", ".pq")
-COMPRESSIONS = ("", ".gz", ".gzip", ".zst", ".zstd")
 _FLUSH = 1 << 20
 _MAX_NAME = 120
 
@@ -55,14 +55,11 @@ def display_name(filename: str) -> str:
 
 def file_suffix(filename: str) -> str:
     """The supported suffix of ``filename`` (e.g. ``.csv.gz``); BadInput 415 otherwise."""
-    lower = filename.lower()
-    for fmt in FORMATS:
-        for comp in COMPRESSIONS:
-            if lower.endswith(fmt + comp):
-                return fmt + comp
-    raise BadInput(
-        f"'{display_name(filename)}' is not a supported file: name it .csv, .tsv, .ndjson, "
-        ".jsonl or .parquet (optionally .gz or .zst)", status=415)
+    suffix = catalogue_suffix(filename)
+    if suffix is None:
+        raise BadInput(f"'{display_name(filename)}' is not a supported file: name it "
+                       f"{suffix_hint()}", status=415)
+    return suffix
 
 
 class _Receiver:
@@ -220,5 +217,5 @@ def _boundary(request: Request) -> bytes:
 
 def _too_large(max_bytes: int) -> str:
     """The one-line reason for a refused upload."""
-    return (f"the upload is larger than the limit of {max_bytes:,} bytes; compress it (.gz or "
-            ".zst) or start the server with a larger max_upload_bytes")
+    return (f"the upload is larger than the limit of {max_bytes:,} bytes; compress it "
+            f"({compression_hint()}) or start the server with a larger max_upload_bytes")

@@ -25,6 +25,7 @@ from bodycensus.dashboard.screens.page_context import (
     mapping_context,
 )
 from bodycensus.dashboard.screens.viewstate import SEVERITIES, SORT_KEYS, ViewState
+from bodycensus.input.formats import accepted
 from bodycensus.science.families import FAMILIES
 from bodycensus.storage.store import Manifest, SavedView, Store
 
@@ -55,7 +56,7 @@ def catalogues_page(request: Request, store: StoreDep) -> HTMLResponse:
     """Catalogues: every catalogue in the data directory, and the upload box."""
     catalogues = [m.to_json() for m in store.list()]
     return _render(request, "catalogues.html", screen="catalogues", catalogues=catalogues,
-                   json_url="/api/catalogues")
+                   json_url="/api/catalogues", accepted=accepted())
 
 
 def overview_context(store: Store, manifest: Manifest) -> dict[str, Any]:
