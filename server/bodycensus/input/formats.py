@@ -31,6 +31,7 @@ from bodycensus.input.readers import (
     compression_hint,
     compression_suffixes,
     csv_fault,
+    delimiter_fault,
     encoding_fault,
     first_line,
     head,
@@ -140,7 +141,7 @@ class DelimitedText:
         delimiter = self.delimiter or sniff_delimiter(lines[0])
         header = next(csv.reader(lines[:1], delimiter=delimiter))
         checked = lines[: rows + 1]
-        fault = header_fault(header, lines[0]) or csv_fault(
+        fault = self._header_fault(header, lines[0]) or csv_fault(
             checked, delimiter, complete and len(checked) == len(lines))
         if fault is not None:
             raise IngestError(f"{name}: {fault}")
@@ -155,10 +156,15 @@ class DelimitedText:
         lines = head_lines(data, complete)
         delimiter = (self.delimiter or sniff_delimiter(lines[0])) if lines else None
         if fault is None and delimiter is not None:
-            fault = header_fault(next(csv.reader(lines[:1], delimiter=delimiter)), lines[0])
+            fault = self._header_fault(next(csv.reader(lines[:1], delimiter=delimiter)), lines[0])
         if fault is not None:
             raise IngestError(f"{name}: {fault}")
         return Layout(delimiter)
+
+    def _header_fault(self, columns: list[str], line: str) -> str | None:
+        """A header that is data, repeats a name or is split by a delimiter we do not read."""
+        fixed = delimiter_fault(columns, line, self.delimiter) if self.delimiter else None
+        return header_fault(columns, line) or fixed
 
     def scan(self, plain: Path, layout: Layout) -> pl.LazyFrame:
         """Every column as a string, undecodable bytes replaced."""

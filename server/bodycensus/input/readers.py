@@ -34,6 +34,7 @@ if TYPE_CHECKING:
 CHUNK = 1 << 20
 HEAD_BYTES = 2 << 20  # what the first look and the text checks read of a file
 DELIMITERS = (",", "\t", ";")
+_DELIMITER_WORDS = {",": "commas", "\t": "tabs", ";": "semicolons"}
 _ODD_SEPARATORS = ("|", ":", "  ", "^", "~")
 _UNREADABLE = ("binary data, UTF-16 text or a JSON array cannot be read; export it as UTF-8 "
                "CSV/TSV, NDJSON (one object per line) or Parquet")
@@ -276,6 +277,9 @@ def encoding_fault(data: bytes, complete: bool) -> str | None:
 
 def header_fault(columns: list[str], line: str) -> str | None:
     """A header that is data, uses an unsupported delimiter, or names a column twice."""
+    if line.lstrip().startswith("{"):
+        return ("line 1 is a JSON object, not a header; give a file of one JSON object per line "
+                "an .ndjson name")
     named = [c.strip() for c in columns if c.strip()]
     numbers = sum(_is_number(c) for c in named)
     if named and numbers >= max(1, len(named) // 3):
@@ -292,6 +296,16 @@ def header_fault(columns: list[str], line: str) -> str | None:
                     f"{number}); rename or drop one")
         seen[name] = number
     return None
+
+
+def delimiter_fault(columns: list[str], line: str, delimiter: str) -> str | None:
+    """A one-column header, in a format whose delimiter is fixed, split by another delimiter."""
+    other = next((d for d in DELIMITERS if d != delimiter and d in line), None)
+    if len(columns) != 1 or other is None:
+        return None
+    return (f"line 1 is one column split by {_DELIMITER_WORDS[other]}, not "
+            f"{_DELIMITER_WORDS[delimiter]}; separate the columns by {_DELIMITER_WORDS[delimiter]} "
+            "or give the file a .csv name")
 
 
 def _is_number(text: str) -> bool:
