@@ -3,10 +3,10 @@
 A record (``InputFormat``) says what people call a format, which suffixes and first bytes mark
 it, and which reader reads it; a reader gives a head for the mapping step (``sniff``), checks a
 file's start and scans it lazily for the ingest, and locates a fault when polars refuses it.
-Sniffing, ingest, the upload box, the command line and the demo discovery iterate ``FORMATS``,
-so adding a format is one record there (plus a reader when none of these fits). Compressions
-have their own registry in ``readers`` (``COMPRESSIONS``). Modelled on astropy's ``io.registry``
-(a reader and an identifier per format), kept to the three things ingest needs.
+Sniffing, ingest, the upload box, the catalogues page, the command line and the demo discovery
+iterate ``FORMATS``, so adding a format is one record there (plus a reader when none of these
+fits). Compressions have their own registry in ``readers`` (``COMPRESSIONS``). Modelled on
+astropy's ``io.registry``: a reader and an identifier per format.
 
     InputFormat(name, title, suffixes, reader, recognise=None, units=None)
     Reader: kind, head(), prepare(), scan(), fault()  ->  DelimitedText | NdjsonText | ParquetFile
@@ -97,7 +97,8 @@ class Reader(Protocol):
 class InputFormat:
     """One input format: its name, what people call it, its suffixes (lower case, the first
     one suggested), how its first bytes are recognised when its name says nothing, its reader,
-    and the units its own metadata gives each column (VOTable, FITS; None when it has none)."""
+    and the units its own metadata gives each column (VOTable, FITS; None when it has none;
+    no format here has any yet, and the mapping does not read them yet)."""
 
     name: str
     title: str
