@@ -104,6 +104,17 @@ def test_diagram_pages_embed_figures_with_reference_lines(site: tuple[SyncClient
     assert f"/api/catalogues/{site[1]}/aggregates" in _hrefs(page)
 
 
+def test_diagram_page_lists_each_flagged_body_it_draws_as_a_link(
+        site: tuple[SyncClient, str]) -> None:
+    page = _get(site, f"/catalogues/{site[1]}/diagrams?diagram=roche")
+    drawn = {b for t in _figure(page)["data"] if t.get("meta") == "flagged"
+             for b in t["customdata"]}
+    assert "moon-0" in drawn  # inside the rigid Roche limit in the engine output
+    table = page.split('id="drawn-table"', 1)[1].split("</table>", 1)[0]
+    assert {h.rsplit("/", 1)[1] for h in _hrefs(table)} == drawn
+    assert 'href="#drawn"' in page  # the caption links the table
+
+
 def test_distribution_choice_lives_in_the_url(site: tuple[SyncClient, str]) -> None:
     page = _get(site, f"/catalogues/{site[1]}/diagrams?diagram=distributions&field=radius"
                       "&label=Gas+giant")

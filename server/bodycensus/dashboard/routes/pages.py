@@ -16,6 +16,7 @@ from fastapi.templating import Jinja2Templates
 
 from bodycensus.dashboard.deps import StoreDep
 from bodycensus.dashboard.screens import queries, report
+from bodycensus.dashboard.screens.figure_text import drawn_marks
 from bodycensus.dashboard.screens.page_context import (
     DIAGRAMS,
     artefact_rows,
@@ -151,6 +152,7 @@ def diagrams_context(store: Store, cat_id: str, state: ViewState) -> dict[str, A
     cat_dir = store.ready_dir(cat_id)
     context = diagram_context(cat_id, queries.aggregates(cat_dir), state, cat_url)
     return {**context, "screen": "diagrams", "catalogue": store.get(cat_id).to_json(),
+            "drawn": drawn_marks(context["figure"]),
             "query": state.to_query(), "default_query": f"diagram={context['diagram']}",
             "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/aggregates"}
 

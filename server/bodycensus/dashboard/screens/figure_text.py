@@ -1,0 +1,53 @@
+"""The text twin of a drawn figure: one row per marker a mouse could hover or click (flagged
+bodies, artefact spikes), with the marker's hover text as plain text, so a keyboard or a screen
+reader reaches each of them (WCAG 2.1 success criteria 1.1.1 and 2.1.1).
+
+Reads the figure dict the page draws (``meta``, ``customdata`` and ``hovertext`` of its traces,
+see ``diagrams.plots``), so the table lists exactly what the plot shows.
+"""
+
+from __future__ import annotations
+
+import html
+import re
+from typing import Any
+
+from bodycensus.science.rules.base import SEVERITIES
+
+MARKED = ("flagged", "artefact")
+_TAG = re.compile(r"<[^>]*>")
+
+
+def plain_text(markup: str) -> str:
+    """One line of plotly hover markup as text: tags go, entities are decoded (catalogue text in
+    it was escaped, so only the figure's own tags are removed)."""
+    return html.unescape(_TAG.sub("", markup)).strip()
+
+
+def _severity(trace: dict[str, Any]) -> str | None:
+    """A flagged trace's severity, from its legend name (``"impossible (12)"``)."""
+    word = str(trace.get("name") or "").split(" ", 1)[0]
+    return word if trace.get("meta") == "flagged" and word in SEVERITIES else None
+
+
+def drawn_marks(figure: dict[str, Any]) -> list[dict[str, Any]]:
+    """Each marked point of ``figure`` once: severity, body id (None for an artefact) and what its
+    hover says besides the id; a body drawn in two panels is listed once."""
+    rows: list[dict[str, Any]] = []
+    seen: set[str] = set()
+    for trace in figure.get("data") or []:
+        if trace.get("meta") not in MARKED:
+            continue
+        hovers = list(trace.get("hovertext") or [])
+        bodies = list(trace.get("customdata") or []) if trace["meta"] == "flagged" else []
+        for i, hover in enumerate(hovers):
+            body = bodies[i] if i < len(bodies) else None
+            if body is not None and body in seen:
+                continue
+            parts = [plain_text(p) for p in str(hover).split("<br>")]
+            if body is not None:
+                seen.add(body)
+                parts = parts[1:] if parts and parts[0] == str(body) else parts
+            rows.append({"severity": _severity(trace), "body": body,
+                         "text": " · ".join(p for p in parts if p)})
+    return rows
