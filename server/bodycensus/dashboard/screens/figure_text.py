@@ -1,6 +1,5 @@
-"""The text twin of a drawn figure: one row per marker a mouse could hover or click (flagged
-bodies, artefact spikes), with the marker's hover text as plain text, so a keyboard or a screen
-reader reaches each of them (WCAG 2.1 success criteria 1.1.1 and 2.1.1).
+"""The text twin of a drawn figure: one row per marked point (a flagged body, an artefact spike)
+with its hover text, so a keyboard or a screen reader reaches every marker (WCAG 1.1.1, 2.1.1).
 
 Reads the figure dict the page draws (``meta``, ``customdata`` and ``hovertext`` of its traces,
 see ``diagrams.plots``), so the table lists exactly what the plot shows.
