@@ -93,6 +93,10 @@ def test_real_server_upload_and_limit(tmp_path: Path) -> None:
         assert (done["status"], done["rows"]) == ("ready", len(catalogue_rows(300)))
         page = client.get(f"/api/catalogues/{done['id']}/findings", params={"limit": 2}).json()
         assert page["total"] > 2 and len(page["items"]) == 2
+        # publish renames the output into catalogues/ (ready) and then drops incoming/<id>
+        deadline = time.monotonic() + 10
+        while (data_dir / "incoming" / done["id"]).exists() and time.monotonic() < deadline:
+            time.sleep(0.05)
         before = data_entries(data_dir)
 
         def chunks() -> Iterator[bytes]:  # no content-length: the limit must hold mid-stream
