@@ -8,20 +8,21 @@ from __future__ import annotations
 
 import csv
 import io
+import json
+import shutil
 from pathlib import Path
 
 import polars as pl
 import pytest
-from hypothesis import given
-from hypothesis import strategies as st
 from polars.testing import assert_frame_equal
 from web_support import FORMULA_LABEL, write_catalogue
 
-from bodycensus.dashboard.screens import queries
+from bodycensus.dashboard.screens import queries, shapes
 from bodycensus.dashboard.screens.viewstate import ViewState
+from bodycensus.diagrams.aggregates import VERSION
 from bodycensus.engines.local import check_file
-from bodycensus.errors import BadInput, NotFound
-from bodycensus.science.rules.base import SEVERITIES
+from bodycensus.errors import NotFound
+from bodycensus.science.severity import SEVERITIES
 from bodycensus.science.units import M_EARTH
 
 
@@ -40,45 +41,6 @@ def checked(tmp_path_factory: pytest.TempPathFactory) -> Path:
 @pytest.fixture(scope="module")
 def findings(checked: Path) -> pl.DataFrame:
     return pl.read_parquet(checked / "findings.parquet")
-
-
-# --- ViewState: one parser, one builder ----------------------------------------------------
-
-
-def test_a_link_round_trips() -> None:
-    link = ("severity=error&severity=impossible&label=Ice%2C+dirty&label=%3Cb%3E&min_value=0.5"
-            "&max_margin=1e-05&sort=-margin&limit=20&offset=40&diagram=roche&body=moon%2F3")
-    state = ViewState.from_query(link)
-    assert state.severity == ("error", "impossible") and state.label == ("Ice, dirty", "<b>")
-    assert (state.min_value, state.max_margin, state.body) == (0.5, 1e-05, "moon/3")
-    assert ViewState.from_query(state.to_query()) == state
-    assert state.to_query() == link
-
-
-def test_defaults_and_blanks_stay_out_of_links() -> None:
-    assert ViewState.from_query("severity=&rule=&sort=severity&limit=50&offset=0") == ViewState()
-    assert ViewState().to_query() == ""
-    assert ViewState().with_(offset=50).to_query() == "offset=50"
-
-
-@given(st.builds(
-    ViewState,
-    severity=st.lists(st.sampled_from(SEVERITIES), unique=True).map(tuple),
-    label=st.lists(st.text(min_size=1, max_size=20), unique=True, max_size=4).map(tuple),
-    min_value=st.none() | st.floats(allow_nan=False, allow_infinity=False),
-    offset=st.integers(0, 10**6),
-    sort=st.sampled_from(["severity", "-margin", "rule", "-value"]),
-))
-def test_any_state_round_trips(state: ViewState) -> None:
-    assert ViewState.from_query(state.to_query()) == state
-
-
-@pytest.mark.parametrize("query", ["severity=fatal", "limit=0", "limit=5000", "offset=-1",
-                                   "min_value=nan", "max_margin=inf", "min_value=abc",
-                                   "sort=drop+table", "diagram=%3Cscript%3E", "rule=" + "x" * 300])
-def test_bad_values_are_bad_input(query: str) -> None:
-    with pytest.raises(BadInput):
-        ViewState.from_query(query)
 
 
 # --- findings ------------------------------------------------------------------------------
@@ -189,3 +151,35 @@ def test_body_without_a_parent_has_an_empty_system_around_it(checked: Path) -> N
     root = star["parent"]["id"]
     system = queries.body_detail(checked, root, None)["system"]
     assert system["parent"] is None and system["siblings"] == []
+
+
+# --- shapes and stored aggregates ------------------------------------------------------------
+
+
+def test_results_have_the_keys_their_shapes_declare(checked: Path) -> None:
+    page = queries.findings_page(checked, ViewState(limit=1))
+    assert set(page) == set(shapes.FindingsPage.__annotations__)
+    assert set(page["items"][0]) == set(shapes.Finding.__annotations__)
+    body = queries.body_detail(checked, "moon-0", None)
+    assert set(body) == set(shapes.BodyDetail.__annotations__)
+    assert set(body["fields"][0]) == set(shapes.FieldRow.__annotations__)
+    assert set(body["system"]["parent"]) <= set(shapes.Relative.__annotations__)
+    overview = queries.overview(checked, {"id": "x"})
+    assert set(overview) == set(shapes.Overview.__annotations__)
+    assert set(overview["catalogue"]) == set(shapes.CatalogueBrief.__annotations__)
+    systems = queries.systems_page(checked, ViewState(limit=1))
+    assert set(systems["items"][0]) == set(shapes.SystemRow.__annotations__)
+
+
+def test_aggregates_of_an_older_version_are_counted_again(checked: Path, tmp_path: Path) -> None:
+    # a catalogue stored before diagrams had one registry: its aggregates.json is rewritten in
+    # the current shape, with the orbit settings it records (here a 10 % Kepler tolerance)
+    cat = Path(shutil.copytree(checked, tmp_path / "cat"))
+    (cat / "aggregates.json").write_text(json.dumps(
+        {"rows": 1, "mass_radius": None, "orbit_settings": {"kepler_tolerance": 0.1}}))
+    fresh = queries.aggregates(cat)
+    assert fresh["version"] == VERSION and fresh["rows"] > 1
+    kepler = fresh["diagrams"]["orbits"]["kepler"]
+    assert {line["at"] for line in kepler["lines"]} == {0.0, -10.0, 10.0}
+    assert json.loads((cat / "aggregates.json").read_text())["version"] == VERSION
+    assert queries.aggregates(cat) == json.loads(json.dumps(fresh))  # now read as stored

@@ -17,7 +17,7 @@ from bodycensus.science.families import FAMILIES
 from bodycensus.science.physics import bodies, orbits
 from bodycensus.science.physics.orbits import kepler_period
 from bodycensus.science.rules import RULE_IDS, all_rules
-from bodycensus.science.rules.base import SEVERITIES
+from bodycensus.science.severity import SEVERITIES
 from bodycensus.science.units import AU, M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
 
 EXPECTED_IDS = set(ISSUE_RULE_IDS)

@@ -23,7 +23,7 @@ from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.dashboard.settings import Settings
 from bodycensus.diagrams.aggregates import compute_aggregates
 from bodycensus.errors import NotFound
-from bodycensus.science.rules.base import SEVERITIES
+from bodycensus.science.severity import SEVERITIES
 from bodycensus.science.units import AU, M_EARTH
 from bodycensus.storage.store import Manifest, Store, now, write_json_atomic
 

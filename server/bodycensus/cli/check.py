@@ -20,7 +20,7 @@ from bodycensus.engines.local import CheckOptions, CheckResult, check_file
 from bodycensus.input.formats import accepted
 from bodycensus.input.schema import parse_assignment
 from bodycensus.science.families import parse_family_override
-from bodycensus.science.rules.base import SEVERITIES, SEVERITY_RANK
+from bodycensus.science.severity import SEVERITIES, SEVERITY_RANK, rank_expr
 from bodycensus.storage.csvsafe import neutralise_formulas
 
 FOUND_AT_FAIL_LEVEL = 1
@@ -103,8 +103,7 @@ def _exit_code(result: CheckResult, fail_on: str | None) -> int:
 
 
 def _sorted_findings(findings: pl.DataFrame) -> pl.DataFrame:
-    rank = pl.col("severity").replace_strict(SEVERITY_RANK, return_dtype=pl.Int64)
-    return findings.sort(rank, pl.col("margin").abs(), pl.col("_row"),
+    return findings.sort(rank_expr(), pl.col("margin").abs(), pl.col("_row"),
                          descending=[False, True, False], nulls_last=True)
 
 

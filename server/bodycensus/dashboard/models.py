@@ -165,3 +165,13 @@ class Overview(BaseModel):
     summary: dict[str, Any]
     coverage: list[dict[str, Any]]
     artefacts: list[dict[str, Any]]
+
+
+class DiagramOut(BaseModel):
+    """A diagram of the registry: its key (``diagram=`` in a view's address, and its place in
+    the aggregates), title, caption and the rules whose findings it draws on top."""
+
+    key: str = Field(examples=["roche"])
+    title: str
+    caption: str
+    rules: list[str]

@@ -11,7 +11,9 @@ from dataclasses import dataclass
 
 import polars as pl
 
-SERIOUS = ("error", "impossible")
+from bodycensus.science.severity import at_or_above
+
+SERIOUS = at_or_above("impossible")
 
 
 @dataclass(frozen=True)

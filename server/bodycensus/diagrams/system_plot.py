@@ -9,10 +9,14 @@ a linear scale and on a radial log scale (for systems that span decades).
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from typing import Any
 
 from bodycensus.diagrams.plots import ACCENT, SEVERITY_STYLE, text
+from bodycensus.diagrams.shapes import Figure
+from bodycensus.science.physics.orbits import periapsis
+
+Detail = Mapping[str, Any]  # a body detail as the API returns it (queries.body_detail)
 
 Transform = Callable[[float], float]
 _STEPS = 120
@@ -36,10 +40,20 @@ def _round(value: float) -> float:
     return float(f"{value:.4g}")
 
 
+def _drawn_eccentricity(e: float) -> float:
+    """The eccentricity drawn: within [0, 0.99], so every orbit stays a closed ellipse."""
+    return min(max(e, 0.0), 0.99)
+
+
 def _orbit_radius(a: float, e: float) -> Callable[[float], float]:
     """Distance from the focus along an ellipse: a (1 - e^2) / (1 + e cos theta)."""
-    e = min(max(e, 0.0), 0.99)
+    e = _drawn_eccentricity(e)
     return lambda theta: a * (1 - e * e) / (1 + e * math.cos(theta))
+
+
+def _circle(r: float) -> Callable[[float], float]:
+    """A circle about the parent: the same distance in every direction."""
+    return lambda _theta: r
 
 
 def _around(cx: float, r: float, f: Transform) -> tuple[list[float], list[float]]:
@@ -66,14 +80,14 @@ def _path(name: str, xy: tuple[list[float], list[float]], colour: str, fill: str
     return trace
 
 
-def _value(detail: dict[str, Any], name: str) -> float | None:
+def _value(detail: Detail, name: str) -> float | None:
     """A field or derived quantity of the body (SI), or None."""
     fields = {f["field"]: f["value"] for f in detail.get("fields", [])}
     value = detail.get("derived", {}).get(name, fields.get(name))
     return float(value) if isinstance(value, int | float) and math.isfinite(value) else None
 
 
-def _traces(detail: dict[str, Any], f: Transform, radius: float) -> list[dict[str, Any]]:
+def _traces(detail: Detail, f: Transform, radius: float) -> list[dict[str, Any]]:
     """Every outline of the drawing, mapped through ``f``."""
     system = detail.get("system") or {}
     parent = system.get("parent") or {}
@@ -82,11 +96,11 @@ def _traces(detail: dict[str, Any], f: Transform, radius: float) -> list[dict[st
             ("fluid Roche zone", "roche_fluid", "#d35400", "rgba(211,84,0,0.10)"),
             ("rigid Roche zone", "roche_rigid", "#c0392b", "rgba(192,57,43,0.18)")):
         if (r := _value(detail, key)) is not None:
-            traces.append(_path(name, _polar(lambda _t, r=r: r, f), line, fill))
-    traces.append(_path(f"parent {text(parent.get('id'))}", _polar(lambda _t: radius, f),
+            traces.append(_path(name, _polar(_circle(r), f), line, fill))
+    traces.append(_path(f"parent {text(parent.get('id'))}", _polar(_circle(radius), f),
                         "#555555", "rgba(120,120,120,0.35)", meta="parent"))
     if (r := _value(detail, "parent_hill_radius")) is not None:
-        traces.append(_path("parent's Hill sphere", _polar(lambda _t, r=r: r, f), "#1b7837",
+        traces.append(_path("parent's Hill sphere", _polar(_circle(r), f), "#1b7837",
                             dash="dash"))
     for sib in (system.get("siblings") or [])[:MAX_SIBLINGS]:
         if sib.get("semi_major_axis"):
@@ -97,7 +111,7 @@ def _traces(detail: dict[str, Any], f: Transform, radius: float) -> list[dict[st
     return traces
 
 
-def _body_traces(detail: dict[str, Any], f: Transform) -> list[dict[str, Any]]:
+def _body_traces(detail: Detail, f: Transform) -> list[dict[str, Any]]:
     """The body's orbit, its position at periapsis and its own Hill sphere."""
     a, e = _value(detail, "semi_major_axis"), _value(detail, "eccentricity") or 0.0
     if a is None:
@@ -106,7 +120,7 @@ def _body_traces(detail: dict[str, Any], f: Transform) -> list[dict[str, Any]]:
     colour = SEVERITY_STYLE[worst][0] if worst in SEVERITY_STYLE else ACCENT
     traces = [_path(f"orbit of {text(detail['id'])}", _polar(_orbit_radius(a, e), f), colour,
                     meta="orbit")]
-    peri = a * (1 - min(max(e, 0.0), 0.99))
+    peri = float(periapsis(a, _drawn_eccentricity(e)))
     if (hill := _value(detail, "hill_radius")) is not None:
         traces.append(_path("its Hill sphere", _around(peri, hill, f), colour, dash="dot"))
     traces.append({"type": "scatter", "mode": "markers",
@@ -116,7 +130,7 @@ def _body_traces(detail: dict[str, Any], f: Transform) -> list[dict[str, Any]]:
     return traces
 
 
-def system_figures(detail: dict[str, Any]) -> tuple[dict[str, dict[str, Any]], str, str]:
+def system_figures(detail: Detail) -> tuple[dict[str, Figure], str, str]:
     """Linear and log drawings of the body's system, which one to show first, and a caption."""
     parent = (detail.get("system") or {}).get("parent") or {}
     radius = _value(detail, "parent_radius") or parent.get("radius")
@@ -134,8 +148,9 @@ def system_figures(detail: dict[str, Any]) -> tuple[dict[str, dict[str, Any]], s
     }
     titles = {"linear": "distance (parent radii)",
               "log": "1 + log<sub>10</sub>(distance / parent radius)"}
-    figures = {key: {"data": _traces(detail, f, radius), "layout": _layout(titles[key])}
-               for key, f in scales.items()}
+    figures: dict[str, Figure] = {
+        key: {"data": _traces(detail, f, radius), "layout": _layout(titles[key])}
+        for key, f in scales.items()}
     caption = ("Centred on the parent. Shaded: inside the rigid (darker) and fluid Roche limits "
                "for this body's density; dashed: the parent's Hill sphere; dotted: the body's "
                "Hill sphere; grey: sibling orbits. On the log scale distances are mapped "

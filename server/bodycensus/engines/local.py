@@ -19,24 +19,20 @@ from bodycensus.durable import fsync_path
 from bodycensus.engines.summary import build_summary
 from bodycensus.input.ingest import IngestLimits, IngestReport, ingest
 from bodycensus.science import artefacts as artefact_detector
+from bodycensus.science.artefacts import ARTEFACT_FIELDS
 from bodycensus.science.families import FAMILIES, family_mapping
 from bodycensus.science.rules import all_rules
-from bodycensus.science.rules.base import SEVERITY_RANK, coverage, evaluate
+from bodycensus.science.rules.base import coverage, evaluate
 from bodycensus.science.rules.context import derive
 from bodycensus.science.rules.graph import cycle_members
 from bodycensus.science.rules.orbit import OrbitSettings
+from bodycensus.science.severity import SEVERITY_RANK
 
 
 class Progress(Protocol):
     """Told each stage's start (fraction 0) and end (1), with the row count once it is known."""
 
     def __call__(self, stage: str, fraction: float, rows: int | None = None) -> None: ...
-
-# Fields the artefact detector scans: raw measurements and the derived ones a generator shapes.
-ARTEFACT_FIELDS: tuple[str, ...] = (
-    "mass", "radius", "semi_major_axis", "eccentricity", "period", "rotation_period", "age",
-    "temperature", "luminosity", "density", "gravity", "roche_y", "hill_ratio",
-)
 
 
 @dataclass(frozen=True)

@@ -7,7 +7,7 @@ from typing import Any
 import polars as pl
 
 from bodycensus.input.ingest import IngestReport
-from bodycensus.science.rules.base import SEVERITIES
+from bodycensus.science.severity import SEVERITIES
 
 
 def _counts(frame: pl.DataFrame | pl.LazyFrame, column: str) -> dict[str, int]:

@@ -33,6 +33,11 @@ METHODS: dict[str, str] = {
     "spike": "exact-value count against its neighbouring values; conditional Poisson test",
 }
 
+# Fields the engine scans: raw measurements and the derived ones a generator shapes.
+ARTEFACT_FIELDS: tuple[str, ...] = (
+    "mass", "radius", "semi_major_axis", "eccentricity", "period", "rotation_period", "age",
+    "temperature", "luminosity", "density", "gravity", "roche_y", "hill_ratio",
+)
 ARTEFACT_SCHEMA: dict[str, pl.DataType] = {
     "scope": pl.String(), "label": pl.String(), "field": pl.String(), "kind": pl.String(),
     "at": pl.Float64(), "low": pl.Float64(), "high": pl.Float64(), "observed": pl.Int64(),

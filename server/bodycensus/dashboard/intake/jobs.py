@@ -96,12 +96,12 @@ def describe_failure(err: BaseException) -> str:
 
 def run_check(store: Store, settings: Settings, cat_id: str, overrides: Overrides) -> Manifest:
     """Ingest, check and aggregate one uploaded catalogue, then publish it."""
-    progress = _Progress(store, cat_id)
+    progress, options = _Progress(store, cat_id), overrides.options(settings)
     work = store.workdir(cat_id)
-    result = check_file(store.source_path(cat_id), work, overrides.options(settings), progress)
+    result = check_file(store.source_path(cat_id), work, options, progress)
     rows = int(result.summary.get("rows", 0))
     progress("aggregates", 0.0)
-    write_json_atomic(work / "aggregates.json", compute_aggregates(work))
+    write_json_atomic(work / "aggregates.json", compute_aggregates(work, options.orbit_settings))
     report = result.report.to_json() if result.report is not None else None
     return store.publish(cat_id, rows=rows, summary=result.summary, mapping=report)
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
 from dataclasses import asdict
 from typing import Annotated, Any, Literal
 
@@ -17,6 +18,7 @@ from bodycensus.dashboard.models import (
     BodyOut,
     CatalogueList,
     CatalogueOut,
+    DiagramOut,
     ErrorOut,
     FindingsPage,
     MappingIn,
@@ -26,8 +28,9 @@ from bodycensus.dashboard.models import (
     ViewList,
     ViewOut,
 )
-from bodycensus.dashboard.screens import queries
+from bodycensus.dashboard.screens import queries, shapes
 from bodycensus.dashboard.screens.viewstate import MAX_LIMIT, ViewState
+from bodycensus.diagrams import registry
 from bodycensus.errors import BadInput, Conflict
 from bodycensus.input.sniff import sniff
 from bodycensus.storage.store import Manifest, SavedView, Store, now
@@ -133,7 +136,7 @@ def list_findings(request: Request, cat_dir: ReadyDir,
                   max_value: float | None = None, min_margin: float | None = None,
                   max_margin: float | None = None, sort: str = "severity",
                   limit: Annotated[int, Query(ge=1, le=MAX_LIMIT)] = 50,
-                  offset: Annotated[int, Query(ge=0)] = 0) -> dict[str, Any]:
+                  offset: Annotated[int, Query(ge=0)] = 0) -> shapes.FindingsPage:
     """Findings filtered by severity (error, impossible, unstable, suspect, note), rule, label,
     family and value/margin ranges; sorted by ``sort`` (a column, '-' for descending); paginated
     by ``limit`` and ``offset``."""
@@ -168,25 +171,25 @@ def export_parquet(request: Request, cat_dir: ReadyDir, store: StoreDep) -> File
 
 @router.get("/catalogues/{catalogue_id}/bodies/{body_id:path}", response_model=BodyOut)
 def get_body(catalogue_id: str, body_id: str, cat_dir: ReadyDir, store: StoreDep
-             ) -> dict[str, Any]:
+             ) -> shapes.BodyDetail:
     """One body: fields in SI and as given, derived values, findings, parent/siblings/children."""
     return queries.body_detail(cat_dir, body_id, store.get(catalogue_id).mapping)
 
 
 @router.get("/catalogues/{catalogue_id}/overview", response_model=Overview)
-def get_overview(catalogue_id: str, cat_dir: ReadyDir, store: StoreDep) -> dict[str, Any]:
+def get_overview(catalogue_id: str, cat_dir: ReadyDir, store: StoreDep) -> shapes.Overview:
     """Summary counts, rule coverage and artefacts of a ready catalogue."""
     return queries.overview(cat_dir, store.get(catalogue_id).to_json())
 
 
 @router.get("/catalogues/{catalogue_id}/artefacts")
-def get_artefacts(cat_dir: ReadyDir) -> list[dict[str, Any]]:
+def get_artefacts(cat_dir: ReadyDir) -> Sequence[Mapping[str, Any]]:
     """Distribution artefacts: hard cutoffs, gaps and spikes, per label or family and field."""
     return queries.artefacts(cat_dir)
 
 
 @router.get("/catalogues/{catalogue_id}/coverage")
-def get_coverage(cat_dir: ReadyDir) -> list[dict[str, Any]]:
+def get_coverage(cat_dir: ReadyDir) -> Sequence[Mapping[str, Any]]:
     """Which rules ran on how many bodies, and why the others were skipped."""
     return queries.coverage(cat_dir)
 
@@ -194,16 +197,25 @@ def get_coverage(cat_dir: ReadyDir) -> list[dict[str, Any]]:
 @router.get("/catalogues/{catalogue_id}/systems")
 def list_systems(request: Request, cat_dir: ReadyDir, severity: FilterQuery = None,
                  limit: Annotated[int, Query(ge=1, le=MAX_LIMIT)] = 50,
-                 offset: Annotated[int, Query(ge=0)] = 0) -> dict[str, Any]:
+                 offset: Annotated[int, Query(ge=0)] = 0) -> Mapping[str, Any]:
     """Systems, most serious first: bodies, primary, findings per severity, worst severity and
     body; filtered by worst ``severity``; paginated by ``limit`` and ``offset``."""
     return queries.systems_page(cat_dir, _state(request))
 
 
 @router.get("/catalogues/{catalogue_id}/aggregates")
-def get_aggregates(cat_dir: ReadyDir) -> dict[str, Any]:
-    """Binned counts for every diagram (the browser never gets raw rows)."""
+def get_aggregates(cat_dir: ReadyDir) -> Mapping[str, Any]:
+    """Binned counts for the overview and, under ``diagrams``, for every diagram by its key
+    (the browser never gets raw rows)."""
     return queries.aggregates(cat_dir)
+
+
+@router.get("/diagrams", response_model=list[DiagramOut])
+def list_diagrams() -> list[DiagramOut]:
+    """Every diagram, in the chooser's order: its key (``diagram=`` in a view's address and its
+    place in the aggregates), title, caption and the rules whose findings it draws on top."""
+    return [DiagramOut(key=d.key, title=d.title, caption=d.caption, rules=list(d.rules))
+            for d in registry.DIAGRAMS]
 
 
 @router.post("/views", status_code=201, response_model=ViewOut)

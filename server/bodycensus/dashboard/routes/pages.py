@@ -18,16 +18,17 @@ from bodycensus.dashboard.deps import StoreDep
 from bodycensus.dashboard.screens import queries, report
 from bodycensus.dashboard.screens.figure_text import drawn_marks
 from bodycensus.dashboard.screens.page_context import (
-    DIAGRAMS,
     artefact_rows,
     body_extras,
     diagram_context,
+    diagram_links,
     format_number,
     mapping_context,
 )
-from bodycensus.dashboard.screens.viewstate import SEVERITIES, SORT_KEYS, ViewState
+from bodycensus.dashboard.screens.viewstate import SORT_KEYS, ViewState
 from bodycensus.input.formats import accepted
 from bodycensus.science.families import FAMILIES
+from bodycensus.science.severity import SEVERITIES
 from bodycensus.storage.store import Manifest, SavedView, Store
 
 TEMPLATES_DIR = Path(str(files("bodycensus.web") / "templates"))
@@ -92,9 +93,7 @@ def overview_context(store: Store, manifest: Manifest) -> dict[str, Any]:
         "coverage": overview["coverage"],
         "bad_cells": sorted((summary.get("bad_cells") or {}).items()),
         "artefacts": artefact_rows(cat_id, overview["artefacts"], cat_url),
-        "diagrams": [{"title": title, "href": cat_url(cat_id, "diagrams",
-                                                      state=ViewState(diagram=key))}
-                     for key, title in DIAGRAMS.items()],
+        "diagrams": diagram_links(cat_id, cat_url),
         "views": [{**v.__dict__, "url": v.url} for v in store.list_views(cat_id)],
     }
 
@@ -159,7 +158,7 @@ def diagrams_context(store: Store, cat_id: str, state: ViewState) -> dict[str, A
 
 @router.get("/catalogues/{catalogue_id}/diagrams", response_class=HTMLResponse)
 def diagrams_screen(request: Request, catalogue_id: str, store: StoreDep) -> HTMLResponse:
-    """A diagram chosen by ``diagram=`` (density, mass-radius, roche, orbits, distributions)."""
+    """A diagram chosen by ``diagram=`` (a key of the diagram registry; density by default)."""
     state = ViewState.from_query(request.query_params)
     return _render(request, "diagrams.html", **diagrams_context(store, catalogue_id, state))
 
@@ -258,7 +257,7 @@ def system_screen(request: Request, catalogue_id: str, system: str,
                   store: StoreDep) -> HTMLResponse:
     """One system: its bodies as an indented tree, each with its worst severity."""
     detail = queries.system_detail(store.ready_dir(catalogue_id), system)
-    for row in detail["bodies"]:
-        row["href"] = cat_url(catalogue_id, "bodies", row["id"])
-    return _render(request, "system.html", screen="systems", system=detail,
+    bodies = [{**row, "href": cat_url(catalogue_id, "bodies", row["id"])}
+              for row in detail["bodies"]]
+    return _render(request, "system.html", screen="systems", system={**detail, "bodies": bodies},
                    catalogue=store.get(catalogue_id).to_json())

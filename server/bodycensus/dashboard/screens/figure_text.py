@@ -11,7 +11,7 @@ import html
 import re
 from typing import Any
 
-from bodycensus.science.rules.base import SEVERITIES
+from bodycensus.science.severity import SEVERITIES
 
 MARKED = ("flagged", "artefact")
 _TAG = re.compile(r"<[^>]*>")

@@ -8,39 +8,31 @@ routes.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
-from typing import Any
+from collections.abc import Callable, Mapping
+from typing import Any, cast
 
-from bodycensus.dashboard.screens.queries import MAX_RELATIVES
+from bodycensus.dashboard.screens.shapes import (
+    MAX_RELATIVES,
+    ArtefactRow,
+    BodyDetail,
+    BodyExtras,
+    DiagramContext,
+    DiagramLink,
+    MappingContext,
+    MappingRow,
+    RelativeRow,
+    SystemAround,
+    column_mapping,
+)
 from bodycensus.dashboard.screens.viewstate import ViewState
-from bodycensus.diagrams import plots
+from bodycensus.diagrams import registry
+from bodycensus.diagrams.shapes import Artefact, Choice
 from bodycensus.diagrams.system_plot import system_figures
 from bodycensus.input.schema import CANONICAL_FIELDS
 from bodycensus.science.families import FAMILIES
 from bodycensus.science.units import UNITS
 
 CatUrl = Callable[..., str]
-DIAGRAMS: dict[str, str] = {
-    "density": "Density", "mass-radius": "Mass and radius", "roche": "Roche plane",
-    "orbits": "Orbit margins", "distributions": "Distributions",
-}
-CAPTIONS: dict[str, str] = {
-    "density": "Bulk density of the bodies of one label; shaded: the plausible band of its "
-               "family at the label's median mass (composition curves of Seager et al. 2007, "
-               "cold H/He, stellar relations; factors in families.py).",
-    "mass-radius": "Bodies binned by mass and radius (log-log); lines: radius of a cold sphere "
-                   "of pure iron, rock (MgSiO3) and water ice (Seager et al. 2007 fits, up to "
-                   "20 Earth masses) and of cold hydrogen-helium.",
-    "roche": "x = (parent density / body density)^(1/3), y = periapsis / parent radius. Under "
-             "the rigid line y = 1.26 x (Shu 1982) or the fluid line y = 2.44 x (Roche 1849) "
-             "a body is inside that Roche limit; under y = 1 its orbit cuts the parent.",
-    "orbits": "Left: apoapsis over the parent's Hill radius, with the stable prograde limit "
-              "0.49 (Domingos, Winter & Yokoyama 2006). Right: how far each period is from "
-              "Kepler's third law, in per cent, with the 5 % tolerance of kepler-mismatch; "
-              "bodies beyond +-10 % sit at the ends.",
-    "distributions": "Histogram of a numeric field per label; artefacts found in it are marked: "
-                     "a line at a cutoff, a shaded band for a gap, a star for a spike.",
-}
 DERIVED_UNITS: dict[str, str] = {
     "density": "kg/m3", "gravity": "m/s2", "gravity_g0": "g0", "escape_speed": "m/s",
     "periapsis": "m", "apoapsis": "m", "parent_mass": "kg", "parent_radius": "m",
@@ -62,86 +54,88 @@ def format_number(value: Any) -> str:
     return str(value)
 
 
-def diagram_context(cat_id: str, aggs: dict[str, Any], state: ViewState,
-                    cat_url: CatUrl) -> dict[str, Any]:
-    """The chosen diagram's figure, its tabs and its label / field choices."""
-    diagram = state.diagram if state.diagram in DIAGRAMS else "density"
-    label = state.label[0] if state.label else None
-    fields = list((aggs.get("distributions") or {}).get("fields", {}))
-    field = state.field if state.field in fields else (fields[0] if fields else None)
-    labels: list[str] = []
-    if diagram == "density" and aggs.get("density"):
-        labels = [s["label"] for s in aggs["density"]["series"]]
-        label = label if label in labels else (labels[0] if labels else None)
-    elif diagram == "distributions" and field:
-        labels = [s["label"] for s in aggs["distributions"]["fields"][field]["series"]]
-        label = label if label in labels else None
+def diagram_links(cat_id: str, cat_url: CatUrl, current: str | None = None
+                  ) -> list[DiagramLink]:
+    """The chooser: every registered diagram, in order, with its address."""
+    return [{"key": d.key, "title": d.title, "current": d.key == current,
+             "href": cat_url(cat_id, "diagrams", state=ViewState(diagram=d.key))}
+            for d in registry.DIAGRAMS]
+
+
+def diagram_context(cat_id: str, aggs: Mapping[str, Any], state: ViewState,
+                    cat_url: CatUrl) -> DiagramContext:
+    """The chosen diagram's figure and caption, its label / field choices and the chooser."""
+    diagram = registry.get(state.diagram)
+    aggregate = registry.aggregate_of(aggs, diagram.key)
+    asked = Choice(label=state.label[0] if state.label else None, field=state.field)
+    shown = diagram.resolve(aggregate, asked)
     return {
-        "diagram": diagram, "diagram_title": DIAGRAMS[diagram], "caption": CAPTIONS[diagram],
-        "figure": plots.figure_for(aggs, diagram, label, field),
-        "label": label, "field": field, "label_choices": labels,
-        "field_choices": fields if diagram == "distributions" else [],
-        "diagrams": [{"title": title, "current": key == diagram,
-                      "href": cat_url(cat_id, "diagrams", state=ViewState(diagram=key))}
-                     for key, title in DIAGRAMS.items()],
+        "diagram": diagram.key, "diagram_title": diagram.title, "caption": diagram.caption,
+        "figure": diagram.figure(aggregate, shown.choice), "flags": bool(diagram.rules),
+        "label": shown.label, "field": shown.field, "all_labels": shown.all_labels,
+        "label_choices": list(shown.labels), "field_choices": list(shown.fields),
+        "diagrams": diagram_links(cat_id, cat_url, diagram.key),
     }
 
 
-def mapping_context(proposal: dict[str, Any]) -> dict[str, Any]:
+def mapping_context(proposal: dict[str, Any]) -> MappingContext:
     """The mapping step: each column with samples and its guessed field and unit."""
     choices = (proposal.get("mapping") or {}).get("choices", {})
     by_column = {c["column"]: c for c in choices.values()}
-    rows = [{"column": column, "samples": proposal.get("samples", {}).get(column, []),
-             "field": by_column.get(column, {}).get("field"),
-             "unit": by_column.get(column, {}).get("unit"),
-             "ambiguous": by_column.get(column, {}).get("ambiguous", False)}
-            for column in proposal.get("columns", [])]
+    rows: list[MappingRow] = [
+        {"column": column, "samples": proposal.get("samples", {}).get(column, []),
+         "field": by_column.get(column, {}).get("field"),
+         "unit": by_column.get(column, {}).get("unit"),
+         "ambiguous": by_column.get(column, {}).get("ambiguous", False)}
+        for column in proposal.get("columns", [])]
     return {"proposal": proposal, "mapping_rows": rows, "fields": CANONICAL_FIELDS,
             "units": list(UNITS), "families_all": FAMILIES,
             "label_families": sorted((proposal.get("families") or {}).items())}
 
 
-def artefact_rows(cat_id: str, artefacts: list[dict[str, Any]],
-                  cat_url: CatUrl) -> list[dict[str, Any]]:
+def artefact_rows(cat_id: str, artefacts: list[Artefact], cat_url: CatUrl
+                  ) -> list[ArtefactRow]:
     """Artefacts with where they are, in words, and a link to their distribution diagram."""
-    rows = []
+    rows: list[ArtefactRow] = []
     for a in artefacts:
         n = format_number
         where = (f"{n(a.get('low'))} – {n(a.get('high'))}" if a.get("kind") == "gap"
                  else f"at {n(a.get('at'))}")
-        label = (a.get("label"),) if a.get("scope") == "label" and a.get("label") else ()
-        state = ViewState(diagram="distributions", field=a.get("field"), label=label)
+        label = a.get("label")
+        state = ViewState(diagram="distributions", field=a.get("field"),
+                          label=(label,) if a.get("scope") == "label" and label else ())
         rows.append({**a, "where": where, "href": cat_url(cat_id, "diagrams", state=state)})
     return rows
 
 
-def _relatives(system: dict[str, Any]) -> list[dict[str, Any]]:
+def _relatives(system: SystemAround) -> list[RelativeRow]:
     """Parent, siblings and children of a body as table rows."""
-    rows = [{**system["parent"], "relation": "parent"}] if system.get("parent") else []
-    rows += [{**r, "relation": "sibling"} for r in system.get("siblings", [])]
-    rows += [{**r, "relation": "child"} for r in system.get("children", [])]
+    parent = system["parent"]
+    rows = [cast(RelativeRow, {**parent, "relation": "parent"})] if parent else []
+    rows += [cast(RelativeRow, {**r, "relation": "sibling"}) for r in system["siblings"]]
+    rows += [cast(RelativeRow, {**r, "relation": "child"}) for r in system["children"]]
     return rows
 
 
-def file_columns(detail: dict[str, Any], mapping: dict[str, Any] | None) -> dict[str, Any]:
+def file_columns(detail: BodyDetail, mapping: Mapping[str, Any] | None) -> dict[str, Any]:
     """The body's values in the file's own unmapped columns (not the engine's work columns)."""
-    unknown = set((mapping or {}).get("unknown_columns") or
-                  ((mapping or {}).get("mapping") or {}).get("unknown_columns") or [])
+    unknown = set(column_mapping(mapping).get("unknown_columns") or [])
     return {k: v for k, v in (detail.get("extra") or {}).items() if k in unknown}
 
 
-def body_extras(detail: dict[str, Any], mapping: dict[str, Any] | None) -> dict[str, Any]:
+def body_extras(detail: BodyDetail, mapping: Mapping[str, Any] | None) -> BodyExtras:
     """Body screen extras: name, label, worst severity, derived rows, relatives, drawings."""
     fields = {f["field"]: f["value"] for f in detail["fields"]}
     figures, default, caption = system_figures(detail)
-    system = detail.get("system") or {}
+    system: SystemAround = detail.get("system") or {"parent": None, "siblings": [],
+                                                      "children": []}
     return {
         "name": fields.get("name"), "label": fields.get("label"), "family": fields.get("family"),
         "worst": detail["findings"][0]["severity"] if detail["findings"] else None,
         "derived": [{"name": k, "value": v, "unit": DERIVED_UNITS.get(k, "")}
                     for k, v in detail["derived"].items()],
         "relatives": _relatives(system), "file_columns": file_columns(detail, mapping),
-        "relatives_capped": any(len(system.get(k) or []) >= MAX_RELATIVES
-                                for k in ("siblings", "children")),
+        "relatives_capped": max(len(system["siblings"]), len(system["children"]))
+                            >= MAX_RELATIVES,
         "system_figures": figures, "system_default": default, "system_caption": caption,
     }

@@ -8,33 +8,43 @@ anything is collected, so a catalogue of millions of rows answers a page in mill
 from __future__ import annotations
 
 import json
+from collections.abc import Mapping
 from pathlib import Path
-from typing import Any, Literal
+from typing import Any, Literal, cast
 
 import polars as pl
 
+from bodycensus.dashboard.screens.shapes import (
+    MAX_RELATIVES,
+    BodyDetail,
+    FieldRow,
+    FindingsPage,
+    Overview,
+    Relative,
+    SystemAround,
+    SystemDetail,
+    SystemsPage,
+    TreeRow,
+    column_mapping,
+)
 from bodycensus.dashboard.screens.viewstate import ViewState
+from bodycensus.diagrams.aggregates import VERSION, Aggregates, compute_aggregates
+from bodycensus.diagrams.shapes import Artefact, CoverageRow
 from bodycensus.errors import NotFound
 from bodycensus.input.schema import CANONICAL_FIELDS, ColumnChoice
-from bodycensus.science.rules.base import SEVERITIES
 from bodycensus.science.rules.context import DERIVED_COLUMNS, ENGINE_COLUMNS
+from bodycensus.science.rules.orbit import OrbitSettings
+from bodycensus.science.severity import SEVERITIES, name_expr, rank_expr
 from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT
 from bodycensus.storage.csvsafe import neutralise_formulas
-from bodycensus.storage.store import json_ready
+from bodycensus.storage.store import json_ready, write_json_atomic
 
 __all__ = ["ViewState", "aggregates", "artefacts", "body_detail", "coverage", "export_findings",
            "findings_page", "overview", "system_detail", "systems_page"]
 
-MAX_RELATIVES = 200  # siblings or children returned for the system drawing
 _SYSTEM_COLUMNS = ("id", "name", "label", "family", "parent", "mass", "radius",
                    "semi_major_axis", "eccentricity", "periapsis", "apoapsis", "roche_rigid",
                    "roche_fluid", "hill_radius")
-
-
-def _severity_rank() -> pl.Expr:
-    """0 for `error` … 4 for `note`, so sorting by it puts the most serious first."""
-    ranks = {name: rank for rank, name in enumerate(SEVERITIES)}
-    return pl.col("severity").replace_strict(ranks, default=len(SEVERITIES), return_dtype=pl.Int8)
 
 
 def _scan(cat_dir: Path, name: str) -> pl.LazyFrame:
@@ -63,12 +73,12 @@ def filtered_findings(cat_dir: Path, state: ViewState) -> pl.LazyFrame:
         lf = lf.filter(expr)
     key, descending = state.sort_key()
     if key == "severity":
-        return lf.sort([_severity_rank(), "margin", "body"], descending=[descending, True, False],
+        return lf.sort([rank_expr(), "margin", "body"], descending=[descending, True, False],
                        nulls_last=True)
     return lf.sort([key, "body"], descending=[descending, False], nulls_last=True)
 
 
-def findings_page(cat_dir: Path, state: ViewState) -> dict[str, Any]:
+def findings_page(cat_dir: Path, state: ViewState) -> FindingsPage:
     """One page of the filtered findings: ``{"total", "offset", "limit", "items"}``."""
     lf = filtered_findings(cat_dir, state)
     total = lf.select(pl.len()).collect().item()
@@ -88,15 +98,15 @@ def export_findings(cat_dir: Path, state: ViewState, fmt: Literal["csv", "parque
     return dest
 
 
-def _choices(mapping: dict[str, Any] | None) -> dict[str, ColumnChoice]:
-    """The ColumnChoice per field from a manifest's mapping (``IngestReport.to_json()``)."""
-    raw = ((mapping or {}).get("mapping") or mapping or {}).get("choices", {})
+def _choices(report: Mapping[str, Any] | None) -> dict[str, ColumnChoice]:
+    """The ColumnChoice per field of a manifest's ingest report."""
+    raw = column_mapping(report).get("choices", {})
     return {f: ColumnChoice(**c) for f, c in raw.items()}
 
 
-def _field_rows(row: dict[str, Any], choices: dict[str, ColumnChoice]) -> list[dict[str, Any]]:
+def _field_rows(row: dict[str, Any], choices: dict[str, ColumnChoice]) -> list[FieldRow]:
     """Each canonical field: SI value and unit, and the source column, unit and value."""
-    out = []
+    out: list[FieldRow] = []
     for name in CANONICAL_FIELDS:
         choice, value = choices.get(name), row.get(name)
         original = value
@@ -115,11 +125,11 @@ def _worst(cat_dir: Path, ids: list[str]) -> dict[str, str]:
     if not ids:
         return {}
     df = (_scan(cat_dir, "findings").filter(pl.col("body").is_in(ids))
-          .group_by("body").agg(pl.col("severity").sort_by(_severity_rank()).first()).collect())
+          .group_by("body").agg(pl.col("severity").sort_by(rank_expr()).first()).collect())
     return dict(zip(df["body"].to_list(), df["severity"].to_list(), strict=True))
 
 
-def _system(cat_dir: Path, body_id: str, parent: str | None) -> dict[str, Any]:
+def _system(cat_dir: Path, body_id: str, parent: str | None) -> SystemAround:
     """The parent, siblings and children of a body, each with its worst severity."""
     lf = _scan(cat_dir, "bodies")
     cols = [c for c in _SYSTEM_COLUMNS if c in lf.collect_schema()]
@@ -132,17 +142,15 @@ def _system(cat_dir: Path, body_id: str, parent: str | None) -> dict[str, Any]:
     if parent is not None:
         parent_df = found.filter(pl.col("id") == parent).head(1)
         siblings = found.filter(pl.col("parent") == parent).head(MAX_RELATIVES)
-    parts = {"parent": parent_df.to_dicts()[:1], "siblings": siblings.to_dicts(),
-             "children": children.to_dicts()}
-    worst = _worst(cat_dir, [r["id"] for rows in parts.values() for r in rows])
-    for rows in parts.values():
-        for r in rows:
-            r["worst"] = worst.get(r["id"])
-    return {"parent": (parts["parent"] or [None])[0], "siblings": parts["siblings"],
-            "children": parts["children"]}
+    parts = {"parent": parent_df, "siblings": siblings, "children": children}
+    worst = _worst(cat_dir, [i for frame in parts.values() for i in frame["id"].to_list()])
+    rows = {key: [cast(Relative, {**r, "worst": worst.get(r["id"])}) for r in frame.to_dicts()]
+            for key, frame in parts.items()}
+    return {"parent": rows["parent"][0] if rows["parent"] else None,
+            "siblings": rows["siblings"], "children": rows["children"]}
 
 
-def body_detail(cat_dir: Path, body_id: str, mapping: dict[str, Any] | None) -> dict[str, Any]:
+def body_detail(cat_dir: Path, body_id: str, mapping: Mapping[str, Any] | None) -> BodyDetail:
     """Everything about one body: fields (SI and original), derived values, findings, system."""
     rows = _scan(cat_dir, "bodies").filter(pl.col("id") == body_id).head(100).collect()
     if rows.height == 0:
@@ -153,7 +161,7 @@ def body_detail(cat_dir: Path, body_id: str, mapping: dict[str, Any] | None) -> 
     extra = {k: v for k, v in row.items()
              if k not in hidden and k not in DERIVED_COLUMNS and not k.startswith("_")}
     findings = (_scan(cat_dir, "findings").filter(pl.col("body") == body_id)
-                .sort(_severity_rank(), pl.col("margin"), descending=[False, True],
+                .sort(rank_expr(), pl.col("margin"), descending=[False, True],
                       nulls_last=True).collect().to_dicts())
     return json_ready({
         "id": body_id, "row": row.get("_row"), "bad": row.get("_bad"),
@@ -163,13 +171,12 @@ def body_detail(cat_dir: Path, body_id: str, mapping: dict[str, Any] | None) -> 
     })
 
 
-
-def coverage(cat_dir: Path) -> list[dict[str, Any]]:
+def coverage(cat_dir: Path) -> list[CoverageRow]:
     """The rule coverage table: which rules ran on how many bodies, and why others were skipped."""
     return json_ready(_scan(cat_dir, "coverage").collect().to_dicts())
 
 
-def artefacts(cat_dir: Path) -> list[dict[str, Any]]:
+def artefacts(cat_dir: Path) -> list[Artefact]:
     """The distribution artefacts found (cutoffs, gaps, spikes), strongest evidence first."""
     lf = _scan(cat_dir, "artefacts")
     if "p_value" in lf.collect_schema():
@@ -177,19 +184,31 @@ def artefacts(cat_dir: Path) -> list[dict[str, Any]]:
     return json_ready(lf.collect().to_dicts())
 
 
-def aggregates(cat_dir: Path) -> dict[str, Any]:
-    """The precomputed binned counts for every diagram (``aggregates.json``)."""
+def aggregates(cat_dir: Path) -> Aggregates:
+    """The precomputed binned counts for the overview and every diagram (``aggregates.json``);
+    counted afresh from the catalogue's Parquet files, with the orbit settings they record, when
+    an older version wrote them."""
     path = cat_dir / "aggregates.json"
     if not path.is_file():
         raise NotFound("this catalogue has no aggregates; upload it again")
-    return json.loads(path.read_text(encoding="utf-8"))
+    stored = json.loads(path.read_text(encoding="utf-8"))
+    if stored.get("version") == VERSION:
+        return cast(Aggregates, stored)
+    recorded = stored.get("orbit_settings") or {}
+    settings = OrbitSettings(**{k: v for k, v in recorded.items()
+                                if k in OrbitSettings.__dataclass_fields__})
+    fresh = compute_aggregates(cat_dir, settings)
+    write_json_atomic(path, fresh)
+    return fresh
 
 
-def overview(cat_dir: Path, manifest: dict[str, Any]) -> dict[str, Any]:
+def overview(cat_dir: Path, manifest: Mapping[str, Any]) -> Overview:
     """The catalogue's overview: summary counts, rule coverage, artefacts and ingest problems."""
     found = artefacts(cat_dir)
     return {
-        "catalogue": {k: manifest.get(k) for k in ("id", "name", "rows", "created", "status")},
+        "catalogue": {"id": manifest.get("id"), "name": manifest.get("name"),
+                      "rows": manifest.get("rows"), "created": manifest.get("created"),
+                      "status": manifest.get("status")},
         "summary": manifest.get("summary") or {},
         "coverage": coverage(cat_dir),
         "artefacts": found,
@@ -208,18 +227,12 @@ def _system_key(lf: pl.LazyFrame) -> pl.Expr:
 
 def _body_findings(cat_dir: Path) -> pl.LazyFrame:
     """Per body: number of findings, the rank of its worst, and a count per severity."""
-    return (_scan(cat_dir, "findings").with_columns(_rank=_severity_rank()).group_by("body")
+    return (_scan(cat_dir, "findings").with_columns(_rank=rank_expr()).group_by("body")
             .agg(pl.len().alias("findings"), pl.col("_rank").min(),
                  *[(pl.col("severity") == s).sum().alias(s) for s in SEVERITIES]))
 
 
-def _rank_to_severity(column: str) -> pl.Expr:
-    """A severity rank back to its name (null when no finding)."""
-    return pl.col(column).replace_strict(dict(enumerate(SEVERITIES)), default=None,
-                                         return_dtype=pl.String)
-
-
-def systems_page(cat_dir: Path, state: ViewState) -> dict[str, Any]:
+def systems_page(cat_dir: Path, state: ViewState) -> SystemsPage:
     """One page of the systems, most serious first: ``{"total", "offset", "limit", "items"}``.
 
     Each item: system, bodies, primary (the heaviest parentless body), findings, a count per
@@ -237,7 +250,7 @@ def systems_page(cat_dir: Path, state: ViewState) -> dict[str, Any]:
                pl.col("_rank").min(),
                pl.col("id").sort_by(["_rank", "findings"], descending=[False, True],
                                     nulls_last=True).first().alias("worst_body"))
-          .with_columns(worst=_rank_to_severity("_rank"))
+          .with_columns(worst=name_expr("_rank"))
           .with_columns(pl.when(pl.col("worst").is_null()).then(None)
                         .otherwise(pl.col("worst_body")).alias("worst_body")))
     if state.severity:
@@ -253,7 +266,7 @@ def systems_page(cat_dir: Path, state: ViewState) -> dict[str, Any]:
             "items": json_ready(items)}
 
 
-def system_detail(cat_dir: Path, system: str) -> dict[str, Any]:
+def system_detail(cat_dir: Path, system: str) -> SystemDetail:
     """A system's bodies in depth-first tree order (each with depth and child ids), capped.
 
     Roots are bodies whose parent is blank or outside the system; bodies caught in a parent
@@ -269,7 +282,7 @@ def system_detail(cat_dir: Path, system: str) -> dict[str, Any]:
     rows = (members.select(cols).head(MAX_SYSTEM_BODIES)
             .join(_body_findings(cat_dir).select("body", "findings", "_rank"), left_on="id",
                   right_on="body", how="left")
-            .with_columns(worst=_rank_to_severity("_rank"), findings=pl.col("findings")
+            .with_columns(worst=name_expr("_rank"), findings=pl.col("findings")
                           .fill_null(0))
             .drop("_rank").sort(["semi_major_axis", "id"], nulls_last=True).collect())
     ordered = _tree_order(json_ready(rows.to_dicts()))
@@ -277,7 +290,7 @@ def system_detail(cat_dir: Path, system: str) -> dict[str, Any]:
             "capped": total > MAX_SYSTEM_BODIES, "bodies": ordered}
 
 
-def _tree_order(rows: list[dict[str, Any]]) -> list[dict[str, Any]]:
+def _tree_order(rows: list[dict[str, Any]]) -> list[TreeRow]:
     """Rows in depth-first order with ``depth`` and ``children`` (ids); no recursion."""
     ids = {r["id"] for r in rows}
     children: dict[str, list[dict[str, Any]]] = {}
@@ -285,7 +298,8 @@ def _tree_order(rows: list[dict[str, Any]]) -> list[dict[str, Any]]:
         if r.get("parent") in ids and r["parent"] != r["id"]:
             children.setdefault(r["parent"], []).append(r)
     starts = [r for r in rows if r.get("parent") not in ids or r["parent"] == r["id"]] + rows
-    out, seen = [], set()
+    out: list[TreeRow] = []
+    seen: set[int] = set()
     for start in starts:
         stack = [(start, 0)]
         while stack:
@@ -294,6 +308,7 @@ def _tree_order(rows: list[dict[str, Any]]) -> list[dict[str, Any]]:
                 continue
             seen.add(id(row))
             kids = children.get(row["id"], [])
-            out.append({**row, "depth": depth, "children": [k["id"] for k in kids]})
+            out.append(cast(TreeRow, {**row, "depth": depth,
+                                       "children": [k["id"] for k in kids]}))
             stack.extend((k, depth + 1) for k in reversed(kids))
     return out

@@ -6,15 +6,26 @@ JSON, so it can be mailed or archived and still shows interactive plots offline.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from datetime import UTC, datetime
 from importlib.resources import files
-from typing import Any
+from typing import Any, TypedDict
 
 from jinja2 import Environment
 
-from bodycensus.dashboard.screens.page_context import CAPTIONS, DIAGRAMS
+from bodycensus.dashboard.screens.shapes import FindingsPage
 from bodycensus.dashboard.screens.viewstate import ViewState
-from bodycensus.diagrams import plots
+from bodycensus.diagrams import registry
+from bodycensus.diagrams.shapes import Choice, Figure
+
+
+class ReportFigure(TypedDict):
+    """A diagram of the report: its key, title, caption and figure."""
+
+    key: str
+    title: str
+    caption: str
+    figure: Figure
 
 
 def plotly_source() -> str:
@@ -27,17 +38,24 @@ def stylesheet() -> str:
     return (files("bodycensus.web") / "static" / "app.css").read_text(encoding="utf-8")
 
 
-def figures_for_view(aggs: dict[str, Any], state: ViewState) -> list[dict[str, Any]]:
-    """The view's diagram, or every diagram when the view names none, with titles and captions."""
-    chosen = [state.diagram] if state.diagram in DIAGRAMS else list(DIAGRAMS)
-    label = state.label[0] if state.label else None
-    return [{"key": key, "title": DIAGRAMS[key], "caption": CAPTIONS[key],
-             "figure": plots.figure_for(aggs, key, label, state.field)} for key in chosen]
+def figures_for_view(aggs: Mapping[str, Any], state: ViewState) -> list[ReportFigure]:
+    """The view's diagram, or every diagram when the view names none, with titles and captions;
+    each shows the view's label and field where it offers them."""
+    chosen = ([registry.get(state.diagram)] if state.diagram in registry.KEYS
+              else registry.DIAGRAMS)
+    asked = Choice(label=state.label[0] if state.label else None, field=state.field)
+    figures: list[ReportFigure] = []
+    for diagram in chosen:
+        aggregate = registry.aggregate_of(aggs, diagram.key)
+        shown = diagram.resolve(aggregate, asked).choice
+        figures.append({"key": diagram.key, "title": diagram.title, "caption": diagram.caption,
+                        "figure": diagram.figure(aggregate, shown)})
+    return figures
 
 
-def build_report(env: Environment, catalogue: dict[str, Any], state: ViewState,
-                 aggs: dict[str, Any], figures: list[dict[str, Any]],
-                 findings: dict[str, Any]) -> str:
+def build_report(env: Environment, catalogue: Mapping[str, Any], state: ViewState,
+                 aggs: Mapping[str, Any], figures: list[ReportFigure],
+                 findings: FindingsPage) -> str:
     """The report's HTML: summary counts, the view's filters, its figures and findings."""
     template = env.get_template("report.html")
     return template.render(

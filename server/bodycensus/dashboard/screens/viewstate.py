@@ -15,7 +15,7 @@ from typing import Any
 from urllib.parse import parse_qsl, urlencode
 
 from bodycensus.errors import BadInput
-from bodycensus.science.rules.base import SEVERITIES
+from bodycensus.science.severity import SEVERITIES
 
 SORT_KEYS: tuple[str, ...] = ("severity", "rule", "body", "label", "family", "value", "limit",
                               "margin", "_row")
@@ -24,7 +24,6 @@ _MAX_TEXT = 200
 _MAX_VALUES = 200
 _LISTS = ("severity", "rule", "label", "family")
 _FLOATS = ("min_value", "max_value", "min_margin", "max_margin")
-_TEXTS = ("diagram", "field", "body")
 _DIAGRAM = re.compile(r"^[a-z0-9_-]{1,64}$")
 
 
@@ -43,7 +42,7 @@ class ViewState:
     sort: str = "severity"  # a findings column; a leading '-' sorts descending
     limit: int = 50
     offset: int = 0
-    diagram: str | None = None  # the diagram shown, e.g. "roche" (the front end names them)
+    diagram: str | None = None  # the diagram shown: a key of diagrams.registry, e.g. "roche"
     field: str | None = None  # the field of the distribution diagram
     body: str | None = None  # the selected body
 
@@ -90,7 +89,7 @@ def _pairs(query: str | Mapping[str, Any] | Any) -> Iterable[tuple[str, str]]:
         return parse_qsl(query.lstrip("?"), keep_blank_values=True)
     if hasattr(query, "multi_items"):
         return query.multi_items()
-    out = []
+    out: list[tuple[str, str]] = []
     for key, value in query.items():
         seq = value if isinstance(value, list | tuple) else [value]
         out.extend((key, str(v)) for v in seq if v is not None)

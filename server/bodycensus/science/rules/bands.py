@@ -7,9 +7,13 @@ reported as a likely unit slip, never silently rescaled.
 
 from __future__ import annotations
 
+import math
+from typing import overload
+
+import numpy as np
 import polars as pl
 
-from bodycensus.science.families import FAMILY_PARAMETERS
+from bodycensus.science.families import FAMILY_PARAMETERS, DensityBand
 from bodycensus.science.physics import bodies
 from bodycensus.science.physics._ops import Num
 from bodycensus.science.units import M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
@@ -29,15 +33,38 @@ def curve_density(curve: str, mass: Num) -> Num:
     return curves[curve](mass)
 
 
+@overload
+def band_edge(band: DensityBand, side: str, mass: float) -> float: ...
+@overload
+def band_edge(band: DensityBand, side: str, mass: pl.Expr) -> pl.Expr: ...
+def band_edge(band: DensityBand, side: str, mass: float | pl.Expr) -> float | pl.Expr:
+    """The ``low`` or ``high`` plausible density (kg m-3) of a family band at ``mass`` (a float
+    or an expression); a "const" curve's factor is the density itself."""
+    curve, factor = ((band.low_curve, band.low_factor) if side == "low"
+                     else (band.high_curve, band.high_factor))
+    if isinstance(mass, pl.Expr):
+        return pl.lit(factor) if curve == "const" else factor * curve_density(curve, mass)
+    return factor if curve == "const" else factor * float(curve_density(curve, mass))
+
+
+def band_density(band: DensityBand, mass: float | None) -> tuple[float, float] | None:
+    """The (low, high) plausible density (kg m-3) of a family band at one ``mass``; None where
+    the band needs a mass and has none, or a curve is past its validity (as in the table)."""
+    needs_mass = band.low_curve != "const" or band.high_curve != "const"
+    if needs_mass and (mass is None or not mass > 0):
+        return None
+    with np.errstate(divide="ignore", invalid="ignore"):
+        low, high = (float(band_edge(band, side, mass or 0.0)) for side in ("low", "high"))
+    return (low, high) if math.isfinite(low) and math.isfinite(high) else None
+
+
 def _band_edge(side: str) -> pl.Expr:
     expr: pl.Expr | None = None
     for family, params in FAMILY_PARAMETERS.items():
         band = params.density_band
         if band is None:
             continue
-        curve, factor = ((band.low_curve, band.low_factor) if side == "low"
-                         else (band.high_curve, band.high_factor))
-        edge = pl.lit(factor) if curve == "const" else factor * curve_density(curve, _MASS)
+        edge = band_edge(band, side, _MASS)
         condition = pl.col("family") == family
         expr = pl.when(condition).then(edge) if expr is None else expr.when(condition).then(edge)
     assert expr is not None

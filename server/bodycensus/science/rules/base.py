@@ -12,9 +12,6 @@ from dataclasses import dataclass
 
 import polars as pl
 
-SEVERITIES: tuple[str, ...] = ("error", "impossible", "unstable", "suspect", "note")
-SEVERITY_RANK: dict[str, int] = {name: rank for rank, name in enumerate(SEVERITIES)}
-
 FINDING_SCHEMA: dict[str, pl.DataType] = {
     "body": pl.String(), "rule": pl.String(), "severity": pl.String(), "value": pl.Float64(),
     "limit": pl.Float64(), "unit": pl.String(), "margin": pl.Float64(), "message": pl.String(),

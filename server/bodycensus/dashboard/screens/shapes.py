@@ -1,0 +1,242 @@
+"""The shapes of what the screens' data functions return and the pages render: the seams from
+``queries`` and ``page_context`` to the routes, as TypedDicts of plain JSON-ready data.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any, TypedDict
+
+from bodycensus.diagrams.shapes import Artefact, CoverageRow, Figure
+
+
+class Finding(TypedDict):
+    """A finding as findings.parquet holds it (the contract in DEVELOPERS.md)."""
+
+    body: str
+    rule: str
+    severity: str
+    value: float | None
+    limit: float | None
+    unit: str | None
+    margin: float | None
+    message: str | None
+    source: str | None
+    label: str | None
+    family: str | None
+    _row: int | None
+
+
+class FindingsPage(TypedDict):
+    """One page of the filtered findings."""
+
+    total: int
+    offset: int
+    limit: int
+    items: list[Finding]
+
+
+class FieldRow(TypedDict):
+    """A canonical field of a body: its SI value and unit, and how the file gave it."""
+
+    field: str
+    value: Any
+    unit: str | None
+    column: str | None
+    original_unit: str | None
+    original: Any
+
+
+class Relative(TypedDict, total=False):
+    """A body next to another (parent, sibling or child): the columns the table has, and the
+    most serious severity found for it."""
+
+    id: str
+    name: str | None
+    label: str | None
+    family: str | None
+    parent: str | None
+    mass: float | None
+    radius: float | None
+    semi_major_axis: float | None
+    eccentricity: float | None
+    periapsis: float | None
+    apoapsis: float | None
+    roche_rigid: float | None
+    roche_fluid: float | None
+    hill_radius: float | None
+    worst: str | None
+
+
+MAX_RELATIVES = 200  # siblings or children a body detail lists, for the system drawing
+
+
+class SystemAround(TypedDict):
+    """A body's parent, siblings and children (at most ``MAX_RELATIVES`` of each)."""
+
+    parent: Relative | None
+    siblings: list[Relative]
+    children: list[Relative]
+
+
+class BodyDetail(TypedDict):
+    """Everything about one body: fields, derived values, the file's other columns, findings
+    (most serious first) and its system."""
+
+    id: str
+    row: int | None
+    bad: str | None
+    duplicates: int
+    fields: list[FieldRow]
+    derived: dict[str, Any]
+    extra: dict[str, Any]
+    findings: list[Finding]
+    system: SystemAround
+
+
+class CatalogueBrief(TypedDict):
+    """The catalogue an overview is about."""
+
+    id: str | None
+    name: str | None
+    rows: int | None
+    created: str | None
+    status: str | None
+
+
+class Overview(TypedDict):
+    """A catalogue's overview: its run's summary, rule coverage and artefacts."""
+
+    catalogue: CatalogueBrief
+    summary: dict[str, Any]
+    coverage: list[CoverageRow]
+    artefacts: list[Artefact]
+
+
+class SystemRow(TypedDict):
+    """One system of the systems list: its bodies, primary, findings and worst severity."""
+
+    system: str
+    bodies: int
+    primary: str | None
+    findings: int | None
+    worst: str | None
+    worst_body: str | None
+    counts: dict[str, int]
+
+
+class SystemsPage(TypedDict):
+    """One page of the systems, most serious first."""
+
+    total: int
+    offset: int
+    limit: int
+    items: list[SystemRow]
+
+
+class TreeRow(Relative, total=False):
+    """A body of a system's tree: its depth and its children's ids."""
+
+    findings: int
+    depth: int
+    children: list[str]
+
+
+class SystemDetail(TypedDict):
+    """A system's bodies in depth-first tree order, capped."""
+
+    system: str
+    total: int
+    shown: int
+    capped: bool
+    bodies: list[TreeRow]
+
+
+class DiagramLink(TypedDict):
+    """A diagram in the chooser."""
+
+    key: str
+    title: str
+    current: bool
+    href: str
+
+
+class DiagramContext(TypedDict):
+    """The Diagrams screen: the chosen diagram's figure, caption, choices and the chooser."""
+
+    diagram: str
+    diagram_title: str
+    caption: str
+    figure: Figure
+    flags: bool
+    label: str | None
+    field: str | None
+    all_labels: bool
+    label_choices: list[str]
+    field_choices: list[str]
+    diagrams: list[DiagramLink]
+
+
+class MappingRow(TypedDict):
+    """One column of the file in the mapping step: samples and its guessed field and unit."""
+
+    column: str
+    samples: list[Any]
+    field: str | None
+    unit: str | None
+    ambiguous: bool
+
+
+class MappingContext(TypedDict):
+    """The mapping step: the proposal, a row per column and the choices offered."""
+
+    proposal: dict[str, Any]
+    mapping_rows: list[MappingRow]
+    fields: tuple[str, ...]
+    units: list[str]
+    families_all: tuple[str, ...]
+    label_families: list[tuple[str, str]]
+
+
+class ArtefactRow(Artefact):
+    """An artefact with where it is in words and a link to its distribution diagram."""
+
+    where: str
+    href: str
+
+
+class RelativeRow(Relative, total=False):
+    """A relative in the Body screen's table: which relation it is."""
+
+    relation: str
+
+
+class DerivedRow(TypedDict):
+    """A derived quantity of a body with its unit."""
+
+    name: str
+    value: Any
+    unit: str
+
+
+class BodyExtras(TypedDict):
+    """The Body screen beyond the body detail: names, worst severity, derived rows, relatives
+    and the drawings of its system."""
+
+    name: Any
+    label: Any
+    family: Any
+    worst: str | None
+    derived: list[DerivedRow]
+    relatives: list[RelativeRow]
+    file_columns: dict[str, Any]
+    relatives_capped: bool
+    system_figures: dict[str, Figure]
+    system_default: str
+    system_caption: str
+
+
+def column_mapping(report: Mapping[str, Any] | None) -> Mapping[str, Any]:
+    """The column mapping (``choices``, ``unknown_columns``) of a manifest's ingest report
+    (``IngestReport.to_json()``); a bare mapping is taken as it is."""
+    return (report or {}).get("mapping") or report or {}
