@@ -87,6 +87,7 @@ def test_upload_reaches_the_overview(page: Page, catalogue: str, screenshots: Pa
     ("mass-radius", ["iron", "rock", "water ice", "cold H/He"], []),
     ("roche", ["rigid Roche limit", "fluid Roche limit", "parent surface"], []),
     ("orbits", ["Hill radius", "stable prograde limit", "Kepler's third law"], []),
+    ("tidal-locking", ["despinning time = age", "tidal-lock-age limit"], []),
     ("distributions", [], []),
 ])
 def test_each_diagram_draws_its_reference_lines(page: Page, base_url: str, catalogue: str,

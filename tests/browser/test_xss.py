@@ -136,7 +136,7 @@ def test_screens_show_markup_as_text(page: Page, guarded_url: str, catalogue: st
 
 
 @pytest.mark.parametrize("diagram", ["density", "mass-radius", "roche", "orbits",
-                                     "distributions"])
+                                     "tidal-locking", "distributions"])
 def test_every_diagram_keeps_markup_as_text(page: Page, guarded_url: str, catalogue: str,
                                             diagram: str) -> None:
     for label in ("", LABEL, "terrestrial world"):

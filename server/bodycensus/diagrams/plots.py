@@ -160,7 +160,7 @@ def proportional_lines(lines: Sequence[ProportionalLine], x0: float, x1: float) 
     out = []
     for i, ref in enumerate(lines):
         c = ref["coefficient"]
-        out.append(line(f"{ref['name']} (y = {c:.3g} x)", [x0, x1],
+        out.append(line(f"{ref['name']} (y = {'' if c == 1 else f'{c:.3g} '}x)", [x0, x1],
                         [math.log10(c) + x0, math.log10(c) + x1],
                         REFERENCE_COLOURS[i % len(REFERENCE_COLOURS)]))
     return out

@@ -40,7 +40,7 @@ def aggregate(run: Run) -> Pending[TidalAggregate] | None:
     factor = run.settings.lock_time_factor
     lines: list[ProportionalLine] = [
         {"name": "despinning time = age", "coefficient": 1.0},
-        {"name": f"tidal-lock-age limit ({factor:g} x age)", "coefficient": factor}]
+        {"name": "tidal-lock-age limit", "coefficient": factor}]
 
     def finish(frames: Sequence[pl.DataFrame]) -> TidalAggregate:
         return {"flagged": flagged_rows(frames[1]), "x_edges": x_edges, "y_edges": y_edges,

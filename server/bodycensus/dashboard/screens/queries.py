@@ -163,17 +163,17 @@ def body_detail(cat_dir: Path, body_id: str, mapping: Mapping[str, Any] | None) 
     findings = (_scan(cat_dir, "findings").filter(pl.col("body") == body_id)
                 .sort(rank_expr(), pl.col("margin"), descending=[False, True],
                       nulls_last=True).collect().to_dicts())
-    return json_ready({
+    return cast(BodyDetail, json_ready({
         "id": body_id, "row": row.get("_row"), "bad": row.get("_bad"),
         "duplicates": rows.height - 1, "fields": _field_rows(row, _choices(mapping)),
         "derived": derived, "extra": extra, "findings": findings,
         "system": _system(cat_dir, body_id, row.get("parent")),
-    })
+    }))
 
 
 def coverage(cat_dir: Path) -> list[CoverageRow]:
     """The rule coverage table: which rules ran on how many bodies, and why others were skipped."""
-    return json_ready(_scan(cat_dir, "coverage").collect().to_dicts())
+    return cast(list[CoverageRow], json_ready(_scan(cat_dir, "coverage").collect().to_dicts()))
 
 
 def artefacts(cat_dir: Path) -> list[Artefact]:
@@ -181,7 +181,7 @@ def artefacts(cat_dir: Path) -> list[Artefact]:
     lf = _scan(cat_dir, "artefacts")
     if "p_value" in lf.collect_schema():
         lf = lf.sort("p_value", nulls_last=True)
-    return json_ready(lf.collect().to_dicts())
+    return cast(list[Artefact], json_ready(lf.collect().to_dicts()))
 
 
 def aggregates(cat_dir: Path) -> Aggregates:

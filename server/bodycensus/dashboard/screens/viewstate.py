@@ -11,7 +11,7 @@ import math
 import re
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, fields, replace
-from typing import Any
+from typing import Any, cast
 from urllib.parse import parse_qsl, urlencode
 
 from bodycensus.errors import BadInput
@@ -87,8 +87,8 @@ def _pairs(query: str | Mapping[str, Any] | Any) -> Iterable[tuple[str, str]]:
     """(key, value) pairs from any of the accepted query forms."""
     if isinstance(query, str):
         return parse_qsl(query.lstrip("?"), keep_blank_values=True)
-    if hasattr(query, "multi_items"):
-        return query.multi_items()
+    if hasattr(query, "multi_items"):  # starlette's QueryParams
+        return cast(Iterable[tuple[str, str]], query.multi_items())
     out: list[tuple[str, str]] = []
     for key, value in query.items():
         seq = value if isinstance(value, list | tuple) else [value]
