@@ -20,13 +20,13 @@ from bodycensus.science.severity import SEVERITIES
 
 ACCENT = "#1d5f8a"
 # Colour AND marker shape per severity, so the two cues agree on screen and in greyscale print;
-# the colours are the --sev-* colours of web/static/app.css (a test holds them equal).
+# the colours are the badges' --sev-* of web/static/app.css (a test holds them equal).
 SEVERITY_STYLE: dict[str, tuple[str, str]] = {
     "error": ("#5e3c99", "x"),
     "impossible": ("#c0392b", "diamond"),
-    "unstable": ("#d35400", "triangle-up"),
-    "suspect": ("#8a7a00", "circle"),
-    "note": ("#2c7fb8", "square"),
+    "unstable": ("#c04c00", "triangle-up"),
+    "suspect": ("#807100", "circle"),
+    "note": ("#2976ac", "square"),
 }
 REFERENCE_COLOURS = ("#333333", "#b35806", "#1b7837", "#762a83", "#666666")
 Trace = dict[str, Any]

@@ -11,6 +11,8 @@ import html
 import re
 from typing import Any
 
+from bodycensus.dashboard.screens.shapes import DrawnMark
+from bodycensus.diagrams.shapes import Figure
 from bodycensus.science.severity import SEVERITIES
 
 MARKED = ("flagged", "artefact")
@@ -29,10 +31,10 @@ def _severity(trace: dict[str, Any]) -> str | None:
     return word if trace.get("meta") == "flagged" and word in SEVERITIES else None
 
 
-def drawn_marks(figure: dict[str, Any]) -> list[dict[str, Any]]:
+def drawn_marks(figure: Figure) -> list[DrawnMark]:
     """Each marked point of ``figure`` once: severity, body id (None for an artefact) and what its
     hover says besides the id; a body drawn in two panels is listed once."""
-    rows: list[dict[str, Any]] = []
+    rows: list[DrawnMark] = []
     seen: set[str] = set()
     for trace in figure.get("data") or []:
         if trace.get("meta") not in MARKED:

@@ -177,6 +177,15 @@ class DiagramContext(TypedDict):
     diagrams: list[DiagramLink]
 
 
+class DrawnMark(TypedDict):
+    """A marked point of a drawn figure, in words: its severity, its body (None for an
+    artefact) and what its hover says."""
+
+    severity: str | None
+    body: str | None
+    text: str
+
+
 class MappingRow(TypedDict):
     """One column of the file in the mapping step: samples and its guessed field and unit."""
 
