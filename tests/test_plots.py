@@ -18,19 +18,25 @@ from bodycensus.diagrams.shapes import Choice
 from bodycensus.science.severity import SEVERITIES
 
 
+def _figure(aggs: dict[str, Any], key: str, choice: Choice | None = None) -> Any:
+    """A registered diagram's figure from stored aggregates, as the Diagrams screen draws it."""
+    diagram = registry.get(key)
+    return diagram.figure(registry.aggregate_of(aggs, key), choice or Choice())
+
+
 def _meta(fig: Any, meta: str) -> list[dict[str, Any]]:
     return [t for t in fig["data"] if t.get("meta") == meta]
 
 
 @pytest.mark.parametrize("plot", registry.KEYS)
 def test_every_figure_is_valid_plotly_and_json(engine_aggs: dict[str, Any], plot: str) -> None:
-    fig = registry.figure_for(engine_aggs, plot)
+    fig = _figure(engine_aggs, plot)
     go.Figure(fig)  # plotly's own validation rejects unknown or malformed properties
     json.dumps(fig, allow_nan=False)
 
 
 def test_flagged_bodies_have_colour_and_shape_per_severity(engine_aggs: dict[str, Any]) -> None:
-    fig = registry.figure_for(engine_aggs, "density", Choice(label="Rocky world"))
+    fig = _figure(engine_aggs, "density", Choice(label="Rocky world"))
     flagged = _meta(fig, "flagged")
     by_name = {t["name"].split(" ")[0]: t for t in flagged}
     assert set(by_name) == {"impossible", "suspect"}
@@ -52,18 +58,18 @@ def test_every_severity_has_a_style_and_the_pages_colour() -> None:
 
 
 def test_hover_text_is_escaped(engine_aggs: dict[str, Any]) -> None:
-    fig = registry.figure_for(engine_aggs, "density", Choice(label=HOSTILE_LABEL))
+    fig = _figure(engine_aggs, "density", Choice(label=HOSTILE_LABEL))
     hover = _meta(fig, "flagged")[0]["hovertext"][0]
     assert "<img" not in hover and '&lt;img src=x onerror="alert(1)"&gt;' in hover
     assert "<img" not in fig["data"][0]["name"]
-    dist = registry.figure_for(engine_aggs, "distributions", Choice(field="mass"))
+    dist = _figure(engine_aggs, "distributions", Choice(field="mass"))
     assert all("<img" not in t["name"] for t in dist["data"])
 
 
 def test_empty_aggregates_give_a_sentence_not_an_error() -> None:
     empty: dict[str, Any] = {"diagrams": dict.fromkeys(registry.KEYS)}
     for plot in registry.KEYS:
-        fig = registry.figure_for(empty, plot)
+        fig = _figure(empty, plot)
         assert fig["data"] == [] and fig["layout"]["annotations"][0]["text"]
 
 
@@ -74,7 +80,7 @@ def test_figures_of_the_aggregates_file_shape(tmp_path: Path,
     path.write_text(json.dumps(engine_aggs))
     again = json.loads(path.read_text())
     for plot in registry.KEYS:
-        assert registry.figure_for(again, plot) == registry.figure_for(engine_aggs, plot)
+        assert _figure(again, plot) == _figure(engine_aggs, plot)
 
 
 def test_log_ticks_are_powers_of_ten_with_steps_on_narrow_axes() -> None:

@@ -84,10 +84,6 @@ class Run:
         return [label for label in self.labels["label"].head(LABEL_CAP).to_list()
                 if label is not None]
 
-    def has(self, *axes: Axis) -> bool:
-        """Whether the bodies table has the column of every axis."""
-        return all(axis.column in self.columns for axis in axes)
-
     def edges(self, axis: Axis, bins: int, references: Sequence[float] = ()) -> list[float]:
         """Equal bins over the axis's data range, widened to show ``references`` (reference
         lines) when there is data; [] when there is none."""

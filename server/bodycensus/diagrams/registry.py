@@ -13,7 +13,6 @@ from typing import Any
 
 from bodycensus.diagrams import density, distributions, mass_radius, orbits, roche, tidal
 from bodycensus.diagrams.base import Diagram
-from bodycensus.diagrams.shapes import Choice, Figure
 
 DIAGRAMS: tuple[Diagram[Any], ...] = (
     Diagram(
@@ -71,8 +70,3 @@ def aggregate_of(aggs: Mapping[str, Any], key: str) -> Any:
     """A diagram's aggregate from the stored aggregates (None when it has none)."""
     return (aggs.get("diagrams") or {}).get(key)
 
-
-def figure_for(aggs: Mapping[str, Any], key: str | None, choice: Choice | None = None) -> Figure:
-    """The figure of the diagram ``key`` (density when unknown) from the stored aggregates."""
-    diagram = get(key)
-    return diagram.figure(aggregate_of(aggs, diagram.key), choice or Choice())
