@@ -33,7 +33,10 @@ def _timed(job: Callable[[], object]) -> tuple[float, float]:
     return time.perf_counter() - started, _peak_mib()
 
 
-def _stage(name: str, workdir: str, queue: multiprocessing.Queue) -> None:
+Timing = tuple[float, float]  # seconds, peak MiB
+
+
+def _stage(name: str, workdir: str, queue: multiprocessing.Queue[Timing]) -> None:
     """Run one named stage in this (child) process and report (seconds, peak MiB)."""
     from bodycensus.engines.local import ARTEFACT_FIELDS, CheckOptions, check_table
     from bodycensus.input.ingest import ingest
@@ -58,9 +61,9 @@ def _stage(name: str, workdir: str, queue: multiprocessing.Queue) -> None:
     queue.put(_timed(jobs[name]))
 
 
-def _run_stage(name: str, workdir: Path) -> tuple[float, float]:
+def _run_stage(name: str, workdir: Path) -> Timing:
     context = multiprocessing.get_context("spawn")
-    queue = context.Queue()
+    queue: multiprocessing.Queue[Timing] = context.Queue()
     child = context.Process(target=_stage, args=(name, str(workdir), queue))
     child.start()
     child.join()

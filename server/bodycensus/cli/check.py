@@ -12,7 +12,7 @@ import sys
 import tempfile
 import time
 from pathlib import Path
-from typing import Any, TextIO
+from typing import TextIO, TypeAlias
 
 import polars as pl
 
@@ -22,12 +22,22 @@ from bodycensus.input.schema import parse_assignment
 from bodycensus.science.families import parse_family_override
 from bodycensus.science.severity import SEVERITIES, SEVERITY_RANK, rank_expr
 from bodycensus.storage.csvsafe import neutralise_formulas
+from bodycensus.storage.manifest import IngestRecord, ingest_record
 
 FOUND_AT_FAIL_LEVEL = 1
 PROGRESS_FILE_BYTES = 20 * 2**20  # files above this report progress on stderr by default
+Commands: TypeAlias = "argparse._SubParsersAction[argparse.ArgumentParser]"  # the subcommands
 
 
-def add_check_parser(commands: argparse._SubParsersAction) -> None:
+class CatalogueInfo(IngestRecord):
+    """The JSON document's ``catalogue``: the file, how it was read, the family of each label."""
+
+    file: str
+    name: str
+    label_families: dict[str, str]
+
+
+def add_check_parser(commands: Commands) -> None:
     """Register ``check`` and its options."""
     check = commands.add_parser(
         "check", help="check a catalogue file and print the findings",
@@ -117,13 +127,12 @@ def _print(result: CheckResult, args: argparse.Namespace, out: TextIO) -> None:
         out.write(table_text(result, args.file, findings, args.limit))
 
 
-def catalogue_info(result: CheckResult, source: Path) -> dict[str, Any]:
-    """What was read and how: file, format, mapping, families."""
-    info: dict[str, Any] = {"file": str(source), "name": source.name}
-    if result.report is not None:
-        info.update(result.report.to_json())
-    info["label_families"] = result.families
-    return info
+def catalogue_info(result: CheckResult, source: Path) -> CatalogueInfo:
+    """What was read and how: file, format, mapping, families (of a run from a file)."""
+    if result.report is None:
+        raise ValueError("catalogue_info needs a run from a file (check_file), not a table")
+    return {"file": str(source), "name": source.name, **ingest_record(result.report),
+            "label_families": result.families}
 
 
 def json_document(result: CheckResult, source: Path, findings: pl.DataFrame) -> str:

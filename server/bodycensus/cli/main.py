@@ -12,7 +12,7 @@ from collections.abc import Sequence
 from pathlib import Path
 
 from bodycensus import __version__
-from bodycensus.cli.check import add_check_parser, run_check
+from bodycensus.cli.check import Commands, add_check_parser, run_check
 from bodycensus.errors import BodycensusError
 from bodycensus.input.readers import compression_hint
 
@@ -20,7 +20,7 @@ BAD_INPUT = 2
 _INPUT_ERRORS = (BodycensusError, FileNotFoundError, IsADirectoryError, PermissionError)
 
 
-def _add_serve(commands: argparse._SubParsersAction) -> None:
+def _add_serve(commands: Commands) -> None:
     serve = commands.add_parser("serve", help="start the dashboard (local web server)",
                                 description="Start the dashboard on this machine.")
     serve.add_argument("--host", default="127.0.0.1",
@@ -48,7 +48,7 @@ def _add_serve(commands: argparse._SubParsersAction) -> None:
                         help="most columns in one catalogue (default 2000)")
 
 
-def _add_demo(commands: argparse._SubParsersAction) -> None:
+def _add_demo(commands: Commands) -> None:
     demo = commands.add_parser("demo", help="write the invented demo catalogue",
                                description="Write the invented demo catalogue with planted "
                                            "defects and a ground-truth file beside it.")
@@ -61,7 +61,7 @@ def _add_demo(commands: argparse._SubParsersAction) -> None:
                            "clean bodies called impossible")
 
 
-def _add_bench(commands: argparse._SubParsersAction) -> None:
+def _add_bench(commands: Commands) -> None:
     bench = commands.add_parser("bench", help="measure speed and memory against a baseline",
                                 description="Time ingest, rules and artefacts on a generated "
                                             "catalogue and print ratios against a plain polars "

@@ -11,13 +11,13 @@ import time
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Protocol
 
 import polars as pl
 
 from bodycensus.durable import fsync_path
 from bodycensus.engines.summary import build_summary
 from bodycensus.input.ingest import IngestLimits, IngestReport, ingest
+from bodycensus.progress import Progress, quiet
 from bodycensus.science import artefacts as artefact_detector
 from bodycensus.science.artefacts import ARTEFACT_FIELDS
 from bodycensus.science.families import FAMILIES, family_mapping
@@ -27,12 +27,7 @@ from bodycensus.science.rules.context import derive
 from bodycensus.science.rules.graph import cycle_members
 from bodycensus.science.rules.orbit import OrbitSettings
 from bodycensus.science.severity import SEVERITY_RANK
-
-
-class Progress(Protocol):
-    """Told each stage's start (fraction 0) and end (1), with the row count once it is known."""
-
-    def __call__(self, stage: str, fraction: float, rows: int | None = None) -> None: ...
+from bodycensus.storage.manifest import RunSummary
 
 
 @dataclass(frozen=True)
@@ -55,7 +50,7 @@ class CheckResult:
     artefacts: pl.DataFrame
     coverage: pl.DataFrame
     bodies: Path
-    summary: dict[str, Any]
+    summary: RunSummary
     report: IngestReport | None
     families: dict[str, str]
 
@@ -64,10 +59,6 @@ class CheckResult:
         if self.findings.height == 0:
             return None
         return min(SEVERITY_RANK[s] for s in self.findings["severity"].unique())
-
-
-def _noop(stage: str, fraction: float, rows: int | None = None) -> None:
-    """Progress sink used when the caller does not watch."""
 
 
 def with_families(table: pl.LazyFrame, overrides: Mapping[str, str]) -> tuple[pl.LazyFrame,
@@ -98,7 +89,7 @@ def check_table(table: pl.LazyFrame, workdir: Path, options: CheckOptions = Chec
                 progress: Progress | None = None, report: IngestReport | None = None
                 ) -> CheckResult:
     """Run every rule and the artefact detector over a normalised table; write the results."""
-    progress = progress or _noop
+    progress = progress or quiet
     workdir.mkdir(parents=True, exist_ok=True)
     table, families = with_families(table, options.family_overrides)
     progress("derive", 0.0)
@@ -124,7 +115,7 @@ def check_table(table: pl.LazyFrame, workdir: Path, options: CheckOptions = Chec
 def check_file(source: Path, workdir: Path, options: CheckOptions = CheckOptions(),
                progress: Progress | None = None) -> CheckResult:
     """Ingest ``source`` into ``workdir`` and check it; see ``check_table``."""
-    progress = progress or _noop
+    progress = progress or quiet
     workdir.mkdir(parents=True, exist_ok=True)
     normalised = workdir / "normalised.parquet"
     started = time.monotonic()

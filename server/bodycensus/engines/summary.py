@@ -2,12 +2,11 @@
 
 from __future__ import annotations
 
-from typing import Any
-
 import polars as pl
 
 from bodycensus.input.ingest import IngestReport
 from bodycensus.science.severity import SEVERITIES
+from bodycensus.storage.manifest import RunSummary
 
 
 def _counts(frame: pl.DataFrame | pl.LazyFrame, column: str) -> dict[str, int]:
@@ -19,7 +18,7 @@ def _counts(frame: pl.DataFrame | pl.LazyFrame, column: str) -> dict[str, int]:
 
 
 def build_summary(bodies: pl.LazyFrame, findings: pl.DataFrame, artefacts: pl.DataFrame,
-                  families: dict[str, str], report: IngestReport | None) -> dict[str, Any]:
+                  families: dict[str, str], report: IngestReport | None) -> RunSummary:
     """A JSON-ready summary of one run."""
     by_severity = _counts(findings, "severity") if findings.height else {}
     return {

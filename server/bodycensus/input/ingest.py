@@ -48,8 +48,8 @@ from bodycensus.input.schema import (
     describe_columns,
     guess_mapping,
 )
+from bodycensus.progress import Progress, quiet
 
-Progress = Callable[[str, int], None]
 _ROW, _PRESENT, _BAD = ROW_INDEX, "__bodycensus_present__", "__bodycensus_bad__"
 _TRUE, _FALSE = ["true", "yes", "y", "t", "1", "1.0"], ["false", "no", "n", "f", "0", "0.0"]
 
@@ -249,7 +249,7 @@ def ingest(source: Path, dest: Path, *, map_overrides: dict[str, str] | None = N
     ``progress(stage, count)`` is called for "decompress" (count = bytes written so far), "read"
     and "write" (count = rows so far)."""
     source, dest = Path(source), Path(dest)
-    notify = progress or (lambda stage, count: None)
+    notify = progress or quiet
     if not source.is_file():
         raise IngestError(f"{source}: no such file; check the path")
     dest.parent.mkdir(parents=True, exist_ok=True)

@@ -15,6 +15,7 @@ old or the new file, never half of one.
 
 from __future__ import annotations
 
+import builtins
 import json
 import math
 import os
@@ -25,15 +26,21 @@ import sqlite3
 import threading
 from collections.abc import Iterator
 from contextlib import closing, contextmanager, suppress
-from dataclasses import asdict, dataclass, field, replace
+from dataclasses import dataclass, replace
 from datetime import UTC, datetime
 from pathlib import Path
-from typing import Any, Literal
+from typing import Any, Unpack
 
 from bodycensus.durable import fsync_path
 from bodycensus.errors import Conflict, NotFound, StorageError, storage_error
+from bodycensus.storage.manifest import (
+    IngestRecord,
+    Manifest,
+    ManifestChanges,
+    RunSummary,
+    Status,
+)
 
-Status = Literal["mapping", "ingesting", "ready", "failed"]
 MANIFEST = "manifest.json"
 _ID = re.compile(r"^[A-Za-z0-9_-]{4,40}$")
 KILLED = "the server stopped during the ingest; upload the file again"
@@ -77,35 +84,6 @@ def write_json_atomic(path: Path, data: Any) -> None:
     finally:
         tmp.unlink(missing_ok=True)
     fsync_path(path.parent)
-
-
-@dataclass(frozen=True)
-class Manifest:
-    """What the store knows of one catalogue (``manifest.json``)."""
-
-    id: str
-    name: str
-    status: Status
-    created: str
-    source: str = ".csv"  # the upload's suffix, e.g. ".csv.gz"
-    progress: dict[str, Any] = field(default_factory=lambda: {"stage": "upload", "fraction": 0.0})
-    rows: int | None = None
-    error: str | None = None
-    mapping: dict[str, Any] | None = None  # applied mapping (or the proposal while `mapping`)
-    proposal: dict[str, Any] | None = None  # the mapping step: columns, samples, guesses
-    summary: dict[str, Any] | None = None
-    options: dict[str, Any] | None = None  # the overrides the run used (map, units, families)
-    demo: bool = False
-
-    def to_json(self) -> dict[str, Any]:
-        """A plain dict, as written to manifest.json."""
-        return asdict(self)
-
-    @classmethod
-    def from_json(cls, data: dict[str, Any]) -> Manifest:
-        """Read a manifest dict, ignoring keys this version does not know."""
-        known = {k: v for k, v in data.items() if k in cls.__dataclass_fields__}
-        return cls(**known)
 
 
 @dataclass(frozen=True)
@@ -187,14 +165,15 @@ class Store:
                     continue  # an upload still streaming, or a folder that is not ours
         return sorted(found, key=lambda m: (m.created, m.id), reverse=True)
 
-    def update(self, cat_id: str, **changes: Any) -> Manifest:
+    def update(self, cat_id: str, **changes: Unpack[ManifestChanges]) -> Manifest:
         """Change fields of a manifest that is still in ``incoming/`` and write it atomically."""
         with self._lock:
             manifest = replace(self.get(cat_id), **changes)
             self._write_manifest(self.incoming / cat_id / MANIFEST, manifest)
             return manifest
 
-    def claim(self, cat_id: str, expected: Status, **changes: Any) -> Manifest:
+    def claim(self, cat_id: str, expected: Status, **changes: Unpack[ManifestChanges]
+              ) -> Manifest:
         """Like ``update``, but only from status ``expected`` (Conflict otherwise), atomically."""
         with self._lock:
             manifest = self.get(cat_id)
@@ -217,11 +196,13 @@ class Store:
         work.mkdir(parents=True)
         return work
 
-    def publish(self, cat_id: str, **changes: Any) -> Manifest:
+    def publish(self, cat_id: str, rows: int, summary: RunSummary,
+                mapping: IngestRecord | None = None) -> Manifest:
         """Mark the catalogue ready and rename its work folder into ``catalogues/``."""
         with self._lock:
             manifest = replace(self.get(cat_id), status="ready", error=None, proposal=None,
-                               progress={"stage": "done", "fraction": 1.0}, **changes)
+                               progress={"stage": "done", "fraction": 1.0}, rows=rows,
+                               summary=summary, mapping=mapping)
             work = self.incoming / cat_id / "work"
             write_json_atomic(work / MANIFEST, manifest.to_json())
             os.replace(work, self.catalogues / cat_id)
@@ -347,7 +328,7 @@ class Store:
             raise NotFound(f"no saved view '{slug}'")
         return SavedView(*row)
 
-    def list_views(self, catalogue: str) -> list[SavedView]:
+    def list_views(self, catalogue: str) -> builtins.list[SavedView]:
         """The saved views of a catalogue, newest first."""
         with self._db() as conn:
             rows = conn.execute(

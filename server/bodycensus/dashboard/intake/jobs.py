@@ -13,7 +13,7 @@ import math
 import shutil
 import time
 from concurrent.futures import Future, ThreadPoolExecutor
-from dataclasses import asdict, dataclass, field
+from dataclasses import dataclass, field
 from pathlib import Path
 
 from bodycensus.dashboard.settings import Settings
@@ -24,7 +24,8 @@ from bodycensus.input.formats import catalogue_suffix
 from bodycensus.input.ingest import IngestLimits
 from bodycensus.input.schema import guess_mapping
 from bodycensus.science.families import FAMILIES
-from bodycensus.storage.store import Manifest, Store, now, write_json_atomic
+from bodycensus.storage.manifest import Manifest, OverridesRecord, ingest_record
+from bodycensus.storage.store import Store, now, write_json_atomic
 
 log = logging.getLogger(__name__)
 
@@ -56,6 +57,10 @@ class Overrides:
                                f"one of {', '.join(FAMILIES)}", 422)
         return self
 
+    def to_record(self) -> OverridesRecord:
+        """The overrides as the manifest keeps them."""
+        return {"map": dict(self.map), "units": dict(self.units), "families": dict(self.families)}
+
     def options(self, settings: Settings) -> CheckOptions:
         """The engine options for these overrides under the server's limits."""
         limits = IngestLimits(max_decompressed_bytes=settings.max_decompressed_bytes,
@@ -64,12 +69,12 @@ class Overrides:
                             family_overrides=self.families, limits=limits)
 
 
-class _Progress:
+class _ProgressRecorder:
     """The engine's progress callback: one fraction for the whole run, written now and then."""
 
     def __init__(self, store: Store, cat_id: str) -> None:
         self.store, self.cat_id = store, cat_id
-        self.last = (None, -1.0, 0.0)
+        self.last: tuple[str | None, float, float] = (None, -1.0, 0.0)  # stage, overall, time
 
     def __call__(self, stage: str, fraction: float, rows: int | None = None) -> None:
         start, end = STAGES.get(stage, (0.0, 1.0))
@@ -96,14 +101,14 @@ def describe_failure(err: BaseException) -> str:
 
 def run_check(store: Store, settings: Settings, cat_id: str, overrides: Overrides) -> Manifest:
     """Ingest, check and aggregate one uploaded catalogue, then publish it."""
-    progress, options = _Progress(store, cat_id), overrides.options(settings)
+    progress, options = _ProgressRecorder(store, cat_id), overrides.options(settings)
     work = store.workdir(cat_id)
     result = check_file(store.source_path(cat_id), work, options, progress)
-    rows = int(result.summary.get("rows", 0))
     progress("aggregates", 0.0)
     write_json_atomic(work / "aggregates.json", compute_aggregates(work, options.orbit_settings))
-    report = result.report.to_json() if result.report is not None else None
-    return store.publish(cat_id, rows=rows, summary=result.summary, mapping=report)
+    report = ingest_record(result.report) if result.report is not None else None
+    return store.publish(cat_id, rows=result.summary["rows"], summary=result.summary,
+                         mapping=report)
 
 
 class Jobs:
@@ -111,12 +116,12 @@ class Jobs:
 
     def __init__(self, store: Store, settings: Settings, executor: ThreadPoolExecutor) -> None:
         self.store, self.settings, self.executor = store, settings, executor
-        self.futures: dict[str, Future] = {}
+        self.futures: dict[str, Future[None]] = {}
 
     def start(self, cat_id: str, overrides: Overrides) -> Manifest:
         """Move the catalogue from ``mapping`` to ``ingesting`` and queue its run."""
         manifest = self.store.claim(cat_id, "mapping", status="ingesting", error=None,
-                                     options=asdict(overrides),
+                                     options=overrides.to_record(),
                                      progress={"stage": "queued", "fraction": 0.0})
         self.futures[cat_id] = self.executor.submit(self._run, cat_id, overrides)
         return manifest

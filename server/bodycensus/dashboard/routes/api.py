@@ -4,9 +4,10 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import asdict
+from pathlib import Path
 from typing import Annotated, Any, Literal
 
-from fastapi import APIRouter, Query, Request, Response
+from fastapi import APIRouter, Depends, Query, Request, Response
 from fastapi.responses import FileResponse
 from starlette.background import BackgroundTask
 from starlette.concurrency import run_in_threadpool
@@ -33,9 +34,10 @@ from bodycensus.dashboard.screens.viewstate import MAX_LIMIT, ViewState
 from bodycensus.diagrams import registry
 from bodycensus.errors import BadInput, Conflict
 from bodycensus.input.sniff import sniff
-from bodycensus.storage.store import Manifest, SavedView, Store, now
+from bodycensus.storage.manifest import Manifest, proposal_record
+from bodycensus.storage.store import SavedView, Store, now
 
-_ERRORS: dict[int | str, dict[str, Any]] = {
+_ERRORS: dict[int | str, dict[str, type[ErrorOut]]] = {
     code: {"model": ErrorOut} for code in (400, 404, 409, 413, 415, 421, 422, 507)
 }
 router = APIRouter(prefix="/api", tags=["api"], responses=_ERRORS)
@@ -68,7 +70,7 @@ async def _open_upload(store: Store, up: Upload, max_columns: int, auto: bool) -
         store.discard(up.id)
         raise
     manifest = Manifest(id=up.id, name=up.name, status="mapping", created=now(),
-                        source=up.suffix, proposal=found.to_json() if found else None)
+                        source=up.suffix, proposal=proposal_record(found) if found else None)
     return store.open_upload(manifest)
 
 
@@ -80,8 +82,7 @@ async def upload_catalogue(request: Request, store: StoreDep, jobs: JobsDep,
     unless the mapping is unsure (status ``mapping``); ``auto=1`` skips the mapping step."""
     up = await receive_upload(request, store, settings.max_upload_bytes)
     manifest = await _open_upload(store, up, settings.max_columns, auto)
-    proposal = manifest.proposal or {}
-    if auto or not proposal.get("reasons"):
+    if auto or not (manifest.proposal and manifest.proposal["reasons"]):
         manifest = await run_in_threadpool(jobs.start, up.id, Overrides())
     return UploadAccepted(id=up.id, status=manifest.status, url=f"/catalogues/{up.id}")
 
@@ -107,7 +108,7 @@ def confirm_mapping(catalogue_id: str, choice: MappingIn, store: StoreDep,
     if manifest.status != "mapping":
         raise Conflict(f"catalogue '{catalogue_id}' is {manifest.status}; only a catalogue in "
                        "status mapping takes a mapping")
-    columns = list((manifest.proposal or {}).get("columns", []))
+    columns = manifest.proposal["columns"] if manifest.proposal else []
     overrides = Overrides(choice.map, choice.units, choice.families)
     if columns:
         overrides = overrides.checked(columns)
@@ -129,21 +130,33 @@ def _state(request: Request) -> ViewState:
 FilterQuery = Annotated[list[str] | None, Query(description="repeat the key for several")]
 
 
+def findings_view(severity: FilterQuery = None, rule: FilterQuery = None,
+                  label: FilterQuery = None, family: FilterQuery = None,
+                  min_value: float | None = None, max_value: float | None = None,
+                  min_margin: float | None = None, max_margin: float | None = None,
+                  sort: str = "severity", limit: Annotated[int, Query(ge=1, le=MAX_LIMIT)] = 50,
+                  offset: Annotated[int, Query(ge=0)] = 0) -> ViewState:
+    """The findings list's query parameters (declared, so OpenAPI documents them), read by the
+    view state's one parser, which checks what the types alone do not (severities, sort keys,
+    finite numbers, lengths)."""
+    given = {"severity": severity, "rule": rule, "label": label, "family": family,
+             "min_value": min_value, "max_value": max_value, "min_margin": min_margin,
+             "max_margin": max_margin, "sort": sort, "limit": limit, "offset": offset}
+    return ViewState.from_query(given)
+
+
+FindingsView = Annotated[ViewState, Depends(findings_view)]
+
+
 @router.get("/catalogues/{catalogue_id}/findings", response_model=FindingsPage)
-def list_findings(request: Request, cat_dir: ReadyDir,
-                  severity: FilterQuery = None, rule: FilterQuery = None, label: FilterQuery = None,
-                  family: FilterQuery = None, min_value: float | None = None,
-                  max_value: float | None = None, min_margin: float | None = None,
-                  max_margin: float | None = None, sort: str = "severity",
-                  limit: Annotated[int, Query(ge=1, le=MAX_LIMIT)] = 50,
-                  offset: Annotated[int, Query(ge=0)] = 0) -> shapes.FindingsPage:
+def list_findings(cat_dir: ReadyDir, view: FindingsView) -> shapes.FindingsPage:
     """Findings filtered by severity (error, impossible, unstable, suspect, note), rule, label,
     family and value/margin ranges; sorted by ``sort`` (a column, '-' for descending); paginated
     by ``limit`` and ``offset``."""
-    return queries.findings_page(cat_dir, _state(request))
+    return queries.findings_page(cat_dir, view)
 
 
-def _export(request: Request, store: Store, cat_dir: Any, fmt: Literal["csv", "parquet"]
+def _export(request: Request, store: Store, cat_dir: Path, fmt: Literal["csv", "parquet"]
             ) -> FileResponse:
     """Write the filtered findings to a scratch file and send it, removing it afterwards."""
     dest = store.scratch(f".{fmt}")

@@ -29,7 +29,8 @@ from bodycensus.dashboard.screens.viewstate import SORT_KEYS, ViewState
 from bodycensus.input.formats import accepted
 from bodycensus.science.families import FAMILIES
 from bodycensus.science.severity import SEVERITIES
-from bodycensus.storage.store import Manifest, SavedView, Store
+from bodycensus.storage.manifest import Manifest
+from bodycensus.storage.store import SavedView, Store
 
 TEMPLATES_DIR = Path(str(files("bodycensus.web") / "templates"))
 templates = Jinja2Templates(directory=TEMPLATES_DIR)  # autoescape is on for every template

@@ -31,6 +31,7 @@ from bodycensus.diagrams.system_plot import system_figures
 from bodycensus.input.schema import CANONICAL_FIELDS
 from bodycensus.science.families import FAMILIES
 from bodycensus.science.units import UNITS
+from bodycensus.storage.manifest import ProposalRecord
 
 CatUrl = Callable[..., str]
 DERIVED_UNITS: dict[str, str] = {
@@ -78,19 +79,18 @@ def diagram_context(cat_id: str, aggs: Mapping[str, Any], state: ViewState,
     }
 
 
-def mapping_context(proposal: dict[str, Any]) -> MappingContext:
+def mapping_context(proposal: ProposalRecord) -> MappingContext:
     """The mapping step: each column with samples and its guessed field and unit."""
-    choices = (proposal.get("mapping") or {}).get("choices", {})
-    by_column = {c["column"]: c for c in choices.values()}
+    by_column = {c["column"]: c for c in proposal["mapping"]["choices"].values()}
     rows: list[MappingRow] = [
-        {"column": column, "samples": proposal.get("samples", {}).get(column, []),
-         "field": by_column.get(column, {}).get("field"),
-         "unit": by_column.get(column, {}).get("unit"),
-         "ambiguous": by_column.get(column, {}).get("ambiguous", False)}
-        for column in proposal.get("columns", [])]
+        {"column": column, "samples": proposal["samples"].get(column, []),
+         "field": by_column[column]["field"] if column in by_column else None,
+         "unit": by_column[column]["unit"] if column in by_column else None,
+         "ambiguous": column in by_column and by_column[column]["ambiguous"]}
+        for column in proposal["columns"]]
     return {"proposal": proposal, "mapping_rows": rows, "fields": CANONICAL_FIELDS,
             "units": list(UNITS), "families_all": FAMILIES,
-            "label_families": sorted((proposal.get("families") or {}).items())}
+            "label_families": sorted(proposal["families"].items())}
 
 
 def artefact_rows(cat_id: str, artefacts: list[Artefact], cat_url: CatUrl

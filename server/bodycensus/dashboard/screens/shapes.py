@@ -8,6 +8,7 @@ from collections.abc import Mapping
 from typing import Any, TypedDict
 
 from bodycensus.diagrams.shapes import Artefact, CoverageRow, Figure
+from bodycensus.storage.manifest import ProposalRecord
 
 
 class Finding(TypedDict):
@@ -199,7 +200,7 @@ class MappingRow(TypedDict):
 class MappingContext(TypedDict):
     """The mapping step: the proposal, a row per column and the choices offered."""
 
-    proposal: dict[str, Any]
+    proposal: ProposalRecord
     mapping_rows: list[MappingRow]
     fields: tuple[str, ...]
     units: list[str]

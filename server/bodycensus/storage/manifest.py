@@ -1,0 +1,147 @@
+"""What ``manifest.json`` holds for one catalogue: the ``Manifest`` and the shape of each record
+in it, declared once here for the store that writes them and the dashboard that reads them.
+
+The ingest and the engine fill the records (``IngestReport.to_json``, ``Sniff.to_json``,
+``build_summary``); ``tests/test_manifest.py`` checks that what they write has these keys.
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass, field
+from typing import Any, Literal, NotRequired, TypedDict, cast
+
+from bodycensus.input.ingest import IngestReport
+from bodycensus.input.schema import UnitSource
+from bodycensus.input.sniff import Sniff
+
+Status = Literal["mapping", "ingesting", "ready", "failed"]
+
+
+class ProgressRecord(TypedDict):
+    """How far the run is: the stage and a fraction (0..1) of the whole run."""
+
+    stage: str
+    fraction: float
+
+
+class ChoiceRecord(TypedDict):
+    """Which column feeds a field, in which unit (``schema.ColumnChoice.to_json``)."""
+
+    field: str
+    column: str
+    unit: str | None
+    unit_source: UnitSource
+    ambiguous: bool
+
+
+class MappingRecord(TypedDict):
+    """A file's column mapping (``schema.Mapping.to_json``)."""
+
+    choices: dict[str, ChoiceRecord]  # field -> its column
+    unknown_columns: list[str]
+    conflicts: dict[str, list[str]]  # field -> columns not chosen
+    missing_fields: list[str]
+
+
+class IngestRecord(TypedDict):
+    """How a ready catalogue was read (``IngestReport.to_json``): the manifest's ``mapping``."""
+
+    rows: int
+    format: str  # delimited | ndjson | parquet
+    compression: str | None  # gzip | zstd | None
+    delimiter: str | None
+    columns: list[str]
+    mapping: MappingRecord
+    unknown_columns: list[str]
+    bad_cells: dict[str, int]  # source column -> unreadable cells
+
+
+class ProposalRecord(TypedDict):
+    """The mapping step's proposal for an upload (``Sniff.to_json``)."""
+
+    columns: list[str]
+    samples: dict[str, list[str]]  # column -> a few values
+    mapping: MappingRecord  # the guess
+    families: dict[str, str]  # label -> guessed family
+    reasons: list[str]  # why the person should confirm it (empty: the run starts at once)
+
+
+class OverridesRecord(TypedDict):
+    """The person's choices a run used: field -> column, field -> unit, label -> family."""
+
+    map: dict[str, str]
+    units: dict[str, str]
+    families: dict[str, str]
+
+
+class RunSummary(TypedDict):
+    """The engine's counts of one run (``engines.summary.build_summary``)."""
+
+    rows: int
+    findings: int
+    bodies_with_findings: int
+    by_severity: dict[str, int]  # every severity, most serious first
+    by_rule: dict[str, int]  # most common first, as are the three below
+    by_label: dict[str, int]
+    by_family: dict[str, int]
+    label_families: dict[str, str]  # label -> family used
+    unmapped_labels: list[str]  # labels with family unknown
+    artefacts: int
+    bad_cells: dict[str, int]  # source column -> unreadable cells
+    seconds: NotRequired[float]  # wall time of a whole run from the file
+
+
+class ManifestChanges(TypedDict, total=False):
+    """The fields of a manifest that a step of its run may change (``Store.update``)."""
+
+    status: Status
+    progress: ProgressRecord
+    rows: int | None
+    error: str | None
+    mapping: IngestRecord | None
+    proposal: ProposalRecord | None
+    summary: RunSummary | None
+    options: OverridesRecord | None
+
+
+def ingest_record(report: IngestReport) -> IngestRecord:
+    """The manifest's record of how a file was read."""
+    return cast(IngestRecord, report.to_json())
+
+
+def proposal_record(found: Sniff) -> ProposalRecord:
+    """The manifest's record of the mapping step."""
+    return cast(ProposalRecord, found.to_json())
+
+
+def _default_progress() -> ProgressRecord:
+    return {"stage": "upload", "fraction": 0.0}
+
+
+@dataclass(frozen=True)
+class Manifest:
+    """What the store knows of one catalogue (``manifest.json``)."""
+
+    id: str
+    name: str
+    status: Status
+    created: str
+    source: str = ".csv"  # the upload's suffix, e.g. ".csv.gz"
+    progress: ProgressRecord = field(default_factory=_default_progress)
+    rows: int | None = None
+    error: str | None = None
+    mapping: IngestRecord | None = None  # how a ready catalogue was read
+    proposal: ProposalRecord | None = None  # the mapping step, while status is `mapping`
+    summary: RunSummary | None = None
+    options: OverridesRecord | None = None  # the overrides the run used (map, units, families)
+    demo: bool = False
+
+    def to_json(self) -> dict[str, Any]:
+        """A plain dict, as written to manifest.json."""
+        return asdict(self)
+
+    @classmethod
+    def from_json(cls, data: dict[str, Any]) -> Manifest:
+        """Read a manifest dict, ignoring keys this version does not know."""
+        known = {k: v for k, v in data.items() if k in cls.__dataclass_fields__}
+        return cls(**known)
