@@ -20,8 +20,6 @@ from bodycensus.science.artefacts import (
     METHODS,
     ArtefactConfig,
     ArtefactInputError,
-    artefact_members,
-    bench_artefacts,
     benjamini_hochberg,
     binomial_sf,
     detect_artefacts,
@@ -67,9 +65,6 @@ def test_truncated_lognormal_cutoff_found_within_one_bin() -> None:
     assert row["low"] == row["high"] == row["at"] and row["observed"] == 0
     assert row["expected"] >= 100 and row["p_value"] < 1e-10
     assert "no value above" in row["evidence"] and " m " in row["evidence"]
-    members = artefact_members(table, row)
-    top = table.filter(pl.col("radius") >= edges[-2])["id"]
-    assert sorted(members.to_list()) == sorted(top.to_list()) and len(members) > 20
 
 
 def test_untruncated_lognormal_has_no_artefact() -> None:
@@ -88,7 +83,6 @@ def test_gap_found_with_its_interval() -> None:
     row = found.row(0, named=True)
     assert 309.0 < row["low"] < 310.0 and 320.0 < row["high"] < 321.0
     assert row["low"] < row["at"] < row["high"] and row["expected"] >= 100
-    assert artefact_members(table, row).is_empty()
 
 
 def test_few_far_outliers_make_no_gap() -> None:
@@ -105,7 +99,7 @@ def test_tiny_or_constant_groups_do_not_crash() -> None:
     assert detect_artefacts(table.lazy(), ["eccentricity"]).filter(kind="gap").is_empty()
 
 
-def test_clamp_spike_found_and_its_members_listed() -> None:
+def test_clamp_spike_found() -> None:
     """3% of values clamped to the largest allowed value: exact-value count against its
     neighbours, conditional binomial test (Przyborowski & Wilenski 1940), BH 1995."""
     sample = _lognormal(5)
@@ -117,7 +111,6 @@ def test_clamp_spike_found_and_its_members_listed() -> None:
     row = found.row(0, named=True)
     assert row["at"] == cap and row["observed"] == int((sample >= cap).sum())
     assert "clamp" in row["evidence"]
-    assert len(artefact_members(table, row)) == row["observed"]
 
 
 def test_inner_spike_of_a_default_value_found() -> None:
@@ -204,11 +197,28 @@ def test_benjamini_hochberg_matches_scipy() -> None:
     np.testing.assert_allclose(benjamini_hochberg(p, 100), expected, rtol=1e-12)
 
 
-def test_bench_reports_timings_and_finds_nothing_in_smooth_data() -> None:
-    """The function ``bodycensus bench`` calls: figures for a small smooth catalogue."""
-    result = bench_artefacts(20_000, seed=13)
-    assert result["n_bodies"] == 20_000 and result["fields"] == 15
-    assert result["detect_seconds"] > 0 and result["artefacts"] == 0
+def _smooth_catalogue(n_bodies: int, seed: int, n_labels: int = 30) -> pl.DataFrame:
+    """Invented, smooth: 15 normal, log-normal and small-integer (Poisson) fields, shifted per
+    label; two labels per family."""
+    rng = np.random.default_rng(seed)
+    codes, shift = rng.integers(0, n_labels, n_bodies), rng.normal(0.0, 1.0, (15, n_labels))
+    columns: dict[str, object] = {"id": pl.int_range(n_bodies, eager=True).cast(pl.String),
+                                  "label": np.char.add("kind-", codes.astype(str)),
+                                  "family": np.char.add("group-", (codes // 2).astype(str))}
+    for j in range(15):
+        z = rng.standard_normal(n_bodies) + shift[j, codes]
+        counts = rng.poisson(np.exp(1 + 0.3 * shift[j, codes]))
+        columns[f"f{j:02d}"] = (300.0 + 30.0 * z, 10 ** (j + 0.4 * z), counts)[j % 3]
+    return pl.DataFrame(columns)
+
+
+def test_smooth_catalogue_of_many_labels_and_fields_has_no_artefact() -> None:
+    """15 fields x (30 labels + 15 families) of smooth data: BH 1995 over every hypothesis keeps
+    all of them quiet (the many-groups false-alarm check)."""
+    table = _smooth_catalogue(20_000, seed=13)
+    fields = [c for c in table.columns if c[0] == "f" and c[1:].isdigit()]
+    assert len(fields) == 15 and table["label"].n_unique() == 30
+    assert detect_artefacts(table, fields).is_empty()
 
 
 def test_steep_smooth_tail_predicts_few_but_a_flat_edge_many() -> None:

@@ -13,7 +13,6 @@ import pytest
 from three_forms import assert_three_forms
 
 from bodycensus.science.physics import orbits
-from bodycensus.science.physics.bodies import bulk_density
 from bodycensus.science.units import AU, DAY, M_EARTH, M_SUN, R_SUN, YEAR
 
 KM = 1e3
@@ -106,19 +105,6 @@ def test_phobos_between_rigid_and_fluid_limits_of_mars() -> None:
     rigid = orbits.roche_rigid(MARS[1], MARS[2], PHOBOS_DENSITY) / KM
     fluid = orbits.roche_fluid(MARS[1], MARS[2], PHOBOS_DENSITY) / KM
     assert rigid < 9_376 < fluid
-
-
-@pytest.mark.parametrize(("parent", "body"), [(EARTH, MOON), (MARS, (1.06e16, 11.08 * KM, 0.0)),
-                                              (SATURN, (1e12, 1 * KM, 0.0))])
-def test_mass_forms_agree_with_density_forms(parent: tuple[float, ...],
-                                             body: tuple[float, ...]) -> None:
-    # Same law: rho R^3 is fixed by the mass, so both forms give one distance.
-    parent_density = bulk_density(parent[0], parent[1])
-    body_density = bulk_density(body[0], body[1])
-    rigid = orbits.roche_rigid(parent[1], parent_density, body_density)
-    fluid = orbits.roche_fluid(parent[1], parent_density, body_density)
-    assert orbits.roche_rigid_from_masses(body[1], parent[0], body[0]) == pytest.approx(rigid)
-    assert orbits.roche_fluid_from_masses(body[1], parent[0], body[0]) == pytest.approx(fluid)
 
 
 # --- Hill sphere and stability -----------------------------------------------------------------
@@ -278,8 +264,6 @@ ORBIT_FORMULAS = [
     (orbits.apoapsis, {"a": A, "e": E}),
     (orbits.roche_rigid, {"r": RADIUS, "rho_p": RHO_BIG, "rho": RHO_SMALL}),
     (orbits.roche_fluid, {"r": RADIUS, "rho_p": RHO_BIG, "rho": RHO_SMALL}),
-    (orbits.roche_rigid_from_masses, {"r": RADIUS, "big": BIG, "small": SMALL}),
-    (orbits.roche_fluid_from_masses, {"r": RADIUS, "big": BIG, "small": SMALL}),
     (orbits.hill_radius, {"a": A, "e": E, "small": SMALL, "big": BIG}),
     (orbits.stable_hill_fraction, {"e_p": E, "e": E[::-1]}),
     (orbits.kepler_period, {"a": A, "big": BIG, "small": SMALL}),

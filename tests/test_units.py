@@ -11,7 +11,7 @@ import astropy.units as u
 import pytest
 
 from bodycensus.science import units
-from bodycensus.science.units import UnknownUnitError, convert, factor_to_si, find_unit, parse_unit
+from bodycensus.science.units import UnknownUnitError, convert, find_unit, parse_unit
 
 # Constants defined exactly (IAU/SI definitions): equal to the last bit.
 EXACT_CONSTANTS = [
@@ -118,12 +118,6 @@ def test_unknown_unit_is_none_for_find_and_a_clear_error_for_parse() -> None:
     assert "\n" not in message
     assert message.startswith("unknown unit 'furlong'; use one of: kg, g, earth_mass")
     assert all(name in message for name in units.UNITS)
-
-
-def test_factor_to_si_checks_the_dimension() -> None:
-    assert factor_to_si("km", "length") == 1e3
-    with pytest.raises(UnknownUnitError, match="unit 'km' measures length, but a mass is needed"):
-        factor_to_si("km", "mass")
 
 
 def test_convert_matches_astropy() -> None:

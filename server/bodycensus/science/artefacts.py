@@ -18,9 +18,9 @@ e < 1 of orbits, a true mass floor) looks just like a generator cutoff: reported
 from __future__ import annotations
 
 import math
-import time
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import TypedDict
 
 import numpy as np
 import polars as pl
@@ -75,6 +75,27 @@ class Grid:
     width: float  # bin width in grid space (log10 or linear)
 
 
+class Detection(TypedDict):
+    """One raw detection in one sample, before the false-discovery control."""
+
+    kind: str  # cutoff | gap | spike
+    at: float
+    low: float
+    high: float
+    observed: int
+    expected: float
+    evidence: str
+    p_value: float
+
+
+class Artefact(Detection):
+    """A detection in one field of one group: a row of ``ARTEFACT_SCHEMA``."""
+
+    scope: str  # the group column: label | family
+    label: str  # the group's value
+    field: str
+
+
 class ArtefactInputError(ValueError):
     """A table or field list that artefact detection cannot use."""
 
@@ -103,7 +124,7 @@ def conditional_p(observed: int, expected: float, reference: float) -> float:
 
 def empty_p(expected: float, reference: float) -> float:
     """Conditional probability of an empty cell where ``expected`` values were due (see above)."""
-    return (1.0 + expected / reference) ** -reference
+    return math.pow(1.0 + expected / reference, -reference)
 
 
 def benjamini_hochberg(p_values: np.ndarray, n_tests: int) -> np.ndarray:
@@ -120,7 +141,7 @@ def _use_log(s: np.ndarray, config: ArtefactConfig) -> bool:
     if s[0] <= 0:
         return False
     q10, q50, q90 = s[[len(s) // 10, len(s) // 2, (9 * len(s)) // 10]]
-    return q50 > q10 and (q90 - q50) / (q50 - q10) > config.log_skew
+    return bool(q50 > q10 and (q90 - q50) / (q50 - q10) > config.log_skew)
 
 
 def _lattice_step(distinct: np.ndarray) -> float:
@@ -136,7 +157,7 @@ def _lattice_step(distinct: np.ndarray) -> float:
 
 def _fd_width(q: np.ndarray, n: int, config: ArtefactConfig) -> float:
     """Freedman-Diaconis width 2 IQR n^(-1/3) from (q25, q75, min, max), >= span / max_bins."""
-    return max(2.0 * (q[1] - q[0]) * n ** (-1 / 3), (q[3] - q[2]) / config.max_bins)
+    return float(max(2.0 * (q[1] - q[0]) * n ** (-1 / 3), (q[3] - q[2]) / config.max_bins))
 
 
 def make_grid(s: np.ndarray, step: float, config: ArtefactConfig) -> Grid | None:
@@ -174,7 +195,7 @@ def _runs(s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _row(kind: str, at: float, low: float, high: float, observed: int, expected: float,
-         evidence: str, p: float) -> dict:
+         evidence: str, p: float) -> Detection:
     """One raw detection, before the false-discovery control."""
     return {"kind": kind, "at": float(at), "low": float(low), "high": float(high),
             "observed": observed, "expected": float(expected), "evidence": evidence, "p_value": p}
@@ -191,7 +212,8 @@ def _neighbour_counts(counts: np.ndarray, hits: np.ndarray) -> tuple[np.ndarray,
     return expected, reference
 
 
-def _spikes(distinct: np.ndarray, counts: np.ndarray, unit: str, config: ArtefactConfig) -> list:
+def _spikes(distinct: np.ndarray, counts: np.ndarray, unit: str, config: ArtefactConfig
+            ) -> list[Detection]:
     """Exact values held by far more bodies than their neighbouring values."""
     hits = np.flatnonzero(counts > config.min_excess)
     if len(distinct) < 3 or not hits.size:
@@ -199,7 +221,8 @@ def _spikes(distinct: np.ndarray, counts: np.ndarray, unit: str, config: Artefac
     expected, reference = _neighbour_counts(counts, hits)
     keep = (counts[hits] - expected >= config.min_excess) & (
         counts[hits] >= config.spike_ratio * expected)
-    rows, total = [], int(counts.sum())
+    rows: list[Detection] = []
+    total = int(counts.sum())
     for i, wanted, ref in zip(hits[keep], expected[keep], reference[keep], strict=True):
         value, seen = distinct[i], int(counts[i])
         end = " at an end of the range (a clamp?)" if i in (0, len(distinct) - 1) else ""
@@ -210,7 +233,8 @@ def _spikes(distinct: np.ndarray, counts: np.ndarray, unit: str, config: Artefac
     return rows
 
 
-def _spike_free_counts(s: np.ndarray, edges: np.ndarray, spikes: list) -> np.ndarray:
+def _spike_free_counts(s: np.ndarray, edges: np.ndarray, spikes: list[Detection]
+                       ) -> np.ndarray:
     """Counts in the bins between ``edges`` less each spike's excess: the continuous part."""
     counts = _bin_counts(s, edges).astype(float)
     for spike in spikes:
@@ -228,8 +252,9 @@ def edge_bins(s: np.ndarray, side: str, config: ArtefactConfig) -> np.ndarray:
     q = s[[len(s) // 4, (3 * len(s)) // 4, 0, -1]]
     t = np.log10(q) if log else q
     width = _fd_width(t, len(s), config)
-    edges = t[2] + width * np.arange(4) if side == "below" else t[3] + width * np.arange(-3, 1)
-    edges, end = (10**edges if log else edges), (0 if side == "below" else -1)
+    edges: np.ndarray = (t[2] + width * np.arange(4) if side == "below"
+                         else t[3] + width * np.arange(-3, 1))
+    edges, end = (np.power(10.0, edges) if log else edges), (0 if side == "below" else -1)
     edges[end] = s[end]
     return edges
 
@@ -260,7 +285,8 @@ def _gaussian_tail(inside: np.ndarray, n_beyond: int) -> float:
     return total
 
 
-def _cutoffs(s: np.ndarray, spikes: list, unit: str, config: ArtefactConfig) -> list:
+def _cutoffs(s: np.ndarray, spikes: list[Detection], unit: str, config: ArtefactConfig
+             ) -> list[Detection]:
     """Ends where a smooth tail would have put a measurable number of values beyond."""
     rows = []
     for side, edge in (("below", s[0]), ("above", s[-1])):
@@ -276,7 +302,7 @@ def _cutoffs(s: np.ndarray, spikes: list, unit: str, config: ArtefactConfig) -> 
 
 
 def _gaps(s: np.ndarray, grid: Grid, counts: np.ndarray, unit: str,
-          config: ArtefactConfig) -> list:
+          config: ArtefactConfig) -> list[Detection]:
     """Spacings between neighbouring values where the density on both sides predicts many."""
     reach = config.min_expected * grid.width / max(float(counts.max()), 1.0)
     wide = np.flatnonzero(s[1:] >= s[:-1] * 10**reach if grid.log else s[1:] - s[:-1] >= reach)
@@ -307,7 +333,8 @@ def _gaps(s: np.ndarray, grid: Grid, counts: np.ndarray, unit: str,
     return rows
 
 
-def _scan_cell(s: np.ndarray, unit: str, config: ArtefactConfig) -> tuple[list, int]:
+def _scan_cell(s: np.ndarray, unit: str, config: ArtefactConfig
+               ) -> tuple[list[Detection], int]:
     """All raw detections in one sorted finite sample, and how many hypotheses were examined."""
     distinct, counts = _runs(s)
     grid = make_grid(s, _lattice_step(distinct) if len(distinct) < len(s) else 0.0, config)
@@ -315,7 +342,8 @@ def _scan_cell(s: np.ndarray, unit: str, config: ArtefactConfig) -> tuple[list, 
         return [], 0
     spikes = _spikes(distinct, counts, unit, config)
     smooth = _spike_free_counts(s, grid.edges, spikes)
-    cutoffs = [] if grid.discrete or len(grid.counts) < 6 else _cutoffs(s, spikes, unit, config)
+    cutoffs: list[Detection] = ([] if grid.discrete or len(grid.counts) < 6
+                                else _cutoffs(s, spikes, unit, config))
     rows = cutoffs + _gaps(s, grid, smooth, unit, config) + spikes
     return rows, 1 + 2 * len(distinct)
 
@@ -339,7 +367,11 @@ def _collect(table: pl.DataFrame | pl.LazyFrame, fields: Sequence[str],
     return table.lazy().select(*dict.fromkeys([*keys, *fields])).collect()
 
 
-def _group_slices(frame: pl.DataFrame, scope: str, min_count: int) -> tuple[np.ndarray, list]:
+GroupSlice = tuple[str, int, int]  # a group's value, its first row and the row after its last
+
+
+def _group_slices(frame: pl.DataFrame, scope: str, min_count: int
+                  ) -> tuple[np.ndarray, list[GroupSlice]]:
     """Row order that makes each group contiguous, and (name, start, stop) of each big group."""
     groups = (frame.select(pl.col(scope).cast(pl.String), pl.int_range(pl.len()).alias("row"))
               .drop_nulls(scope).group_by(scope).agg("row")
@@ -350,7 +382,7 @@ def _group_slices(frame: pl.DataFrame, scope: str, min_count: int) -> tuple[np.n
     return groups["row"].explode().to_numpy(), slices
 
 
-def _finalise(rows: list, n_tests: int, config: ArtefactConfig) -> pl.DataFrame:
+def _finalise(rows: list[Artefact], n_tests: int, config: ArtefactConfig) -> pl.DataFrame:
     """BH-adjust, keep the discoveries, and drop a cutoff that a clamp spike on it explains."""
     found = pl.DataFrame(rows, schema=ARTEFACT_SCHEMA)
     adjusted = benjamini_hochberg(found["p_value"].to_numpy(), n_tests)
@@ -367,7 +399,8 @@ def detect_artefacts(table: pl.DataFrame | pl.LazyFrame, fields: Sequence[str],
                      config: ArtefactConfig = ArtefactConfig()) -> pl.DataFrame:
     """Cutoffs, gaps and spikes in every field of every group, BH-controlled at ``config.fdr``."""
     frame = _collect(table, fields, group_columns)
-    rows, n_tests = [], 0
+    rows: list[Artefact] = []
+    n_tests = 0
     groups = {scope: _group_slices(frame, scope, config.min_count) for scope in group_columns}
     for field in fields:
         raw, unit = frame[field].cast(pl.Float64).to_numpy(), _unit(field)
@@ -382,48 +415,3 @@ def detect_artefacts(table: pl.DataFrame | pl.LazyFrame, fields: Sequence[str],
                 n_tests += tests
                 rows += [{"scope": scope, "label": label, "field": field, **r} for r in found]
     return _finalise(rows, n_tests, config)
-
-
-def artefact_members(table: pl.DataFrame | pl.LazyFrame, artefact_row: dict,
-                     id_column: str = "id", config: ArtefactConfig = ArtefactConfig()) -> pl.Series:
-    """Ids of an artefact's bodies: in a cutoff's end bin (found with ``config``), on a spike."""
-    scope, field = artefact_row["scope"], artefact_row["field"]
-    frame = (_collect(table, [field], [scope, id_column]).lazy()
-             .filter(pl.col(scope).cast(pl.String) == artefact_row["label"])
-             .select(id_column, pl.col(field).cast(pl.Float64).alias("v"))
-             .filter(pl.col("v").is_finite()).collect())
-    at, kind, v = artefact_row["at"], artefact_row["kind"], pl.col("v")
-    if kind == "spike":
-        return frame.filter(v == at)[id_column]
-    if kind == "gap":
-        return frame.filter((v > artefact_row["low"]) & (v < artefact_row["high"]))[id_column]
-    s = np.sort(frame["v"].to_numpy())
-    edges = edge_bins(s, "below" if at == s[0] else "above", config)
-    near_edge = v < edges[1] if at == s[0] else v >= edges[-2]
-    return frame.filter(near_edge)[id_column]
-
-
-def synthetic_catalogue(n_bodies: int, seed: int, n_labels: int = 30) -> pl.DataFrame:
-    """A smooth invented catalogue for ``bench_artefacts``: 15 normal, log-normal and small-integer
-    fields, shifted per label; two labels per family."""
-    rng = np.random.default_rng(seed)
-    codes, shift = rng.integers(0, n_labels, n_bodies), rng.normal(0.0, 1.0, (15, n_labels))
-    columns: dict[str, object] = {"id": pl.int_range(n_bodies, eager=True).cast(pl.String),
-                                  "label": np.char.add("kind-", codes.astype(str)),
-                                  "family": np.char.add("group-", (codes // 2).astype(str))}
-    for j in range(15):
-        z = rng.standard_normal(n_bodies) + shift[j, codes]
-        counts = rng.poisson(np.exp(1 + 0.3 * shift[j, codes]))
-        columns[f"f{j:02d}"] = (300.0 + 30.0 * z, 10 ** (j + 0.4 * z), counts)[j % 3]
-    return pl.DataFrame(columns)
-
-
-def bench_artefacts(n_bodies: int, seed: int) -> dict:
-    """Time detect_artefacts on 15 fields x 30 labels + 15 families (for ``bodycensus bench``)."""
-    table = synthetic_catalogue(n_bodies, seed)
-    fields = [c for c in table.columns if c[0] == "f" and c[1:].isdigit()]
-    start = time.perf_counter()
-    found = detect_artefacts(table, fields)
-    return {"n_bodies": n_bodies, "fields": len(fields), "labels": table["label"].n_unique(),
-            "families": table["family"].n_unique(), "artefacts": found.height,
-            "detect_seconds": round(time.perf_counter() - start, 3)}

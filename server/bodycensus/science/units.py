@@ -150,16 +150,6 @@ def parse_unit(name: str) -> Unit:
     return unit
 
 
-def factor_to_si(unit_name: str, dimension: str | None = None) -> float:
-    """The factor that turns a value in ``unit_name`` into SI, checking its dimension if given."""
-    unit = parse_unit(unit_name)
-    if dimension is not None and unit.dimension != dimension:
-        raise UnknownUnitError(
-            f"unit '{unit_name}' measures {unit.dimension}, but a {dimension} is needed"
-        )
-    return unit.to_si
-
-
 def convert(value: float, from_unit: str, to_unit: str) -> float:
     """Convert a scalar between two units of the same dimension."""
     source, target = parse_unit(from_unit), parse_unit(to_unit)

@@ -8,7 +8,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from bodycensus.science.physics._ops import Num, as_float, clip_min, log10
+from bodycensus.science.physics._ops import Num, clip_min, exp10, log10, power
 from bodycensus.science.units import (
     G0,
     L_SUN,
@@ -54,7 +54,7 @@ def surface_gravity_g0(mass: Num, radius: Num) -> Num:
 
 def escape_speed(mass: Num, radius: Num) -> Num:
     """Escape speed sqrt(2GM/R) from the surface, m s-1."""
-    return (2.0 * G * mass / radius) ** 0.5
+    return power(2.0 * G * mass / radius, 0.5)
 
 
 # --- composition curves ----------------------------------------------------------------------
@@ -83,8 +83,8 @@ def composition_radius(mass: Num, material: str) -> Num:
     """
     fit = SEAGER_FITS[material]
     scaled_mass = mass / (fit.m1 * M_EARTH)
-    log_scaled_radius = fit.k1 + log10(scaled_mass) / 3.0 - fit.k2 * scaled_mass**fit.k3
-    return as_float(10.0**log_scaled_radius * fit.r1 * R_EARTH)
+    log_scaled_radius = fit.k1 + log10(scaled_mass) / 3.0 - fit.k2 * power(scaled_mass, fit.k3)
+    return exp10(log_scaled_radius) * fit.r1 * R_EARTH
 
 
 def composition_density(mass: Num, material: str) -> Num:
@@ -104,7 +104,7 @@ COLD_HHE_PEAK_MASS = 4.0 * M_JUPITER
 def cold_hhe_radius(mass: Num) -> Num:
     """Radius (m) of a cold hydrogen-helium sphere of this mass (approximate curve, see above)."""
     x = mass / COLD_HHE_PEAK_MASS
-    return 2.0 * COLD_HHE_PEAK_RADIUS * x ** (1.0 / 3.0) / (1.0 + x ** (2.0 / 3.0))
+    return 2.0 * COLD_HHE_PEAK_RADIUS * power(x, 1.0 / 3.0) / (1.0 + power(x, 2.0 / 3.0))
 
 
 def cold_hhe_density(mass: Num) -> Num:
@@ -120,8 +120,8 @@ NAUENBERG_R0 = 0.0225 / 2.0 * R_SUN  # m; 0.0225/mu_e R_sun (Nauenberg 1972; con
 def white_dwarf_radius(mass: Num) -> Num:
     """Radius (m) of a cold white dwarf, Nauenberg 1972 (ApJ 175, 417) mass-radius relation."""
     x = clip_min(mass / NAUENBERG_M3, 1e-12)
-    inside = clip_min(1.0 - x ** (4.0 / 3.0), 0.0)
-    return NAUENBERG_R0 * inside**0.5 / x ** (1.0 / 3.0)
+    inside = clip_min(1.0 - power(x, 4.0 / 3.0), 0.0)
+    return NAUENBERG_R0 * power(inside, 0.5) / power(x, 1.0 / 3.0)
 
 
 def white_dwarf_density(mass: Num) -> Num:
@@ -131,12 +131,12 @@ def white_dwarf_density(mass: Num) -> Num:
 
 def main_sequence_radius(mass: Num) -> Num:
     """Main-sequence radius (m), R ~ M^0.8 in solar units (textbook rule of thumb, rel 1e-1)."""
-    return R_SUN * (mass / M_SUN) ** 0.8
+    return R_SUN * power(mass / M_SUN, 0.8)
 
 
 def main_sequence_luminosity(mass: Num) -> Num:
     """Main-sequence luminosity (W), L ~ M^3.5 in solar units (textbook rule of thumb)."""
-    return L_SUN * (mass / M_SUN) ** 3.5
+    return L_SUN * power(mass / M_SUN, 3.5)
 
 
 def main_sequence_density(mass: Num) -> Num:

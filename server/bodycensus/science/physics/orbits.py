@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import math
 
-from bodycensus.science.physics._ops import Num, log
+from bodycensus.science.physics._ops import Num, log, power
 from bodycensus.science.physics.bodies import bulk_density, surface_gravity
 from bodycensus.science.units import HOUR, G
 
@@ -32,7 +32,7 @@ def apoapsis(semi_major_axis: Num, eccentricity: Num) -> Num:
 
 def roche_limit(parent_radius: Num, density_ratio: Num, coefficient: float) -> Num:
     """Roche distance c R_M (rho_M / rho_m)^(1/3) for a given coefficient (rigid or fluid)."""
-    return coefficient * parent_radius * density_ratio ** (1.0 / 3.0)
+    return coefficient * parent_radius * power(density_ratio, 1.0 / 3.0)
 
 
 def roche_rigid(parent_radius: Num, parent_density: Num, body_density: Num) -> Num:
@@ -45,19 +45,9 @@ def roche_fluid(parent_radius: Num, parent_density: Num, body_density: Num) -> N
     return roche_limit(parent_radius, parent_density / body_density, FLUID_ROCHE_COEFFICIENT)
 
 
-def roche_rigid_from_masses(body_radius: Num, parent_mass: Num, body_mass: Num) -> Num:
-    """Rigid Roche limit from masses: R_m (2 M / m)^(1/3), the same law with R_M^3 rho_M = M."""
-    return roche_limit(body_radius, parent_mass / body_mass, RIGID_ROCHE_COEFFICIENT)
-
-
-def roche_fluid_from_masses(body_radius: Num, parent_mass: Num, body_mass: Num) -> Num:
-    """Fluid Roche limit from masses: 2.44 R_m (M / m)^(1/3)."""
-    return roche_limit(body_radius, parent_mass / body_mass, FLUID_ROCHE_COEFFICIENT)
-
-
 def hill_radius(semi_major_axis: Num, eccentricity: Num, mass: Num, parent_mass: Num) -> Num:
     """Hill-sphere radius a (1 - e) (m / 3M)^(1/3) of a body about its parent."""
-    return periapsis(semi_major_axis, eccentricity) * (mass / (3.0 * parent_mass)) ** (1.0 / 3.0)
+    return periapsis(semi_major_axis, eccentricity) * power(mass / (3.0 * parent_mass), 1.0 / 3.0)
 
 
 def stable_hill_fraction(parent_eccentricity: Num, eccentricity: Num) -> Num:
@@ -71,7 +61,7 @@ def stable_hill_fraction(parent_eccentricity: Num, eccentricity: Num) -> Num:
 
 def kepler_period(semi_major_axis: Num, parent_mass: Num, mass: Num) -> Num:
     """Orbital period 2 pi sqrt(a^3 / G (M + m)) in seconds (Kepler's third law, Newton's form)."""
-    return 2.0 * math.pi * (semi_major_axis**3 / (G * (parent_mass + mass))) ** 0.5
+    return 2.0 * math.pi * power(semi_major_axis**3 / (G * (parent_mass + mass)), 0.5)
 
 
 def barycentre_offset(semi_major_axis: Num, parent_mass: Num, mass: Num) -> Num:
@@ -84,14 +74,14 @@ def roche_lobe_radius(separation: Num, mass_ratio: Num) -> Num:
 
     r_L / a = 0.49 q^(2/3) / (0.6 q^(2/3) + ln(1 + q^(1/3))), good to 1 % for all q.
     """
-    q23 = mass_ratio ** (2.0 / 3.0)
-    return separation * 0.49 * q23 / (0.6 * q23 + log(1.0 + mass_ratio ** (1.0 / 3.0)))
+    q23 = power(mass_ratio, 2.0 / 3.0)
+    return separation * 0.49 * q23 / (0.6 * q23 + log(1.0 + power(mass_ratio, 1.0 / 3.0)))
 
 
 def mutual_hill_radius(inner_semi_major_axis: Num, inner_mass: Num, outer_mass: Num,
                        parent_mass: Num) -> Num:
     """Mutual Hill radius ((m1 + m2) / 3M)^(1/3) a1 of two neighbours (Gladman 1993, Icarus 106)."""
-    return ((inner_mass + outer_mass) / (3.0 * parent_mass)) ** (1.0 / 3.0) * inner_semi_major_axis
+    return power((inner_mass + outer_mass) / (3.0 * parent_mass), 1.0 / 3.0) * inner_semi_major_axis
 
 
 # --- tidal locking ---------------------------------------------------------------------------

@@ -12,6 +12,7 @@ from typing import overload
 
 import numpy as np
 import polars as pl
+from polars.expr.whenthen import ChainedThen, Then
 
 from bodycensus.science.families import FAMILY_PARAMETERS, DensityBand
 from bodycensus.science.physics import bodies
@@ -59,7 +60,7 @@ def band_density(band: DensityBand, mass: float | None) -> tuple[float, float] |
 
 
 def _band_edge(side: str) -> pl.Expr:
-    expr: pl.Expr | None = None
+    expr: Then | ChainedThen | None = None
     for family, params in FAMILY_PARAMETERS.items():
         band = params.density_band
         if band is None:
@@ -111,7 +112,7 @@ def unit_slip_hint(density: pl.Expr) -> pl.Expr:
     and dividing by one known factor brings it inside; null otherwise."""
     low, high = band_low(), band_high()
     far_out = (density < low / SLIP_TOLERANCE) | (density > high * SLIP_TOLERANCE)
-    hint: pl.Expr | None = None
+    hint: Then | ChainedThen | None = None
     for field, factor, cause in UNIT_SLIPS:
         fixed = density / (factor if field == "mass" else factor**-3)
         inside = far_out & (fixed >= low) & (fixed <= high)
