@@ -11,6 +11,7 @@ from __future__ import annotations
 import gzip
 import os
 from pathlib import Path
+from typing import IO, cast
 
 import numpy as np
 import polars as pl
@@ -126,7 +127,7 @@ def _truth(p: Planter, id_column: pl.Series) -> pl.DataFrame:
     """Ground truth: one row per planted body and rule, then one per artefact."""
     used = sorted({r for _, r, o in p.truth} | {o for _, _, o in p.truth if o >= 0})
     ids = dict(zip(used, id_column.gather(used).to_list(), strict=True))
-    rows = [("rule", rule, ids[r], ids[o] if o >= 0 else None, LABELS[p.t["code"][r]],
+    rows: list[tuple[object, ...]] = [("rule", rule, ids[r], ids[o] if o >= 0 else None, LABELS[p.t["code"][r]],
              None, None, None, None) for rule, r, o in p.truth]
     rows += [("artefact", kind, None, None, label, field, at, low, high)
              for kind, label, field, at, low, high in ARTEFACTS]
@@ -163,7 +164,7 @@ def _write(frame: pl.DataFrame, out: Path) -> None:
     try:
         if out.name.endswith(".csv.gz"):
             with open(tmp, "wb") as raw, gzip.GzipFile("", "wb", 1, raw, mtime=0) as packed:
-                frame.write_csv(packed)
+                frame.write_csv(cast(IO[bytes], packed))  # a GzipFile is a binary stream
         elif out.name.endswith(".csv"):
             frame.write_csv(tmp)
         elif out.name.endswith(".parquet"):

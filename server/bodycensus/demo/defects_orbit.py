@@ -68,7 +68,7 @@ def roche_lobe_overflow(p: Planter) -> None:
     """A companion star brought so close that its radius is 1.25 x its Eggleton Roche lobe."""
     t = p.t
     par = np.maximum(t["parent"], 0)
-    lobe = orbits.roche_lobe_radius(1.0, t["mass"] / t["mass"][par])
+    lobe = orbits.roche_lobe_radius(np.ones(len(par)), t["mass"] / t["mass"][par])
     q = t["radius"] / (1.25 * lobe)
     alone = (t["code"] < PLANET_CODE0) & (t["parent"] >= 0) & (p.children[par] == 1)
     _move(p, "roche-lobe-overflow", alone & p.leaves() & (q > 1.5 * t["radius"][par]), q)
@@ -230,8 +230,9 @@ def tidal_lock_age(p: Planter) -> None:
     the softest parameters (ice rigidity, Q = 100)."""
     t = p.t
     with np.errstate(invalid="ignore", divide="ignore"):
+        soft = np.ones(len(t["a"]))  # ice rigidity 4e9 Pa, Q = 100
         t_lock = orbits.tidal_lock_time(t["a"], t["mass"], t["radius"], t["parent_mass"],
-                                        4e9, 100.0)
+                                        4e9 * soft, 100.0 * soft)
         slow = t_lock > 100.0 * age_seconds(t["age"])
     keep_out = np.isin(t["code"], [CODE["ice giant"], CODE["asteroid"]])
     rows = p.pick(p.planets() & ~t["locked"] & slow & ~keep_out)

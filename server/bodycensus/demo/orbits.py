@@ -44,7 +44,7 @@ def _gaps(rng: np.random.Generator, first: np.ndarray, mass: np.ndarray, parent_
     next_mass = np.append(mass[1:], 0.0)
     next_slack = np.append(slack[1:], 0.0)
     k = lognormal(rng, HILL_SPACING[0], HILL_SPACING[1], n)
-    gap = k * orbits.mutual_hill_radius(1.0, mass, next_mass, parent_mass) + next_slack
+    gap = k * orbits.mutual_hill_radius(np.ones(n), mass, next_mass, parent_mass) + next_slack
     return np.where(last, np.inf, gap)
 
 

@@ -123,7 +123,8 @@ def _moon_counts(rng: np.random.Generator, orb: Table, room_limit: np.ndarray) -
     planet = (orb["code"] >= PLANET_CODE0) & (orb["code"] < MOON_CODE0)
     mean[planet] = np.array([k.moons for k in PLANET_KINDS])[orb["code"][planet] - PLANET_CODE0]
     own = _parent_of(orb, np.arange(len(mean)))
-    edge = np.maximum(own["radius"], orbits.roche_fluid(own["radius"], own["density"], 1000.0))
+    water = np.full(len(mean), 1000.0)  # kg m-3: the lightest moon the room is judged for
+    edge = np.maximum(own["radius"], orbits.roche_fluid(own["radius"], own["density"], water))
     room = np.log(room_limit / (4.0 * edge))
     return rng.poisson(mean * (1.0 - np.exp(-np.clip(room, 0.0, None) / 2.0)))
 
@@ -131,7 +132,7 @@ def _moon_counts(rng: np.random.Generator, orb: Table, room_limit: np.ndarray) -
 def _moons(rng: np.random.Generator, orb: Table) -> Table:
     """Moons of the planets, between the fluid Roche limit and 0.6 x the stable Hill limit."""
     hill = orbits.hill_radius(orb["a"], orb["e"], orb["mass"], orb["parent_mass"])
-    limit = 0.6 * orbits.stable_hill_fraction(orb["e"], 0.1) * hill
+    limit = 0.6 * orbits.stable_hill_fraction(orb["e"], np.full(len(hill), 0.1)) * hill
     host = np.repeat(np.arange(len(orb["a"])), _moon_counts(rng, orb, limit))
     giant = np.isin(orb["code"][host], [CODE["gas giant"], CODE["ice giant"], HOT])
     icy = rng.random(len(host)) < np.where(giant, 0.65, 0.2)

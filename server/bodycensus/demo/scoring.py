@@ -29,7 +29,7 @@ class Score:
     @property
     def recall(self) -> float:
         """Planted rule defects found, over all planted."""
-        return self.by_rule["found"].sum() / max(self.by_rule["planted"].sum(), 1)
+        return int(self.by_rule["found"].sum()) / max(int(self.by_rule["planted"].sum()), 1)
 
     @property
     def false_impossible_rate(self) -> float:
