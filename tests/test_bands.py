@@ -1,14 +1,29 @@
 """Family density bands: one arithmetic for the rules' table expression and for one mass (the
-density diagram's shaded band)."""
+density diagram's shaded band); the composition curves they use; and the unit slips that would
+explain a density far outside one."""
 
 from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from typing import Any
 
 import polars as pl
 import pytest
 
 from bodycensus.science.families import FAMILY_PARAMETERS
-from bodycensus.science.rules.bands import band_columns, band_density
-from bodycensus.science.units import M_EARTH, M_SUN
+from bodycensus.science.physics import bodies
+from bodycensus.science.rules.bands import (
+    UNIT_SLIPS,
+    band_columns,
+    band_density,
+    curve_density,
+    unit_slip_hint,
+)
+from bodycensus.science.units import M_EARTH, M_JUPITER, M_SUN
+
+# Earth: NASA Earth fact sheet (REFERENCES.md): 5.9722e24 kg, mean radius 6371.0 km.
+EARTH_MASS, EARTH_RADIUS = 5.9722e24, 6.371e6
 
 
 def test_rock_band_at_earth_mass_holds_the_earth() -> None:
@@ -42,3 +57,74 @@ def test_one_mass_and_the_table_agree(family: str, mass: float) -> None:
     expected = band_density(FAMILY_PARAMETERS[family].density_band, mass)
     assert expected is not None
     assert (table["_band_low"][0], table["_band_high"][0]) == pytest.approx(expected)
+
+
+@pytest.mark.parametrize(("curve", "formula"), [
+    ("iron", lambda m: bodies.composition_density(m, "iron")),
+    ("rock", lambda m: bodies.composition_density(m, "rock")),
+    ("water_ice", lambda m: bodies.composition_density(m, "water_ice")),
+    ("cold_hhe", bodies.cold_hhe_density), ("white_dwarf", bodies.white_dwarf_density),
+    ("main_sequence", bodies.main_sequence_density),
+])
+def test_each_curve_is_the_physics_formula(curve: str, formula: Callable[..., Any]) -> None:
+    for mass in (0.5 * M_EARTH, 2.0 * M_JUPITER, 0.6 * M_SUN):
+        assert curve_density(curve, mass) == formula(mass)
+    frame = pl.DataFrame({"m": [M_EARTH, M_JUPITER]})
+    column = frame.select(curve_density(curve, pl.col("m")))[:, 0].to_list()
+    assert column == pytest.approx([formula(M_EARTH), formula(M_JUPITER)], rel=1e-12)
+
+
+def test_an_unknown_curve_is_refused() -> None:
+    with pytest.raises(KeyError):
+        curve_density("granite", M_EARTH)
+
+
+def _bands(rows: list[tuple[str, float]]) -> list[tuple[float | None, float | None]]:
+    frame = pl.DataFrame(rows, schema=["family", "_mass"], orient="row").select(band_columns())
+    return list(zip(frame["_band_low"].to_list(), frame["_band_high"].to_list(), strict=True))
+
+
+def test_families_without_a_band_or_past_a_curve_have_none() -> None:
+    # black_hole and unknown have no band; a white dwarf above the Nauenberg (1972) mass has
+    # zero radius on the curve, so an infinite density: no band rather than a wrong one
+    assert _bands([("black_hole", 10 * M_SUN), ("unknown", M_EARTH), ("no-such", M_EARTH),
+                   ("white_dwarf", 2.0 * M_SUN)]) == [(None, None)] * 4
+
+
+def _hints(densities: list[float], family: str = "rock", mass: float = EARTH_MASS
+           ) -> list[str | None]:
+    frame = pl.DataFrame({"family": family, "_mass": mass, "density": densities})
+    out = frame.with_columns(band_columns()).select(unit_slip_hint(pl.col("density")))
+    return out[:, 0].to_list()
+
+
+def test_radius_in_km_read_as_metres_is_named() -> None:
+    """Earth's radius given as 6371 where metres were expected: density 1e9 x too high."""
+    slipped = bodies.bulk_density(EARTH_MASS, EARTH_RADIUS / 1e3)
+    assert _hints([slipped]) == ["radius looks 0.001x too large (km given where metres were "
+                                 "expected?)"]
+
+
+def test_jupiter_masses_given_as_earth_masses_is_named() -> None:
+    """A rocky world's mass column in Jupiter masses, read as Earth masses (x 317.8)."""
+    slipped = bodies.bulk_density(EARTH_MASS * M_JUPITER / M_EARTH, EARTH_RADIUS)
+    [hint] = _hints([slipped])
+    assert hint is not None and hint.startswith("mass looks 317.8x too large")
+    assert "Jupiter masses given as Earth masses" in hint
+
+
+def test_no_hint_inside_the_band_or_when_no_factor_explains_the_miss() -> None:
+    inside = bodies.bulk_density(EARTH_MASS, EARTH_RADIUS)
+    # off by 1e7: no known factor (or cube of one) brings it back into the band
+    assert _hints([inside, inside * 1e7, inside / 1e7]) == [None, None, None]
+    # a family without a band gives no hint at all
+    assert _hints([inside * 1e9], family="black_hole") == [None]
+
+
+def test_every_slip_factor_is_a_ratio_of_known_units() -> None:
+    for field, factor, cause in UNIT_SLIPS:
+        assert field in ("mass", "radius") and math.isfinite(factor) and factor > 0, cause
+    factors = {(f, round(math.log10(x), 6)) for f, x, _ in UNIT_SLIPS}
+    assert len(factors) == len(UNIT_SLIPS)  # no slip listed twice
+    # each slip comes with its inverse
+    assert all((f, -k) in factors for f, k in factors)

@@ -127,8 +127,9 @@ def _truth(p: Planter, id_column: pl.Series) -> pl.DataFrame:
     """Ground truth: one row per planted body and rule, then one per artefact."""
     used = sorted({r for _, r, o in p.truth} | {o for _, _, o in p.truth if o >= 0})
     ids = dict(zip(used, id_column.gather(used).to_list(), strict=True))
-    rows: list[tuple[object, ...]] = [("rule", rule, ids[r], ids[o] if o >= 0 else None, LABELS[p.t["code"][r]],
-             None, None, None, None) for rule, r, o in p.truth]
+    rows: list[tuple[object, ...]] = [
+        ("rule", rule, ids[r], ids[o] if o >= 0 else None, LABELS[p.t["code"][r]], None, None,
+         None, None) for rule, r, o in p.truth]
     rows += [("artefact", kind, None, None, label, field, at, low, high)
              for kind, label, field, at, low, high in ARTEFACTS]
     schema = dict.fromkeys(TRUTH_COLUMNS[:6], pl.String) | dict.fromkeys(TRUTH_COLUMNS[6:],

@@ -128,7 +128,11 @@ def _why_skipped(applicable: int, judged: int, lacking: Iterable[str]) -> str:
 def fmt(expr: pl.Expr) -> pl.Expr:
     """A number as short text for messages: 4 significant figures, powers of ten when large."""
     exponent = expr.abs().log10().floor()
-    scientific = pl.format("{}e{}", (expr / 10.0**exponent).round(3), exponent.cast(pl.Int64))
+    mantissa = (expr / 10.0**exponent).round(3)
+    carry = mantissa.abs() >= 10.0  # log10 just under a power of ten, or rounded up to 10
+    scientific = pl.format("{}e{}", pl.when(carry).then((mantissa / 10.0).round(3))
+                           .otherwise(mantissa), (exponent + carry.cast(pl.Float64))
+                           .cast(pl.Int64, strict=False))  # 0 and inf take the plain branch
     plain = expr.round_sig_figs(4).cast(pl.String).str.strip_suffix(".0")
     wide = (expr.abs() >= 1e6) | ((expr.abs() < 1e-3) & (expr != 0))
     return pl.when(wide & expr.is_finite()).then(scientific).otherwise(plain)

@@ -1,0 +1,44 @@
+"""Loops in the chain of parents: which ids never reach a root."""
+
+from __future__ import annotations
+
+import polars as pl
+
+from bodycensus.science.rules.graph import cycle_members
+
+
+def _members(pairs: list[tuple[str | None, str | None]]) -> list[str]:
+    table = pl.LazyFrame(pairs, schema={"id": pl.String, "parent": pl.String}, orient="row")
+    return sorted(cycle_members(table).to_list())
+
+
+def test_a_tree_has_no_loop() -> None:
+    assert _members([("sun", None), ("earth", "sun"), ("moon", "earth"), ("mars", "sun"),
+                     ("phobos", "mars"), ("rogue", "nowhere")]) == []
+
+
+def test_self_parents_and_loops_of_two_and_three() -> None:
+    assert _members([("a", "a"), ("b", "c"), ("c", "b"), ("x", "y"), ("y", "z"), ("z", "x"),
+                     ("root", None), ("leaf", "root")]) == ["a", "b", "c", "x", "y", "z"]
+
+
+def test_chains_that_lead_into_a_loop_never_end_either() -> None:
+    assert _members([("p", "q"), ("q", "p"), ("moon", "p"), ("submoon", "moon")]) == [
+        "moon", "p", "q", "submoon"]
+
+
+def test_a_long_chain_that_ends_is_no_loop() -> None:
+    chain = [(f"b{i}", f"b{i - 1}" if i else None) for i in range(40)]
+    assert _members(chain) == []
+
+
+def test_the_first_row_of_a_duplicated_id_decides_its_parent() -> None:
+    # a's first row points at the root, so the later row's self-loop is not followed
+    assert _members([("root", None), ("a", "root"), ("a", "a")]) == []
+    assert _members([("a", "a"), ("a", "root"), ("root", None)]) == ["a"]
+
+
+def test_rows_without_id_or_parent_are_ignored() -> None:
+    assert _members([(None, "a"), ("a", None), (None, None)]) == []
+    empty = pl.LazyFrame(schema={"id": pl.String, "parent": pl.String})
+    assert cycle_members(empty).to_list() == []
