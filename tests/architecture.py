@@ -23,7 +23,8 @@ MAP_START, MAP_END = "<!-- map:start (python tests/architecture.py) -->", "<!-- 
 
 # Lowest first: (floor, its package prefix, what it holds).
 FLOORS: tuple[tuple[str, str, str], ...] = (
-    ("base", "bodycensus.errors", "the exception tree every floor raises; durable writes"),
+    ("base", "bodycensus.errors", "the exception tree every floor raises; durable writes; "
+     "progress reports"),
     ("science", "bodycensus.science", "units, families, physics, rules, artefacts"),
     ("input", "bodycensus.input", "formats, readers, the column mapping, ingest"),
     ("storage", "bodycensus.storage", "the data directory, manifests, SQLite, durable writes"),
@@ -47,7 +48,7 @@ class Module:
     job: str
 
 
-BASE_MODULES = ("bodycensus", "bodycensus.errors", "bodycensus.durable")
+BASE_MODULES = ("bodycensus", "bodycensus.errors", "bodycensus.durable", "bodycensus.progress")
 
 
 def floor_of(name: str) -> str:

@@ -7,7 +7,7 @@ from pathlib import Path
 
 import pytest
 
-from bodycensus.storage.durable import fsync_path
+from bodycensus.durable import fsync_path
 
 
 def _open_descriptors() -> int:
