@@ -1,5 +1,5 @@
-"""The manifest and the shape of its records: what the ingest, the mapping step and the engine
-write must have exactly the keys ``storage/manifest.py`` declares, or the dashboard reads a
+"""The manifest and the shape of its records: what the ingest, the mapping step, the engine and
+the upload jobs write must have exactly the keys their records declare, or the dashboard reads a
 shape that is not there."""
 
 from __future__ import annotations
@@ -12,20 +12,10 @@ import pytest
 
 from bodycensus.dashboard.intake.jobs import Overrides
 from bodycensus.engines.local import check_file
-from bodycensus.input.ingest import ingest
-from bodycensus.input.sniff import sniff
-from bodycensus.storage.manifest import (
-    ChoiceRecord,
-    IngestRecord,
-    Manifest,
-    ManifestChanges,
-    MappingRecord,
-    OverridesRecord,
-    ProposalRecord,
-    RunSummary,
-    ingest_record,
-    proposal_record,
-)
+from bodycensus.input.ingest import IngestRecord, ingest
+from bodycensus.input.schema import ChoiceRecord, MappingRecord
+from bodycensus.input.sniff import ProposalRecord, sniff
+from bodycensus.storage.manifest import Manifest, ManifestChanges, OverridesRecord, RunSummary
 
 CSV = ("id,type,orbits,mass (earth_mass),radius_km,a (au),e,colour\n"
        "sol,yellow dwarf star,,332946,695700,,,white\n"
@@ -52,8 +42,7 @@ def _assert_mapping_shape(mapping: dict[str, Any]) -> None:
 
 def test_the_ingest_report_is_the_declared_record(catalogue: Path, tmp_path: Path) -> None:
     report = ingest(catalogue, tmp_path / "out" / "table.parquet")
-    record = ingest_record(report)
-    assert record == report.to_json()
+    record = report.to_json()
     assert set(record) == _keys(IngestRecord)
     _assert_mapping_shape(dict(record["mapping"]))
     assert record["unknown_columns"] == ["colour"] and record["rows"] == 2
@@ -62,7 +51,7 @@ def test_the_ingest_report_is_the_declared_record(catalogue: Path, tmp_path: Pat
 def test_the_mapping_proposal_is_the_declared_record(catalogue: Path) -> None:
     found = sniff(catalogue, catalogue.name, max_columns=100)
     assert found is not None
-    record = proposal_record(found)
+    record = found.to_json()
     assert set(record) == _keys(ProposalRecord)
     _assert_mapping_shape(dict(record["mapping"]))
     assert record["samples"]["colour"] == ["white", "blue"]

@@ -18,11 +18,11 @@ import polars as pl
 
 from bodycensus.engines.local import CheckOptions, CheckResult, check_file
 from bodycensus.input.formats import accepted
+from bodycensus.input.ingest import IngestRecord
 from bodycensus.input.schema import parse_assignment
 from bodycensus.science.families import parse_family_override
 from bodycensus.science.severity import SEVERITIES, SEVERITY_RANK, rank_expr
 from bodycensus.storage.csvsafe import neutralise_formulas
-from bodycensus.storage.manifest import IngestRecord, ingest_record
 
 FOUND_AT_FAIL_LEVEL = 1
 PROGRESS_FILE_BYTES = 20 * 2**20  # files above this report progress on stderr by default
@@ -131,7 +131,7 @@ def catalogue_info(result: CheckResult, source: Path) -> CatalogueInfo:
     """What was read and how: file, format, mapping, families (of a run from a file)."""
     if result.report is None:
         raise ValueError("catalogue_info needs a run from a file (check_file), not a table")
-    return {"file": str(source), "name": source.name, **ingest_record(result.report),
+    return {"file": str(source), "name": source.name, **result.report.to_json(),
             "label_families": result.families}
 
 

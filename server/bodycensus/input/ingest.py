@@ -16,9 +16,9 @@ from __future__ import annotations
 import os
 import re
 from collections.abc import Callable
-from dataclasses import asdict, dataclass
+from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TypedDict
 
 import polars as pl
 
@@ -44,6 +44,7 @@ from bodycensus.input.schema import (
     FIELD_TYPES,
     NUMERIC_FIELDS,
     Mapping,
+    MappingRecord,
     SchemaError,
     describe_columns,
     guess_mapping,
@@ -63,6 +64,20 @@ class IngestLimits:
     max_columns: int = 100_000
 
 
+class IngestRecord(TypedDict):
+    """An IngestReport as JSON: a ready catalogue's ``mapping`` in its manifest, and the
+    ``catalogue`` of ``bodycensus check``."""
+
+    rows: int
+    format: str
+    compression: str | None
+    delimiter: str | None
+    columns: list[str]
+    mapping: MappingRecord
+    unknown_columns: list[str]
+    bad_cells: dict[str, int]
+
+
 @dataclass(frozen=True)
 class IngestReport:
     """What ingest found: the file's shape, the mapping used and the unreadable cells per column."""
@@ -76,9 +91,12 @@ class IngestReport:
     unknown_columns: list[str]
     bad_cells: dict[str, int]  # source column -> cells present but unreadable or non-finite
 
-    def to_json(self) -> dict[str, Any]:
+    def to_json(self) -> IngestRecord:
         """A plain dict for the API, the manifest and `bodycensus check`."""
-        return {**asdict(self), "mapping": self.mapping.to_json()}
+        return {"rows": self.rows, "format": self.format, "compression": self.compression,
+                "delimiter": self.delimiter, "columns": list(self.columns),
+                "mapping": self.mapping.to_json(), "unknown_columns": list(self.unknown_columns),
+                "bad_cells": dict(self.bad_cells)}
 
 
 def _explain(source: Path, plain: Path, fmt: InputFormat, layout: Layout,

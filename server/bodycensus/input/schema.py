@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
-from typing import Literal
+from typing import Literal, TypedDict
 
 import polars as pl
 
@@ -67,6 +67,25 @@ _BRACKETED = re.compile(r"^(?P<base>.*?)\s*[\(\[](?P<unit>[^\)\]]*)[\)\]]\s*$")
 UnitSource = Literal["header", "override", "default"]
 
 
+class ChoiceRecord(TypedDict):
+    """A ColumnChoice as JSON (the API, the manifest, ``bodycensus check``)."""
+
+    field: str
+    column: str
+    unit: str | None
+    unit_source: UnitSource
+    ambiguous: bool
+
+
+class MappingRecord(TypedDict):
+    """A Mapping as JSON: field -> its column, the columns left over, the conflicts."""
+
+    choices: dict[str, ChoiceRecord]
+    unknown_columns: list[str]
+    conflicts: dict[str, list[str]]  # field -> columns not chosen
+    missing_fields: list[str]
+
+
 class SchemaError(InputError):
     """A mapping or unit choice that cannot be used; the message says what to do instead."""
 
@@ -96,7 +115,7 @@ class ColumnChoice:
         """Multiply the column's numbers by this to get the field in SI (ages in years)."""
         return 1.0 if self.unit is None else _factor_for(self.field, UNITS[self.unit])
 
-    def to_json(self) -> dict:
+    def to_json(self) -> ChoiceRecord:
         """A plain dict for the API and the report."""
         return {"field": self.field, "column": self.column, "unit": self.unit,
                 "unit_source": self.unit_source, "ambiguous": self.ambiguous}
@@ -115,7 +134,7 @@ class Mapping:
         """Canonical fields that no column feeds."""
         return [f for f in CANONICAL_FIELDS if f not in self.choices]
 
-    def to_json(self) -> dict:
+    def to_json(self) -> MappingRecord:
         """A plain dict for the API and the report."""
         return {
             "choices": {f: c.to_json() for f, c in self.choices.items()},
@@ -238,9 +257,12 @@ def _choice(name: str, column: str, hint: Unit | None, override: Unit | None) ->
     return ColumnChoice(name, column, SI_UNIT[dimension], "default", dimension != "dimensionless")
 
 
-def _guess_columns(columns: list[str]) -> tuple[dict[str, tuple[str, Unit | None]], dict]:
+Found = dict[str, tuple[str, Unit | None]]  # field -> (its column, the unit its header hints)
+
+
+def _guess_columns(columns: list[str]) -> tuple[Found, dict[str, list[str]]]:
     """Field -> (first matching column, its hint); and field -> later columns that also matched."""
-    found: dict[str, tuple[str, Unit | None]] = {}
+    found: Found = {}
     conflicts: dict[str, list[str]] = {}
     for column in columns:
         name, hint = read_header(column)
@@ -262,7 +284,7 @@ def describe_columns(columns: list[str], most: int = 20) -> str:
     return ", ".join(shown) + more
 
 
-def _apply_map_overrides(found: dict, columns: list[str], overrides: dict[str, str]) -> None:
+def _apply_map_overrides(found: Found, columns: list[str], overrides: dict[str, str]) -> None:
     """Point each overridden field at its named column (checked against the file's columns)."""
     for raw_field, column in overrides.items():
         name = _check_field(raw_field)

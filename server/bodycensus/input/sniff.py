@@ -12,17 +12,27 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TypedDict
 
 from bodycensus.errors import BadInput, TooLarge
 from bodycensus.input.formats import MAGIC_BYTES, detect_format
 from bodycensus.input.readers import detect_compression, head
-from bodycensus.input.schema import Mapping, guess_mapping
+from bodycensus.input.schema import Mapping, MappingRecord, guess_mapping
 from bodycensus.science.families import guess_family
 
 SAMPLE_ROWS = 20
 SAMPLES_PER_COLUMN = 5
 HEAD_ROWS = SAMPLE_ROWS * 50  # rows read (and checked) for the samples and the labels
+
+
+class ProposalRecord(TypedDict):
+    """A Sniff as JSON: the mapping step's proposal, kept in the manifest while it waits."""
+
+    columns: list[str]
+    samples: dict[str, list[str]]  # column -> a few of its values
+    mapping: MappingRecord  # the guess
+    families: dict[str, str]  # label -> guessed family
+    reasons: list[str]  # why the person should confirm it (empty: the run starts at once)
 
 
 @dataclass(frozen=True)
@@ -43,7 +53,7 @@ class Sniff:
             out.insert(0, "no column was recognised as the body id")
         return out
 
-    def to_json(self) -> dict[str, Any]:
+    def to_json(self) -> ProposalRecord:
         """The mapping step's proposal, as stored in the manifest and sent to the page."""
         return {"columns": self.columns, "samples": self.samples,
                 "mapping": self.mapping.to_json(), "families": self.families,

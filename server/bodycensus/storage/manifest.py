@@ -1,18 +1,19 @@
 """What ``manifest.json`` holds for one catalogue: the ``Manifest`` and the shape of each record
-in it, declared once here for the store that writes them and the dashboard that reads them.
+in it, for the store that writes them and the dashboard that reads them.
 
-The ingest and the engine fill the records (``IngestReport.to_json``, ``Sniff.to_json``,
-``build_summary``); ``tests/test_manifest.py`` checks that what they write has these keys.
+How the file was read and the mapping step's proposal are declared by the input floor that makes
+them (``IngestRecord``, ``ProposalRecord``); progress, the run's overrides and the engine's
+summary are declared here. ``tests/test_manifest.py`` checks that what the producers write has
+exactly these keys.
 """
 
 from __future__ import annotations
 
 from dataclasses import asdict, dataclass, field
-from typing import Any, Literal, NotRequired, TypedDict, cast
+from typing import Any, Literal, NotRequired, TypedDict
 
-from bodycensus.input.ingest import IngestReport
-from bodycensus.input.schema import UnitSource
-from bodycensus.input.sniff import Sniff
+from bodycensus.input.ingest import IngestRecord
+from bodycensus.input.sniff import ProposalRecord
 
 Status = Literal["mapping", "ingesting", "ready", "failed"]
 
@@ -22,48 +23,6 @@ class ProgressRecord(TypedDict):
 
     stage: str
     fraction: float
-
-
-class ChoiceRecord(TypedDict):
-    """Which column feeds a field, in which unit (``schema.ColumnChoice.to_json``)."""
-
-    field: str
-    column: str
-    unit: str | None
-    unit_source: UnitSource
-    ambiguous: bool
-
-
-class MappingRecord(TypedDict):
-    """A file's column mapping (``schema.Mapping.to_json``)."""
-
-    choices: dict[str, ChoiceRecord]  # field -> its column
-    unknown_columns: list[str]
-    conflicts: dict[str, list[str]]  # field -> columns not chosen
-    missing_fields: list[str]
-
-
-class IngestRecord(TypedDict):
-    """How a ready catalogue was read (``IngestReport.to_json``): the manifest's ``mapping``."""
-
-    rows: int
-    format: str  # delimited | ndjson | parquet
-    compression: str | None  # gzip | zstd | None
-    delimiter: str | None
-    columns: list[str]
-    mapping: MappingRecord
-    unknown_columns: list[str]
-    bad_cells: dict[str, int]  # source column -> unreadable cells
-
-
-class ProposalRecord(TypedDict):
-    """The mapping step's proposal for an upload (``Sniff.to_json``)."""
-
-    columns: list[str]
-    samples: dict[str, list[str]]  # column -> a few values
-    mapping: MappingRecord  # the guess
-    families: dict[str, str]  # label -> guessed family
-    reasons: list[str]  # why the person should confirm it (empty: the run starts at once)
 
 
 class OverridesRecord(TypedDict):
@@ -102,16 +61,6 @@ class ManifestChanges(TypedDict, total=False):
     proposal: ProposalRecord | None
     summary: RunSummary | None
     options: OverridesRecord | None
-
-
-def ingest_record(report: IngestReport) -> IngestRecord:
-    """The manifest's record of how a file was read."""
-    return cast(IngestRecord, report.to_json())
-
-
-def proposal_record(found: Sniff) -> ProposalRecord:
-    """The manifest's record of the mapping step."""
-    return cast(ProposalRecord, found.to_json())
 
 
 def _default_progress() -> ProgressRecord:

@@ -33,13 +33,8 @@ from typing import Any, Unpack
 
 from bodycensus.durable import fsync_path
 from bodycensus.errors import Conflict, NotFound, StorageError, storage_error
-from bodycensus.storage.manifest import (
-    IngestRecord,
-    Manifest,
-    ManifestChanges,
-    RunSummary,
-    Status,
-)
+from bodycensus.input.ingest import IngestRecord
+from bodycensus.storage.manifest import Manifest, ManifestChanges, RunSummary, Status
 
 MANIFEST = "manifest.json"
 _ID = re.compile(r"^[A-Za-z0-9_-]{4,40}$")

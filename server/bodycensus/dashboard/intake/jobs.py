@@ -24,7 +24,7 @@ from bodycensus.input.formats import catalogue_suffix
 from bodycensus.input.ingest import IngestLimits
 from bodycensus.input.schema import guess_mapping
 from bodycensus.science.families import FAMILIES
-from bodycensus.storage.manifest import Manifest, OverridesRecord, ingest_record
+from bodycensus.storage.manifest import Manifest, OverridesRecord
 from bodycensus.storage.store import Store, now, write_json_atomic
 
 log = logging.getLogger(__name__)
@@ -106,7 +106,7 @@ def run_check(store: Store, settings: Settings, cat_id: str, overrides: Override
     result = check_file(store.source_path(cat_id), work, options, progress)
     progress("aggregates", 0.0)
     write_json_atomic(work / "aggregates.json", compute_aggregates(work, options.orbit_settings))
-    report = ingest_record(result.report) if result.report is not None else None
+    report = result.report.to_json() if result.report is not None else None
     return store.publish(cat_id, rows=result.summary["rows"], summary=result.summary,
                          mapping=report)
 

@@ -34,7 +34,7 @@ from bodycensus.dashboard.screens.viewstate import MAX_LIMIT, ViewState
 from bodycensus.diagrams import registry
 from bodycensus.errors import BadInput, Conflict
 from bodycensus.input.sniff import sniff
-from bodycensus.storage.manifest import Manifest, proposal_record
+from bodycensus.storage.manifest import Manifest
 from bodycensus.storage.store import SavedView, Store, now
 
 _ERRORS: dict[int | str, dict[str, type[ErrorOut]]] = {
@@ -70,7 +70,7 @@ async def _open_upload(store: Store, up: Upload, max_columns: int, auto: bool) -
         store.discard(up.id)
         raise
     manifest = Manifest(id=up.id, name=up.name, status="mapping", created=now(),
-                        source=up.suffix, proposal=proposal_record(found) if found else None)
+                        source=up.suffix, proposal=found.to_json() if found else None)
     return store.open_upload(manifest)
 
 

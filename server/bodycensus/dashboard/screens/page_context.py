@@ -29,9 +29,9 @@ from bodycensus.diagrams import registry
 from bodycensus.diagrams.shapes import Artefact, Choice
 from bodycensus.diagrams.system_plot import system_figures
 from bodycensus.input.schema import CANONICAL_FIELDS
+from bodycensus.input.sniff import ProposalRecord
 from bodycensus.science.families import FAMILIES
 from bodycensus.science.units import UNITS
-from bodycensus.storage.manifest import ProposalRecord
 
 CatUrl = Callable[..., str]
 DERIVED_UNITS: dict[str, str] = {

@@ -8,7 +8,7 @@ from collections.abc import Mapping
 from typing import Any, TypedDict
 
 from bodycensus.diagrams.shapes import Artefact, CoverageRow, Figure
-from bodycensus.storage.manifest import ProposalRecord
+from bodycensus.input.sniff import ProposalRecord
 
 
 class Finding(TypedDict):
