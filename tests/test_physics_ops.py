@@ -45,3 +45,14 @@ def test_clip_min_raises_values_below_the_floor() -> None:
     assert_three_forms(lambda x: clip_min(x, 0.75), {"x": X})
     assert clip_min(0.5, 0.75) == 0.75 and clip_min(2.0, 0.75) == 2.0
     assert math.isnan(clip_min(math.nan, 0.0))  # as numpy's maximum: NaN stays NaN
+
+
+def test_numpy_scalars_stay_numpy_scalars_so_a_zero_divisor_gives_inf() -> None:
+    """The white-dwarf radius is 0 past the Nauenberg (1972) mass: its density must come out inf
+    (as for arrays and expressions), not raise ZeroDivisionError."""
+    floor = clip_min(0.0, 0.0)
+    assert isinstance(floor, np.float64) and isinstance(log(2.0), np.float64)
+    assert isinstance(power(floor, 0.5), np.float64)
+    assert isinstance(exp10(np.float64(1.0)), np.float64)
+    with np.errstate(divide="ignore"):
+        assert 1.0 / power(floor, 0.5) == math.inf

@@ -25,6 +25,8 @@ def power(x: Num, exponent: float) -> Num:
         return x.pow(exponent)
     if isinstance(x, np.ndarray):
         return np.power(x, exponent)
+    if isinstance(x, np.generic):  # a numpy scalar stays one, as under ``**``
+        return np.float64(np.power(x, exponent))
     try:
         return math.pow(x, exponent)
     except ValueError:  # math domain error: a negative base, a fractional exponent
@@ -37,16 +39,20 @@ def exp10(x: Num) -> Num:
         return pl.lit(10.0).pow(x)
     if isinstance(x, np.ndarray):
         return np.power(10.0, x)
+    if isinstance(x, np.generic):
+        return np.float64(np.power(10.0, x))
     return math.pow(10.0, x)
 
 
+# The three below give a numpy float64 for a scalar (a float), so the arithmetic after them follows
+# numpy as for arrays: a zero divisor gives inf, not ZeroDivisionError.
 def log(x: Num) -> Num:
     """Natural logarithm."""
     if isinstance(x, pl.Expr):
         return x.log()
     if isinstance(x, np.ndarray):
         return np.log(x)
-    return float(np.log(x))
+    return np.float64(np.log(x))
 
 
 def log10(x: Num) -> Num:
@@ -55,7 +61,7 @@ def log10(x: Num) -> Num:
         return x.log10()
     if isinstance(x, np.ndarray):
         return np.log10(x)
-    return float(np.log10(x))
+    return np.float64(np.log10(x))
 
 
 def clip_min(x: Num, lower: float) -> Num:
@@ -64,4 +70,4 @@ def clip_min(x: Num, lower: float) -> Num:
         return x.clip(lower_bound=lower)
     if isinstance(x, np.ndarray):
         return np.maximum(x, lower)
-    return max(float(x), lower)
+    return np.float64(np.maximum(x, lower))
