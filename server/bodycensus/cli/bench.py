@@ -38,7 +38,7 @@ Timing = tuple[float, float]  # seconds, peak MiB
 
 def _stage(name: str, workdir: str, queue: multiprocessing.Queue[Timing]) -> None:
     """Run one named stage in this (child) process and report (seconds, peak MiB)."""
-    from bodycensus.engines.local import ARTEFACT_FIELDS, CheckOptions, check_table
+    from bodycensus.engines.local import CheckOptions, check_table
     from bodycensus.input.ingest import ingest
     from bodycensus.science import artefacts
     from bodycensus.science.rules import all_rules
@@ -56,7 +56,8 @@ def _stage(name: str, workdir: str, queue: multiprocessing.Queue[Timing]) -> Non
         "derive+rules": lambda: check_table(pl.scan_parquet(normalised), folder / "run",
                                             CheckOptions(artefacts=False)),
         "rules only": lambda: evaluate(pl.scan_parquet(bodies), all_rules()).collect(),
-        "artefacts": lambda: artefacts.detect_artefacts(pl.scan_parquet(bodies), ARTEFACT_FIELDS),
+        "artefacts": lambda: artefacts.detect_artefacts(pl.scan_parquet(bodies),
+                                                    artefacts.ARTEFACT_FIELDS),
     }
     queue.put(_timed(jobs[name]))
 

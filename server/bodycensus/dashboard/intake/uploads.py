@@ -13,7 +13,7 @@ import unicodedata
 from contextlib import suppress
 from dataclasses import dataclass
 from pathlib import Path
-from typing import BinaryIO
+from typing import TYPE_CHECKING, BinaryIO
 
 from python_multipart.exceptions import MultipartParseError
 from python_multipart.multipart import MultipartParser, parse_options_header
@@ -24,6 +24,9 @@ from bodycensus.errors import BadInput, TooLarge, storage_error
 from bodycensus.input.formats import catalogue_suffix, suffix_hint
 from bodycensus.input.readers import compression_hint
 from bodycensus.storage.store import Store
+
+if TYPE_CHECKING:  # declared for type checkers only by python-multipart
+    from python_multipart.multipart import MultipartCallbacks
 
 FIELD = "file"
 _FLUSH = 1 << 20
@@ -76,7 +79,7 @@ class _Receiver:
         self.handle: BinaryIO | None = None
         self.buffer = bytearray()
 
-    def callbacks(self) -> dict:
+    def callbacks(self) -> MultipartCallbacks:
         """The callback table for MultipartParser."""
         return {"on_part_begin": self._begin, "on_header_field": self._header_field,
                 "on_header_value": self._header_value, "on_header_end": self._header_end,
@@ -176,7 +179,7 @@ async def _feed(chunk: bytes, received: int, parser: MultipartParser, receiver: 
     except MultipartParseError as err:
         raise BadInput("the upload is not valid multipart/form-data; send the file as "
                        f"form field '{FIELD}'") from err
-    if data := receiver.take():
+    if receiver.handle is not None and (data := receiver.take()):
         await run_in_threadpool(_write, receiver.handle, data, False)
     return received
 
