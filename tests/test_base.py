@@ -7,15 +7,7 @@ from __future__ import annotations
 import polars as pl
 import pytest
 
-from bodycensus.science.rules.base import (
-    FINDING_SCHEMA,
-    SEVERITIES,
-    SEVERITY_RANK,
-    Rule,
-    coverage,
-    evaluate,
-    fmt,
-)
+from bodycensus.science.rules.base import FINDING_SCHEMA, Rule, coverage, evaluate, fmt
 
 
 def _context() -> pl.LazyFrame:
@@ -38,11 +30,6 @@ def _rule(**changes: object) -> Rule:
 
 def _fired(rule: Rule) -> pl.DataFrame:
     return evaluate(_context(), [rule]).collect()
-
-
-def test_severities_most_serious_first() -> None:
-    assert SEVERITIES == ("error", "impossible", "unstable", "suspect", "note")
-    assert [SEVERITY_RANK[s] for s in SEVERITIES] == [0, 1, 2, 3, 4]
 
 
 def test_above_fires_past_the_limit_with_a_positive_margin() -> None:

@@ -7,7 +7,8 @@ import polars as pl
 from bodycensus.engines.summary import build_summary
 from bodycensus.input.ingest import IngestReport
 from bodycensus.input.schema import guess_mapping
-from bodycensus.science.rules.base import FINDING_SCHEMA, SEVERITIES
+from bodycensus.science.rules.base import FINDING_SCHEMA
+from bodycensus.science.severity import SEVERITIES
 
 BODIES = pl.LazyFrame({"id": ["a", "b", "c", "d", "e"],
                        "label": ["rocky", "rocky", "gassy", "odd", "odd"],
