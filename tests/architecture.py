@@ -109,6 +109,50 @@ def modules() -> tuple[Module, ...]:
     return tuple(found)
 
 
+# Modules with logic that no test imports directly, and the test that exercises them instead.
+TESTED_THROUGH: dict[str, str] = {
+    "bodycensus.cli.check": "test_check_cli.py runs `python -m bodycensus check` as a process",
+    "bodycensus.dashboard.deps": "test_api.py: every route receives its store and settings",
+    "bodycensus.dashboard.intake.uploads": "test_api_lifecycle.py, test_hostile_input.py upload",
+    "bodycensus.dashboard.security.guard": "test_security.py, test_auth.py through the app",
+    "bodycensus.demo.defects_body": "test_demo_planted.py checks every planted defect",
+    "bodycensus.demo.defects_orbit": "test_demo_planted.py checks every planted defect",
+    "bodycensus.demo.names": "test_demo.py: names of a written demo",
+    "bodycensus.demo.orbits": "test_demo.py: orbits of a written demo obey Kepler and Hill",
+    "bodycensus.demo.planter": "test_demo_planted.py: truth rows of each planted defect",
+    "bodycensus.demo.scoring": "test_demo.py scores a demo run (`bodycensus demo --score`)",
+    "bodycensus.demo.stars": "test_demo.py: stellar masses and radii of a written demo",
+    "bodycensus.progress": "a Protocol; test_ingest.py and test_local.py record progress calls",
+    "bodycensus.science.rules.body": "test_rules.py through the rule registry (all_rules)",
+    "bodycensus.science.rules.errors": "test_rules.py through the rule registry (all_rules)",
+    "bodycensus.science.rules.statistics": "test_rules.py through the rule registry (all_rules)",
+}
+
+
+def has_logic(module: Module) -> bool:
+    """Whether a module defines any function (constants and re-exports need no test file)."""
+    tree = ast.parse(module.path.read_text(encoding="utf-8"))
+    return any(isinstance(n, ast.FunctionDef | ast.AsyncFunctionDef) for n in ast.walk(tree))
+
+
+def tested_directly() -> dict[str, set[str]]:
+    """Module name -> the test files that import it."""
+    users: dict[str, set[str]] = {}
+    for path in sorted((ROOT / "tests").rglob("test_*.py")):
+        tree = ast.parse(path.read_text(encoding="utf-8"))
+        for name in _our_imports(tree, "tests", False):
+            users.setdefault(name, set()).add(path.name)
+    return users
+
+
+def untested_modules() -> list[str]:
+    """Modules with logic that no test file imports and that are not listed as tested
+    through another test."""
+    users = tested_directly()
+    return [m.name for m in modules() if has_logic(m) and m.name not in users
+            and m.name not in TESTED_THROUGH]
+
+
 def upward_imports() -> list[str]:
     """Each import that reaches up a floor, as 'importer -> imported'."""
     return [f"{m.name} ({m.floor}) -> {i} ({floor_of(i)})" for m in modules()

@@ -39,3 +39,12 @@ def test_the_floor_check_sees_an_upward_import() -> None:
 def test_the_guide_map_is_drawn_from_the_code() -> None:
     assert architecture.written_map() == architecture.render_map(), (
         "DEVELOPERS.md's module map is stale: run `python tests/architecture.py`")
+
+
+def test_every_module_with_logic_has_a_test() -> None:
+    assert architecture.untested_modules() == [], (
+        "add a test file that imports these (tests/test_<module>.py), or say in "
+        "architecture.TESTED_THROUGH which test exercises them")
+    stale = [name for name in architecture.TESTED_THROUGH
+             if name not in architecture.module_names() or name in architecture.tested_directly()]
+    assert stale == [], f"TESTED_THROUGH lists modules that no longer need it: {stale}"
