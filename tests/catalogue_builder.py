@@ -13,9 +13,9 @@ import polars as pl
 from bodycensus.engines.local import CheckOptions, CheckResult, check_table
 from bodycensus.input.schema import CANONICAL_FIELDS, FIELD_TYPES
 from bodycensus.science.physics.orbits import kepler_period
-from bodycensus.science.units import AU, M_EARTH, M_SUN, R_SUN
+from bodycensus.science.units import AU, M_EARTH, M_SUN, PLANET_RADII, R_SUN
 
-# The rule ids issue 2 fixes (item 6), plus bad-cell for unreadable cells: an oracle written
+# The rule ids issues 2 (item 6) and 15 fix, plus bad-cell for unreadable cells: an oracle written
 # independently of the registry, which the registry test compares against.
 ISSUE_RULE_IDS: tuple[str, ...] = (
     "missing-value", "non-positive", "duplicate-id", "orphan-parent", "parent-cycle", "unit-slip",
@@ -24,6 +24,9 @@ ISSUE_RULE_IDS: tuple[str, ...] = (
     "periapsis-inside-parent", "inside-rigid-roche", "inside-fluid-roche", "roche-lobe-overflow",
     "outside-hill-sphere", "beyond-stable-hill", "kepler-mismatch", "crossing-orbits",
     "hill-spacing", "heavier-than-parent", "binary-barycentre", "tidal-lock-age", "label-outlier",
+    # issue 15: rings, tidal heating, lifetimes
+    "ring-edges-reversed", "ring-inside-planet", "ring-beyond-roche", "ring-beyond-hill",
+    "moon-in-ring", "tidal-heating", "short-lived-orbit",
 )
 
 SUN_LIKE = {"id": "S", "label": "yellow dwarf star", "family": "star", "mass": M_SUN,
@@ -34,7 +37,8 @@ EARTH_LIKE = {"id": "P", "label": "terrestrial planet", "family": "rock", "paren
 
 
 def normalised(rows: list[dict[str, Any]]) -> pl.DataFrame:
-    """A normalised table (DEVELOPERS.md) from rows of canonical fields plus optional ``_bad``."""
+    """A normalised table (DEVELOPERS.md) from rows of canonical fields plus optional ``_bad``
+    and ``_planet_radii``."""
     columns: dict[str, pl.Series] = {}
     for name in CANONICAL_FIELDS:
         columns[name] = pl.Series(name, [row.get(name) for row in rows], dtype=FIELD_TYPES[name])
@@ -42,6 +46,7 @@ def normalised(rows: list[dict[str, Any]]) -> pl.DataFrame:
     return frame.with_columns(
         pl.int_range(1, pl.len() + 1, dtype=pl.Int64).alias("_row"),
         pl.Series("_bad", [row.get("_bad") for row in rows], dtype=pl.String),
+        pl.Series(PLANET_RADII, [row.get(PLANET_RADII) for row in rows], dtype=pl.String),
     )
 
 

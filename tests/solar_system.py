@@ -23,7 +23,7 @@ import polars as pl
 
 from bodycensus.input.schema import CANONICAL_FIELDS, FIELD_TYPES
 from bodycensus.science.physics.bodies import sphere_volume
-from bodycensus.science.units import AU, DAY, HOUR, L_SUN, M_SUN, R_SUN
+from bodycensus.science.units import AU, DAY, HOUR, L_SUN, M_SUN, PLANET_RADII, R_SUN
 
 KM = 1e3
 SYSTEM = "Solar System"
@@ -93,7 +93,18 @@ _RING_MOONS: list[tuple[str, str, float, float, float, float, float]] = [
     ("pan", "Pan", 420.0, 14.1, 133_584, 0.0000144, 0.575),
     ("atlas", "Atlas", 500.0, 14.9, 137_670, 0.0012, 0.602),
     ("prometheus", "Prometheus", 480.0, 43.1, 139_380, 0.0022, 0.613),
+    # Daphnis: a and density REFERENCES.md; mean radius 3.8 km, e, P from memory.
+    ("daphnis", "Daphnis", 340.0, 3.8, 136_505, 0.0000331, 0.594),
 ]
+
+# Saturn's main rings as bodies of the ring family (PDS Rings Node "Vital statistics", in
+# REFERENCES.md): id, name, inner edge km, outer edge km. Material not given (judged as ice).
+_RINGS: list[tuple[str, str, float, float]] = [
+    ("c_ring", "C ring", 74_491, 91_975),
+    ("b_ring", "B ring", 91_975, 117_570),
+    ("a_ring", "A ring", 122_170, 136_775),
+]
+RETROGRADE = {"triton"}  # Triton orbits Neptune retrograde (inclination ~157 deg; memory)
 
 
 def _row(body: _Row) -> dict[str, Any]:
@@ -106,8 +117,15 @@ def _row(body: _Row) -> dict[str, Any]:
         "system": SYSTEM, "mass": mass, "radius": radius_km * KM,
         "semi_major_axis": a_km * KM, "eccentricity": e, "period": period,
         "rotation_period": rotation, "tidally_locked": locked, "age": AGE,
-        "temperature": None, "luminosity": None,
+        "temperature": None, "luminosity": None, "retrograde": ident in RETROGRADE,
     }
+
+
+def _ring_row(ident: str, name: str, inner_km: float, outer_km: float) -> dict[str, Any]:
+    """One of Saturn's rings: a row of the ring family whose parent is Saturn."""
+    return {"id": ident, "name": name, "label": "planetary ring", "family": "ring",
+            "parent": "saturn", "system": SYSTEM, "ring_inner": inner_km * KM,
+            "ring_outer": outer_km * KM, "age": AGE}
 
 
 def _ring_moon_row(ident: str, name: str, density: float, radius_km: float, a_km: float,
@@ -132,14 +150,17 @@ SOLAR_SYSTEM_ROWS: list[dict[str, Any]] = [
     *(_row(body) for body in _PLANETS),
     *(_row(body) for body in _MOONS),
     *(_ring_moon_row(*moon) for moon in _RING_MOONS),
+    *(_ring_row(*ring) for ring in _RINGS),
 ]
 
 
 def solar_system_frame() -> pl.DataFrame:
-    """The rows as a normalised table (DEVELOPERS.md): canonical fields, ``_row`` 1..n, ``_bad``."""
+    """The rows as a normalised table (DEVELOPERS.md): canonical fields, ``_row`` 1..n, ``_bad``,
+    ``_planet_radii`` (none: every ring edge is in metres)."""
     schema = {field: FIELD_TYPES[field] for field in CANONICAL_FIELDS}
     frame = pl.DataFrame(SOLAR_SYSTEM_ROWS, schema=schema)
     return frame.with_columns(
         pl.int_range(1, frame.height + 1, dtype=pl.Int64).alias("_row"),
         pl.lit(None, dtype=pl.String).alias("_bad"),
+        pl.lit(None, dtype=pl.String).alias(PLANET_RADII),
     )

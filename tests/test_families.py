@@ -27,7 +27,7 @@ from bodycensus.science.units import M_EARTH
 def test_families_follow_the_vocabulary_of_the_design() -> None:
     assert FAMILIES == ("iron", "rock", "rock_ice", "ice", "ocean", "gas_giant", "ice_giant",
                         "brown_dwarf", "star", "giant_star", "white_dwarf", "neutron_star",
-                        "black_hole", "minor", "unknown")
+                        "black_hole", "minor", "ring", "unknown")
     assert SOLID_FAMILIES | FLUID_FAMILIES | STELLAR_FAMILIES <= set(FAMILIES)
     assert not SOLID_FAMILIES & FLUID_FAMILIES
 

@@ -34,8 +34,10 @@ EXPECTED_SCHEMA = pl.Schema({
     "parent": pl.String, "system": pl.String, "mass": pl.Float64, "radius": pl.Float64,
     "semi_major_axis": pl.Float64, "eccentricity": pl.Float64, "period": pl.Float64,
     "rotation_period": pl.Float64, "tidally_locked": pl.Boolean, "age": pl.Float64,
-    "temperature": pl.Float64, "luminosity": pl.Float64, "_row": pl.Int64, "_bad": pl.String,
-    "colour": pl.String,
+    "temperature": pl.Float64, "luminosity": pl.Float64, "inclination": pl.Float64,
+    "retrograde": pl.Boolean, "ring_inner": pl.Float64, "ring_outer": pl.Float64,
+    "ring_mass": pl.Float64, "ring_density": pl.Float64, "_row": pl.Int64, "_bad": pl.String,
+    "_planet_radii": pl.String, "colour": pl.String,
 })
 # Reference conversions from astropy (IAU 2015 B3 nominal Earth mass; IAU 2012 B2 au; days).
 M_E = const.M_earth.to_value(u.kg)

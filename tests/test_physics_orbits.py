@@ -86,6 +86,25 @@ def test_saturn_main_rings_inside_fluid_roche_limit() -> None:
     assert RINGS["A"][1] < 1.03 * limit_km
 
 
+def test_density_implied_by_the_a_ring_outer_edge_is_near_water_ice() -> None:
+    # REFERENCES.md (computed): Saturn 687 kg m-3, mean radius 58,232 km (JPL SSD) and the A
+    # ring's outer edge 136,775 km (PDS Rings Node) give ~770 kg m-3 with the fluid 2.44: icy
+    # material a little lighter than solid ice (917, CRC Handbook), as porous particles are.
+    implied = orbits.roche_density(SATURN[1], SATURN[2], RINGS["A"][1] * KM,
+                                   orbits.FLUID_ROCHE_COEFFICIENT)
+    assert implied == pytest.approx(770, rel=1e-2)
+    assert 0.5 * 917 < implied < 917
+
+
+def test_roche_density_inverts_the_roche_limit() -> None:
+    # The same relation both ways: the density implied at a body's Roche distance is its own.
+    fluid = orbits.roche_fluid(SATURN[1], SATURN[2], 917.0)
+    back = orbits.roche_density(SATURN[1], SATURN[2], fluid, orbits.FLUID_ROCHE_COEFFICIENT)
+    assert back == pytest.approx(917.0, rel=1e-12)
+    assert_three_forms(orbits.roche_density, {"r": [6e7, 7e5], "rho": [687.0, 1408.0],
+                                              "d": [1.37e8, 2e6]}, coefficient=2.44)
+
+
 # NSSDCA Saturnian satellite fact sheet (REFERENCES.md): semi-major axis km, density kg m-3.
 RING_MOONS = {"Pan": (133_584, 420.0), "Atlas": (137_670, 500.0), "Prometheus": (139_380, 480.0)}
 
@@ -125,6 +144,16 @@ def test_stable_hill_fraction() -> None:
     # The Moon (a = 384,400 km, e = 0.0549 NSSDCA) is well inside Earth's stable region.
     r_hill = orbits.hill_radius(AU, 0.0167, EARTH[0], M_SUN)
     assert 384_400 * KM < orbits.stable_hill_fraction(0.0167, 0.0549) * r_hill
+
+
+def test_retrograde_stable_hill_fraction() -> None:
+    # Domingos, Winter & Yokoyama 2006: retrograde satellites are stable to ~0.93 r_H
+    # (REFERENCES.md, and the contributor guide); the eccentricity terms (1.0764 e_p, 0.9812 e_s)
+    # are from memory, so only their sign and size are checked here.
+    circular = orbits.stable_hill_fraction(0.0, 0.0, retrograde=True)
+    assert circular == pytest.approx(0.93, rel=1e-2)
+    assert circular > 1.8 * orbits.stable_hill_fraction(0.0, 0.0)
+    assert 0.6 * circular < orbits.stable_hill_fraction(0.05, 0.2, retrograde=True) < circular
 
 
 def test_mutual_hill_radius_and_gladman_criterion() -> None:

@@ -25,13 +25,15 @@ def test_canonical_fields_and_types_follow_the_contract() -> None:
     assert CANONICAL_FIELDS == (
         "id", "name", "label", "family", "parent", "system", "mass", "radius", "semi_major_axis",
         "eccentricity", "period", "rotation_period", "tidally_locked", "age", "temperature",
-        "luminosity",
+        "luminosity", "inclination", "retrograde", "ring_inner", "ring_outer", "ring_mass",
+        "ring_density",
     )
     assert {f for f, t in FIELD_TYPES.items() if t == pl.String} == {
         "id", "name", "label", "family", "parent", "system"}
-    assert FIELD_TYPES["tidally_locked"] == pl.Boolean
+    assert {f for f, t in FIELD_TYPES.items() if t == pl.Boolean} == {"tidally_locked",
+                                                                      "retrograde"}
     assert set(NUMERIC_FIELDS) == {f for f, t in FIELD_TYPES.items() if t == pl.Float64}
-    assert len(NUMERIC_FIELDS) == 9
+    assert len(NUMERIC_FIELDS) == 14
 
 
 @pytest.mark.parametrize(("header", "field"), [

@@ -62,20 +62,31 @@ ASTROPY_UNITS: dict[str, u.UnitBase] = {
     "kg/m3": u.kg / u.m**3, "g/cm3": u.g / u.cm**3,
     "K": u.K, "W": u.W, "solar_luminosity": u.L_sun,
     "years": u.yr, "Myr": u.Myr, "Gyr": u.Gyr,
+    "deg": u.deg, "rad": u.rad,
     "1": u.dimensionless_unscaled,
 }
 ASTROPY_SI: dict[str, u.UnitBase] = {
     "mass": u.kg, "length": u.m, "time": u.s, "density": u.kg / u.m**3, "temperature": u.K,
-    "power": u.W, "age": u.yr, "dimensionless": u.dimensionless_unscaled,
+    "power": u.W, "age": u.yr, "angle": u.rad, "dimensionless": u.dimensionless_unscaled,
 }
+FIXED_UNITS = sorted(name for name, unit in units.UNITS.items() if not unit.relative)
 
 
 def test_every_unit_has_an_astropy_check() -> None:
-    # A unit added to units.py without an entry here would go unchecked (DEVELOPERS.md).
-    assert set(ASTROPY_UNITS) == set(units.UNITS)
+    # A unit added to units.py without an entry here would go unchecked (DEVELOPERS.md); a
+    # relative unit has no fixed factor to check (below).
+    assert set(ASTROPY_UNITS) == set(FIXED_UNITS)
 
 
-@pytest.mark.parametrize("name", sorted(units.UNITS))
+def test_the_planet_radius_is_a_relative_length_without_a_fixed_factor() -> None:
+    unit = parse_unit("R_planet")
+    assert (unit.name, unit.dimension, unit.relative) == ("planet_radius", "length", True)
+    assert {parse_unit(s).name for s in ("Rp", "planet radii", "R_pl")} == {"planet_radius"}
+    with pytest.raises(UnknownUnitError, match="relative to a radius in the catalogue"):
+        convert(2.0, "planet_radius", "km")
+
+
+@pytest.mark.parametrize("name", FIXED_UNITS)
 def test_unit_factor_matches_astropy(name: str) -> None:
     unit = units.UNITS[name]
     expected = ASTROPY_UNITS[name].to(ASTROPY_SI[unit.dimension])
@@ -102,6 +113,7 @@ def test_every_field_dimension_has_an_si_unit() -> None:
         ("g/cm^3", "g/cm3"), ("g/cc", "g/cm3"), ("kg/m^3", "kg/m3"),
         ("days", "d"), ("Day", "d"), ("hours", "h"), ("yr", "yr"),
         ("L_sun", "solar_luminosity"), ("Gyr", "Gyr"), ("myr", "Myr"),
+        ("degrees", "deg"), ("°", "deg"), ("radians", "rad"),
     ],
 )
 def test_spellings(spelling: str, name: str) -> None:

@@ -40,6 +40,7 @@ from bodycensus.input.readers import (
     to_string,
 )
 from bodycensus.input.schema import (
+    BOOLEAN_FIELDS,
     CANONICAL_FIELDS,
     FIELD_TYPES,
     NUMERIC_FIELDS,
@@ -50,9 +51,14 @@ from bodycensus.input.schema import (
     guess_mapping,
 )
 from bodycensus.progress import Progress, quiet
+from bodycensus.science.units import PLANET_RADII
 
 _ROW, _PRESENT, _BAD = ROW_INDEX, "__bodycensus_present__", "__bodycensus_bad__"
 _TRUE, _FALSE = ["true", "yes", "y", "t", "1", "1.0"], ["false", "no", "n", "f", "0", "0.0"]
+# Words some fields use for true and false beyond the plain ones: an orbit's sense.
+_WORDS: dict[str, tuple[list[str], list[str]]] = {
+    "retrograde": (["retrograde", "retro"], ["prograde", "direct", "pro"]),
+}
 
 
 @dataclass(frozen=True)
@@ -131,15 +137,16 @@ def _parse(name: str, col: pl.Expr, dtype: pl.DataType, factor: float) -> tuple[
     """A field's value (non-finite values kept for now) and whether its cell held anything."""
     if name in NUMERIC_FIELDS and (dtype.is_numeric() or dtype == pl.Boolean):
         return col.cast(pl.Float64) * factor, col.is_not_null()
-    if name == "tidally_locked" and dtype == pl.Boolean:
+    if name in BOOLEAN_FIELDS and dtype == pl.Boolean:
         return col, col.is_not_null()
     text = _clean(to_string(col, dtype))
     if name in NUMERIC_FIELDS:
         return text.cast(pl.Float64, strict=False) * factor, text.is_not_null()
-    if name == "tidally_locked":  # is_in streams; replace_strict held the whole column (polars 2.1)
+    if name in BOOLEAN_FIELDS:  # is_in streams; replace_strict held the whole column (polars 2.1)
         word = text.str.to_lowercase()
-        return pl.when(word.is_in(_TRUE)).then(True).when(word.is_in(_FALSE)).then(False), \
-            text.is_not_null()
+        yes, no = _WORDS.get(name, ([], []))
+        return pl.when(word.is_in(_TRUE + yes)).then(True).when(word.is_in(_FALSE + no)) \
+            .then(False), text.is_not_null()
     return text, pl.lit(False)
 
 
@@ -152,12 +159,20 @@ def _is_bad(name: str) -> pl.Expr:
 
 def _output_name(column: str) -> str:
     """An unknown column's name in the table: its own, or orig_NAME when that is taken."""
-    taken = set(CANONICAL_FIELDS) | {"_row", "_bad"}
+    taken = set(CANONICAL_FIELDS) | {"_row", "_bad", PLANET_RADII}
     return f"orig_{column}" if column in taken else column
 
 
+def _planet_radii(mapping: Mapping) -> pl.Expr:
+    """Comma-joined names of the fields mapped from a column in radii of the ring's planet
+    (null when none): the values derive multiplies by that planet's radius."""
+    relative = [f for f in CANONICAL_FIELDS if f in mapping.choices and mapping.choices[f].relative]
+    return pl.lit(",".join(relative) if relative else None, dtype=pl.String).alias(PLANET_RADII)
+
+
 def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping) -> pl.LazyFrame:
-    """The normalised table: canonical fields in SI, _row, _bad, then the unknown columns.
+    """The normalised table: canonical fields in SI (ring edges possibly in planet radii, as
+    _planet_radii says), _row, _bad, _planet_radii, then the unknown columns.
 
     Three plain selects (parse, flag, assemble) keep each expression small for the streaming
     engine: every cell is parsed once."""
@@ -176,7 +191,8 @@ def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping) -> pl.L
     return (frame.select(*parsed, pl.col(_ROW).cast(pl.Int64).alias("_row"), *unknown)
             .with_columns(_is_bad(f) for f in mapped)
             .select(*fields, "_row", pl.when(joined != "").then(joined).cast(pl.String)
-                    .alias("_bad"), *(_output_name(c) for c in mapping.unknown_columns)))
+                    .alias("_bad"), _planet_radii(mapping),
+                    *(_output_name(c) for c in mapping.unknown_columns)))
 
 
 def _write(plan: pl.LazyFrame, dest: Path, source: Path, max_rows: int,

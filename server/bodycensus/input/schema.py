@@ -15,21 +15,33 @@ from typing import Literal, TypedDict
 import polars as pl
 
 from bodycensus.errors import InputError
-from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT, UNITS, Unit, find_unit
+from bodycensus.science.units import (
+    FIELD_DIMENSIONS,
+    RELATIVE_FIELDS,
+    SI_UNIT,
+    UNITS,
+    Unit,
+    find_unit,
+)
 
 CANONICAL_FIELDS: tuple[str, ...] = (
     "id", "name", "label", "family", "parent", "system", "mass", "radius", "semi_major_axis",
     "eccentricity", "period", "rotation_period", "tidally_locked", "age", "temperature",
-    "luminosity",
+    "luminosity", "inclination", "retrograde", "ring_inner", "ring_outer", "ring_mass",
+    "ring_density",
 )
 TEXT_FIELDS: tuple[str, ...] = ("id", "name", "label", "family", "parent", "system")
+BOOLEAN_FIELDS: tuple[str, ...] = ("tidally_locked", "retrograde")
 NUMERIC_FIELDS: tuple[str, ...] = tuple(
-    f for f in CANONICAL_FIELDS if f not in TEXT_FIELDS and f != "tidally_locked"
+    f for f in CANONICAL_FIELDS if f not in TEXT_FIELDS and f not in BOOLEAN_FIELDS
 )
 FIELD_TYPES: dict[str, pl.DataType] = {
-    f: pl.String() if f in TEXT_FIELDS else pl.Boolean() if f == "tidally_locked" else pl.Float64()
+    f: pl.String() if f in TEXT_FIELDS else pl.Boolean() if f in BOOLEAN_FIELDS else pl.Float64()
     for f in CANONICAL_FIELDS
 }
+# A ring's fields describe the ring a row IS (a body of the `ring` family, whose parent is its
+# planet) or the ring a row CARRIES (columns of the planet); `ring_inner`/`ring_outer` may be
+# given in radii of that planet (unit `planet_radius`), which derive resolves.
 
 _FIELD_ALIASES: dict[str, tuple[str, ...]] = {
     "id": ("id", "body_id", "uid", "objid", "object_id"),
@@ -49,6 +61,14 @@ _FIELD_ALIASES: dict[str, tuple[str, ...]] = {
     "age": ("age",),
     "temperature": ("temperature", "temp", "teff", "t_eq", "surface_temperature"),
     "luminosity": ("luminosity", "lum"),
+    "inclination": ("inclination", "incl", "inc", "i"),
+    "retrograde": ("retrograde", "orbit_sense", "sense", "orbit_direction"),
+    "ring_inner": ("ring_inner", "ring_inner_radius", "ring_inner_edge", "inner_radius",
+                   "inner_edge", "rings_inner"),
+    "ring_outer": ("ring_outer", "ring_outer_radius", "ring_outer_edge", "outer_radius",
+                   "outer_edge", "rings_outer"),
+    "ring_mass": ("ring_mass", "rings_mass"),
+    "ring_density": ("ring_density", "ring_material_density", "material_density", "ring_rho"),
 }
 
 # Bare suffixes whose unit depends on the field: `mass_earth`, `radius_jup`, `luminosity_sun`.
@@ -115,6 +135,11 @@ class ColumnChoice:
         """Multiply the column's numbers by this to get the field in SI (ages in years)."""
         return 1.0 if self.unit is None else _factor_for(self.field, UNITS[self.unit])
 
+    @property
+    def relative(self) -> bool:
+        """Whether the column is in radii of the ring's planet (derive turns it into metres)."""
+        return self.unit is not None and UNITS[self.unit].relative
+
     def to_json(self) -> ChoiceRecord:
         """A plain dict for the API and the report."""
         return {"field": self.field, "column": self.column, "unit": self.unit,
@@ -145,7 +170,10 @@ class Mapping:
 
 
 def _dimension_fits(field_name: str, unit: Unit) -> bool:
-    """Whether ``unit`` can measure ``field_name`` (time and age units are interchangeable)."""
+    """Whether ``unit`` can measure ``field_name`` (time and age units are interchangeable; a
+    relative unit only the fields that may be given relative to the ring's planet)."""
+    if unit.relative and field_name not in RELATIVE_FIELDS:
+        return False
     need = FIELD_DIMENSIONS.get(field_name)
     if need in ("time", "age"):
         return unit.dimension in ("time", "age")

@@ -14,12 +14,17 @@ from bodycensus.errors import InputError
 
 FAMILIES: tuple[str, ...] = (
     "iron", "rock", "rock_ice", "ice", "ocean", "gas_giant", "ice_giant", "brown_dwarf",
-    "star", "giant_star", "white_dwarf", "neutron_star", "black_hole", "minor", "unknown",
+    "star", "giant_star", "white_dwarf", "neutron_star", "black_hole", "minor", "ring", "unknown",
 )
+# A ring is not a body: its row holds a ring's edges about its parent (the planet), and only the
+# ring rules judge it.
+RING_FAMILIES = frozenset({"ring"})
+BODY_FAMILIES = frozenset(FAMILIES) - RING_FAMILIES
 SOLID_FAMILIES = frozenset({"iron", "rock", "rock_ice", "ice", "ocean", "minor"})
 FLUID_FAMILIES = frozenset({"gas_giant", "ice_giant", "brown_dwarf", "star", "giant_star"})
 PLANETARY_FAMILIES = SOLID_FAMILIES | {"gas_giant", "ice_giant"}
 STELLAR_FAMILIES = frozenset({"star", "giant_star", "white_dwarf", "neutron_star", "black_hole"})
+NON_STELLAR_FAMILIES = BODY_FAMILIES - STELLAR_FAMILIES  # planets, moons, minor bodies, ...
 
 
 @dataclass(frozen=True)
@@ -64,6 +69,7 @@ FAMILY_PARAMETERS: dict[str, FamilyParameters] = {
                                     1e6),
     "neutron_star": FamilyParameters(DensityBand("const", 1e16, "const", 3e18), _ROCK, 1e6),
     "black_hole": FamilyParameters(None, _ROCK, 1e6),
+    "ring": FamilyParameters(None, _ICE, 100.0),
     "unknown": FamilyParameters(None, _ROCK, 100.0),
 }
 
@@ -92,6 +98,9 @@ _KEYWORDS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("star", ("star", "sun", "main sequence", "main-sequence", "dwarf star", "red dwarf",
               "yellow dwarf", "orange dwarf")),
 )
+# A ring, ringlet or ring system, as a word of its own ("ringed giant" is a planet): checked
+# before the keywords, so that "icy ring" or "dust ring" is a ring, not an icy body.
+_RING = re.compile(r"\b(rings?|ringlets?|ring system|annulus)\b")
 # Stellar spectral classes on their own (e.g. "G2V", "M4.5V", "K0 V") are main-sequence stars.
 _SPECTRAL_CLASS = re.compile(r"^[obafgkm]\d?(\.\d)?\s*(v|iv)?$")
 
@@ -105,6 +114,8 @@ def guess_family(label: str | None) -> str:
         return text.replace(" ", "_")
     if _SPECTRAL_CLASS.match(text):
         return "star"
+    if _RING.search(text):
+        return "ring"
     for family, words in _KEYWORDS:
         if any(word in text for word in words):
             return family

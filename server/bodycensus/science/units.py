@@ -6,6 +6,7 @@ This module knows nothing else in the package.
 
 from __future__ import annotations
 
+import math
 import re
 from dataclasses import dataclass
 
@@ -37,11 +38,16 @@ YEAR = 365.25 * DAY  # s; Julian year (IAU)
 
 @dataclass(frozen=True)
 class Unit:
-    """A named unit: its dimension and the factor that turns a value in it into SI."""
+    """A named unit: its dimension and the factor that turns a value in it into SI.
+
+    A relative unit (``relative=True``) is a multiple of a length the catalogue itself gives:
+    ``planet_radius`` is the radius of the planet a ring circles, so its SI value is only known
+    once that planet's radius is (``to_si`` is then 1: the number of those radii)."""
 
     name: str
-    dimension: str  # mass | length | time | density | temperature | power | age | dimensionless
+    dimension: str  # mass | length | time | density | temperature | power | age | angle | 1
     to_si: float
+    relative: bool = False
 
 
 _UNITS: tuple[Unit, ...] = (
@@ -56,6 +62,7 @@ _UNITS: tuple[Unit, ...] = (
     Unit("jupiter_radius", "length", R_JUPITER),
     Unit("solar_radius", "length", R_SUN),
     Unit("au", "length", AU),
+    Unit("planet_radius", "length", 1.0, relative=True),
     Unit("s", "time", 1.0),
     Unit("h", "time", HOUR),
     Unit("d", "time", DAY),
@@ -68,6 +75,8 @@ _UNITS: tuple[Unit, ...] = (
     Unit("years", "age", 1.0),
     Unit("Myr", "age", 1e6),
     Unit("Gyr", "age", 1e9),
+    Unit("deg", "angle", math.pi / 180.0),
+    Unit("rad", "angle", 1.0),
     Unit("1", "dimensionless", 1.0),
 )
 UNITS: dict[str, Unit] = {u.name: u for u in _UNITS}
@@ -89,6 +98,10 @@ _ALIASES: dict[str, str] = {
     "r_j": "jupiter_radius", "jupiterradius": "jupiter_radius", "jupiterradii": "jupiter_radius",
     "rsun": "solar_radius", "r_sun": "solar_radius", "rsol": "solar_radius",
     "r_sol": "solar_radius", "solarradius": "solar_radius", "solarradii": "solar_radius",
+    "rplanet": "planet_radius", "r_planet": "planet_radius", "rp": "planet_radius",
+    "r_p": "planet_radius", "planetradius": "planet_radius", "planetradii": "planet_radius",
+    "r_pl": "planet_radius", "rpl": "planet_radius",
+    "degree": "deg", "degrees": "deg", "°": "deg", "radian": "rad", "radians": "rad",
     "ua": "au", "astronomicalunit": "au", "astronomicalunits": "au",
     "sec": "s", "second": "s", "seconds": "s",
     "hr": "h", "hour": "h", "hours": "h", "hrs": "h",
@@ -112,10 +125,19 @@ FIELD_DIMENSIONS: dict[str, str] = {
     "temperature": "temperature",
     "luminosity": "power",
     "eccentricity": "dimensionless",
+    "inclination": "angle",
+    "ring_inner": "length",
+    "ring_outer": "length",
+    "ring_mass": "mass",
+    "ring_density": "density",
 }
+# Fields that may be given in a relative unit (radii of the ring's planet).
+RELATIVE_FIELDS: frozenset[str] = frozenset({"ring_inner", "ring_outer"})
+# The normalised table's column naming (comma-joined) the fields a row gives in such radii.
+PLANET_RADII = "_planet_radii"
 SI_UNIT: dict[str, str] = {
     "mass": "kg", "length": "m", "time": "s", "density": "kg/m3", "temperature": "K",
-    "power": "W", "age": "years", "dimensionless": "1",
+    "power": "W", "age": "years", "angle": "rad", "dimensionless": "1",
 }
 
 
@@ -153,6 +175,9 @@ def parse_unit(name: str) -> Unit:
 def convert(value: float, from_unit: str, to_unit: str) -> float:
     """Convert a scalar between two units of the same dimension."""
     source, target = parse_unit(from_unit), parse_unit(to_unit)
+    if source.relative or target.relative:
+        raise UnknownUnitError(f"'{source.name if source.relative else target.name}' is "
+                               "relative to a radius in the catalogue; it has no fixed factor")
     if source.dimension != target.dimension:
         raise UnknownUnitError(f"cannot convert {source.dimension} to {target.dimension}")
     return value * source.to_si / target.to_si

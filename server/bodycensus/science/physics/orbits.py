@@ -35,6 +35,14 @@ def roche_limit(parent_radius: Num, density_ratio: Num, coefficient: float) -> N
     return coefficient * parent_radius * power(density_ratio, 1.0 / 3.0)
 
 
+def roche_density(parent_radius: Num, parent_density: Num, distance: Num,
+                  coefficient: float) -> Num:
+    """The satellite density whose Roche limit lies at ``distance``: the same relation solved
+    for the density, rho_m = rho_M (c R_M / d)^3 (e.g. the material a ring's outer edge implies).
+    """
+    return parent_density * (coefficient * parent_radius / distance) ** 3
+
+
 def roche_rigid(parent_radius: Num, parent_density: Num, body_density: Num) -> Num:
     """Rigid-body Roche limit R_M (2 rho_M / rho_m)^(1/3) (Shu 1982)."""
     return roche_limit(parent_radius, parent_density / body_density, RIGID_ROCHE_COEFFICIENT)
@@ -50,13 +58,19 @@ def hill_radius(semi_major_axis: Num, eccentricity: Num, mass: Num, parent_mass:
     return periapsis(semi_major_axis, eccentricity) * power(mass / (3.0 * parent_mass), 1.0 / 3.0)
 
 
-def stable_hill_fraction(parent_eccentricity: Num, eccentricity: Num) -> Num:
-    """Largest stable prograde satellite orbit as a fraction of the Hill radius.
+# a_crit / r_H = c0 (1 - c_p e_p - c_s e_s), Domingos, Winter & Yokoyama 2006 (MNRAS 373, 1227):
+# prograde (0.4895, 1.0305, 0.2738); retrograde (0.9309, 1.0764, 0.9812), whose ~0.93 limit
+# REFERENCES.md gives and whose eccentricity coefficients are from memory.
+PROGRADE_HILL_FIT = (0.4895, 1.0305, 0.2738)
+RETROGRADE_HILL_FIT = (0.9309, 1.0764, 0.9812)
 
-    a_crit / r_H = 0.4895 (1 - 1.0305 e_p - 0.2738 e_s) (Domingos, Winter & Yokoyama 2006,
-    MNRAS 373, 1227). Retrograde satellites stay to ~0.93 r_H; catalogues rarely give the sense.
-    """
-    return 0.4895 * (1.0 - 1.0305 * parent_eccentricity - 0.2738 * eccentricity)
+
+def stable_hill_fraction(parent_eccentricity: Num, eccentricity: Num,
+                         retrograde: bool = False) -> Num:
+    """Largest stable satellite orbit as a fraction of the Hill radius, prograde or retrograde:
+    a_crit / r_H = c0 (1 - c_p e_p - c_s e_s) (Domingos, Winter & Yokoyama 2006)."""
+    c0, c_parent, c_own = RETROGRADE_HILL_FIT if retrograde else PROGRADE_HILL_FIT
+    return c0 * (1.0 - c_parent * parent_eccentricity - c_own * eccentricity)
 
 
 def kepler_period(semi_major_axis: Num, parent_mass: Num, mass: Num) -> Num:

@@ -9,13 +9,16 @@ from bodycensus.science.rules.base import Rule
 from bodycensus.science.rules.body import body_rules
 from bodycensus.science.rules.errors import error_rules
 from bodycensus.science.rules.orbit import OrbitSettings, orbit_rules
+from bodycensus.science.rules.rings import ring_rules
 from bodycensus.science.rules.statistics import statistics_rules
+from bodycensus.science.rules.tides import tide_rules
 
 
 def all_rules(orbit_settings: OrbitSettings | None = None) -> tuple[Rule, ...]:
     """Every rule, errors first (orbit thresholds at their defaults unless given)."""
     settings = orbit_settings or OrbitSettings()
-    return (*error_rules(), *body_rules(), *orbit_rules(settings), *statistics_rules())
+    return (*error_rules(), *body_rules(), *orbit_rules(settings), *ring_rules(settings),
+            *tide_rules(settings), *statistics_rules())
 
 
 RULE_IDS: tuple[str, ...] = tuple(rule.id for rule in all_rules())

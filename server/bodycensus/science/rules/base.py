@@ -12,6 +12,8 @@ from dataclasses import dataclass
 
 import polars as pl
 
+from bodycensus.science.families import RING_FAMILIES
+
 FINDING_SCHEMA: dict[str, pl.DataType] = {
     "body": pl.String(), "rule": pl.String(), "severity": pl.String(), "value": pl.Float64(),
     "limit": pl.Float64(), "unit": pl.String(), "margin": pl.Float64(), "message": pl.String(),
@@ -36,13 +38,19 @@ class Rule:
     families: frozenset[str] | None = None  # None: every family
     fires: pl.Expr | None = None
     severity_expr: pl.Expr | None = None
-    scope: str = "body"  # error | body | orbit | statistics
+    scope: str = "body"  # error | body | orbit | statistics | ring
 
     def applies(self) -> pl.Expr:
-        """Bodies this rule is meant for, whether or not their fields are present."""
+        """Bodies this rule is meant for, whether or not their fields are present: error rules
+        every row, ring rules every row that is or carries a ring, the others the bodies of their
+        families (every family of bodies, not rings, when none is named)."""
         applies = pl.col("_row").is_not_null()  # a column, so that sums count rows
         if self.families is not None:
             applies = pl.col("family").is_in(sorted(self.families))
+        elif self.scope not in ("error", "ring"):
+            applies = ~pl.col("family").is_in(sorted(RING_FAMILIES)).fill_null(False)
+        if self.scope == "ring":  # a ring whose planet is in a loop of parents has no planet
+            applies = applies & pl.col("_has_ring") & ~pl.col("_in_cycle")
         if self.scope == "orbit":  # a looping chain of parents has no meaningful orbit
             applies = applies & pl.col("parent").is_not_null() & ~pl.col("_in_cycle")
         return applies

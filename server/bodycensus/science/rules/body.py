@@ -6,7 +6,7 @@ from dataclasses import replace
 
 import polars as pl
 
-from bodycensus.science.families import FAMILIES, PLANETARY_FAMILIES
+from bodycensus.science.families import BODY_FAMILIES, PLANETARY_FAMILIES
 from bodycensus.science.physics import bodies
 from bodycensus.science.rules.bands import band_high, band_low
 from bodycensus.science.rules.base import Rule, fmt
@@ -44,7 +44,7 @@ def _family_density() -> Rule:
         direction="none",
         fires=outside & (~pl.col("family").is_in(sorted(PLANETARY_FAMILIES)) | not_iron)
         & pl.col("_slip_hint").is_null(),
-        families=frozenset(FAMILIES),
+        families=BODY_FAMILIES,
         message=pl.format("density {} kg/m3 is outside the {} band {}-{} kg/m3 at this mass",
                           fmt(_DENSITY), pl.col("family"), fmt(low), fmt(high)),
     )

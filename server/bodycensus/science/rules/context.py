@@ -7,11 +7,14 @@ them once), so no rule downstream fires on a negative mass.
 
 from __future__ import annotations
 
+import math
+
 import polars as pl
 
-from bodycensus.science.families import FAMILY_PARAMETERS
 from bodycensus.science.physics import bodies, orbits
 from bodycensus.science.rules.bands import band_columns, unit_slip_hint
+from bodycensus.science.rules.ring_context import own_ring_edges, ring_columns, rings_around
+from bodycensus.science.rules.tide_context import family_tides, tide_columns
 from bodycensus.science.units import YEAR
 
 _PARENT_COLUMNS = {
@@ -23,6 +26,10 @@ _PARENT_COLUMNS = {
     "semi_major_axis": "parent_semi_major_axis",
     "_e": "parent_eccentricity",  # validated: 0 when absent, null when outside [0, 1)
     "parent": "grandparent",
+    "rotation_period": "parent_rotation_period",
+    "age": "parent_age",
+    "_ring_inner_m": "parent_ring_inner",
+    "_ring_outer_m": "parent_ring_outer",
 }
 
 
@@ -38,7 +45,8 @@ def _body_columns(table: pl.LazyFrame) -> pl.LazyFrame:
     a = positive("semi_major_axis")
     e = pl.when((pl.col("eccentricity") >= 0) & (pl.col("eccentricity") < 1)).then(
         pl.col("eccentricity")).otherwise(pl.when(pl.col("eccentricity").is_null()).then(0.0))
-    return table.with_columns(
+    inclined = pl.col("inclination") > math.pi / 2.0  # radians: beyond 90 degrees
+    return own_ring_edges(table.with_columns(
         density=bodies.bulk_density(mass, radius),
         gravity=bodies.surface_gravity(mass, radius),
         gravity_g0=bodies.surface_gravity_g0(mass, radius),
@@ -49,7 +57,8 @@ def _body_columns(table: pl.LazyFrame) -> pl.LazyFrame:
         _e=e,
         _mass=mass,
         _radius=radius,
-    )
+        _retrograde=pl.coalesce("retrograde", inclined).fill_null(False),
+    ))
 
 
 def _with_parent(table: pl.LazyFrame) -> pl.LazyFrame:
@@ -75,18 +84,10 @@ def _with_parent(table: pl.LazyFrame) -> pl.LazyFrame:
     )
 
 
-def _tidal_parameters() -> tuple[pl.Expr, pl.Expr]:
-    """Rigidity and tidal Q of each body's family (families.FAMILY_PARAMETERS)."""
-    rigidity = {f: p.rigidity for f, p in FAMILY_PARAMETERS.items()}
-    quality = {f: p.quality_factor for f, p in FAMILY_PARAMETERS.items()}
-    family = pl.col("family")
-    return (family.replace_strict(rigidity, default=3e10, return_dtype=pl.Float64),
-            family.replace_strict(quality, default=100.0, return_dtype=pl.Float64))
-
-
 def _orbit_columns(table: pl.LazyFrame) -> pl.LazyFrame:
-    """Roche limits, Hill spheres, Kepler periods and the rest, for bodies with a parent."""
-    rigidity, quality = _tidal_parameters()
+    """Roche limits, Hill spheres, Kepler periods and the rest, for bodies with a parent; then
+    tides, rings and the ring around each moon."""
+    rigidity, quality = family_tides(pl.col("family"))
     a, e, mass, radius = pl.col("_a"), pl.col("_e"), pl.col("_mass"), pl.col("_radius")
     density = pl.col("_trusted_density")
     parent_mass, parent_radius = pl.col("parent_mass"), pl.col("parent_radius")
@@ -94,13 +95,15 @@ def _orbit_columns(table: pl.LazyFrame) -> pl.LazyFrame:
                                      pl.col("parent_eccentricity"), parent_mass,
                                      pl.col("grandparent_mass"))
     kepler = orbits.kepler_period(a, parent_mass, mass.fill_null(0.0))
-    return table.with_columns(
+    stable = pl.when(pl.col("_retrograde")).then(
+        orbits.stable_hill_fraction(pl.col("parent_eccentricity"), e, retrograde=True)).otherwise(
+        orbits.stable_hill_fraction(pl.col("parent_eccentricity"), e))
+    return rings_around(ring_columns(tide_columns(table.with_columns(
         roche_rigid=orbits.roche_rigid(parent_radius, pl.col("parent_density"), density),
         roche_fluid=orbits.roche_fluid(parent_radius, pl.col("parent_density"), density),
         hill_radius=orbits.hill_radius(a, e, mass, parent_mass),
         parent_hill_radius=parent_hill,
-        stable_hill_limit=orbits.stable_hill_fraction(pl.col("parent_eccentricity"), e)
-        * parent_hill,
+        stable_hill_limit=stable * parent_hill,
         kepler_period=kepler,
         period_ratio=positive("period") / kepler,
         barycentre_offset=orbits.barycentre_offset(a, parent_mass, mass),
@@ -109,7 +112,7 @@ def _orbit_columns(table: pl.LazyFrame) -> pl.LazyFrame:
         roche_x=(pl.col("parent_density") / density) ** (1.0 / 3.0),
         roche_y=pl.col("periapsis") / parent_radius,
         hill_ratio=pl.col("apoapsis") / parent_hill,
-    )
+    ))))
 
 
 def _sibling_columns(table: pl.LazyFrame) -> pl.LazyFrame:
@@ -166,7 +169,8 @@ def derive(table: pl.LazyFrame, cycle_ids: pl.Series | None = None) -> pl.LazyFr
 # (underscore-prefixed ones are working columns too).
 ENGINE_COLUMNS: tuple[str, ...] = (
     "grandparent", "grandparent_mass", "parent_semi_major_axis", "parent_eccentricity",
-    "inner_id", "inner_a", "inner_mass", "inner_apoapsis",
+    "inner_id", "inner_a", "inner_mass", "inner_apoapsis", "parent_rotation_period",
+    "parent_age", "parent_ring_inner", "parent_ring_outer",
 )
 
 DERIVED_COLUMNS: tuple[str, ...] = (
@@ -174,4 +178,7 @@ DERIVED_COLUMNS: tuple[str, ...] = (
     "parent_radius", "parent_density", "parent_family", "roche_rigid", "roche_fluid",
     "hill_radius", "parent_hill_radius", "stable_hill_limit", "kepler_period", "period_ratio",
     "barycentre_offset", "tidal_lock_time", "roche_x", "roche_y", "hill_ratio",
+    "tidal_heating", "tidal_heat_flux", "tidal_decay_time", "life_to_age", "ring_inner_edge",
+    "ring_outer_edge", "ring_planet_radius", "ring_roche_rigid", "ring_roche_fluid",
+    "ring_implied_density", "ring_roche_x", "ring_roche_y", "ring_around",
 )

@@ -4,26 +4,34 @@ from __future__ import annotations
 
 import polars as pl
 
+from bodycensus.science.families import RING_FAMILIES
 from bodycensus.science.rules.bands import band_high, band_low
 from bodycensus.science.rules.base import Rule, fmt
 
 _NONE = pl.lit(None, dtype=pl.Float64)
-_POSITIVE_FIELDS = ("mass", "radius", "semi_major_axis", "period", "rotation_period")
+_POSITIVE_FIELDS = ("mass", "radius", "semi_major_axis", "period", "rotation_period",
+                    "ring_inner", "ring_outer", "ring_mass", "ring_density")
 _DATA = "data integrity (bodycensus input contract)"
 
 
 def _missing_value() -> Rule:
+    readable = pl.col("_bad").is_null()
+    ring = pl.col("family").is_in(sorted(RING_FAMILIES)).fill_null(False)
     no_id = pl.col("id").is_null() | (pl.col("id").str.strip_chars() == "")
-    no_size = pl.col("mass").is_null() & pl.col("radius").is_null() & pl.col("_bad").is_null()
-    no_orbit = (pl.col("parent").is_not_null() & pl.col("semi_major_axis").is_null()
-                & pl.col("_bad").is_null())
+    no_size = ~ring & pl.col("mass").is_null() & pl.col("radius").is_null() & readable
+    no_orbit = (~ring & pl.col("parent").is_not_null() & pl.col("semi_major_axis").is_null()
+                & readable)
+    no_planet = ring & pl.col("parent").is_null()
+    no_outer = (pl.col("_has_ring") & pl.col("ring_outer").is_null() & readable)
     parts = [pl.when(no_id).then(pl.lit("no id")),
              pl.when(no_size).then(pl.lit("neither mass nor radius")),
-             pl.when(no_orbit).then(pl.lit("a parent but no semi-major axis"))]
+             pl.when(no_orbit).then(pl.lit("a parent but no semi-major axis")),
+             pl.when(no_planet).then(pl.lit("a ring but no parent planet")),
+             pl.when(no_outer).then(pl.lit("a ring but no outer edge"))]
     return Rule(
         id="missing-value", title="A required value is missing", severity="error", source=_DATA,
         needs=(), value=_NONE, limit=_NONE, unit="", direction="none",
-        fires=no_id | no_size | no_orbit,
+        fires=no_id | no_size | no_orbit | no_planet | no_outer,
         message=pl.concat_str(parts, separator="; ", ignore_nulls=True), scope="error",
     )
 
@@ -103,7 +111,18 @@ def _bad_eccentricity() -> Rule:
     )
 
 
+def _ring_edges_reversed() -> Rule:
+    inner, outer = pl.col("ring_inner_edge"), pl.col("ring_outer_edge")
+    return Rule(
+        id="ring-edges-reversed", title="A ring's outer edge is not beyond its inner edge",
+        severity="error", source=_DATA, needs=("ring_inner_edge", "ring_outer_edge"),
+        value=outer, limit=inner, unit="m", direction="none", fires=outer <= inner,
+        message=pl.format("ring outer edge {} km is not beyond its inner edge {} km",
+                          fmt(outer / 1e3), fmt(inner / 1e3)), scope="ring",
+    )
+
+
 def error_rules() -> tuple[Rule, ...]:
     """Every data-integrity rule."""
     return (_missing_value(), _bad_cell(), _non_positive(), _duplicate_id(), _orphan_parent(),
-            _parent_cycle(), _unit_slip(), _bad_eccentricity())
+            _parent_cycle(), _unit_slip(), _bad_eccentricity(), _ring_edges_reversed())

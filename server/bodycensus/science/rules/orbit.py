@@ -27,6 +27,15 @@ class OrbitSettings:
     # Pairs lighter than this mass ratio are planet and host, not a binary, even when their
     # barycentre lies outside the host (Sun-Jupiter: q = 0.001); Pluto-Charon has q = 0.12.
     binary_mass_ratio: float = 0.01  # common practice
+    # How far past the fluid Roche limit for its material a ring's outer edge may reach before
+    # it is suspect: ring particles are porous aggregates lighter than solid ice, and Saturn's A
+    # ring's outer edge lies at 1.06x the limit for solid ice (it implies 770 kg m-3; computed
+    # from JPL SSD and PDS Rings Node values). 1.2x is 0.58x the material's density (chosen here).
+    ring_roche_tolerance: float = 1.2
+    # A decaying orbit with less than this fraction of its system's age left is `unstable`: a
+    # snapshot caught in the last 1 % of a state is a 1-in-100 coincidence (Patra et al. 2017 call
+    # WASP-12b's last ~0.2 % "an unlikely coincidence"); the threshold is chosen here.
+    short_life_fraction: float = 0.01
 
 
 _A, _PERI, _APO = pl.col("_a"), pl.col("periapsis"), pl.col("apoapsis")
@@ -107,15 +116,18 @@ def _hill_rules() -> tuple[Rule, Rule]:
         message=pl.format("semi-major axis is {}x the parent's Hill radius", fmt(ratio)),
     )
     stable_fraction = pl.col("stable_hill_limit") / pl.col("parent_hill_radius")
+    sense = pl.when(pl.col("_retrograde")).then(pl.lit("retrograde")).otherwise(
+        pl.lit("prograde"))
     beyond = Rule(
         id="beyond-stable-hill", title="Beyond the stable part of the Hill sphere",
         severity="unstable",
-        source="Domingos, Winter & Yokoyama 2006, MNRAS 373, 1227 (prograde a_crit)",
+        source="Domingos, Winter & Yokoyama 2006, MNRAS 373, 1227 (a_crit prograde ~0.49, "
+               "retrograde ~0.93 r_H)",
         needs=("_a", "stable_hill_limit", "parent_hill_radius"), value=ratio,
         limit=stable_fraction, unit="x parent Hill radius", scope="orbit",
         fires=(ratio > stable_fraction) & (ratio <= 1.0),
-        message=pl.format("semi-major axis is {}x the parent's Hill radius; prograde orbits are "
-                          "stable to {}x", fmt(ratio), fmt(stable_fraction)),
+        message=pl.format("semi-major axis is {}x the parent's Hill radius; {} orbits are "
+                          "stable to {}x", fmt(ratio), sense, fmt(stable_fraction)),
     )
     return outside, beyond
 
