@@ -6,6 +6,7 @@ answer; they run through the real engine (derive -> rules) via ``check_table``.
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 
 import polars as pl
@@ -220,6 +221,20 @@ def test_beyond_stable_hill(tmp_path: Path) -> None:
     rows = [SUN_LIKE, EARTH_LIKE, moon("wide", 0.60 * _planet_hill()),
             moon("ok", 0.45 * _planet_hill())]
     assert fired(run(rows, tmp_path), "beyond-stable-hill") == {"wide": "unstable"}
+
+
+def test_beyond_stable_hill_uses_the_retrograde_limit_for_retrograde_moons(tmp_path: Path) -> None:
+    # Domingos, Winter & Yokoyama 2006: retrograde satellites are stable to ~0.93 r_H, prograde to
+    # ~0.49 r_H. The sense comes from `retrograde` or an inclination beyond 90 deg (in radians).
+    hill = _planet_hill()
+    rows = [SUN_LIKE, EARTH_LIKE, moon("pro", 0.70 * hill),
+            moon("retro", 0.70 * hill, retrograde=True),
+            moon("tilted", 0.70 * hill, inclination=math.radians(150.0)),
+            moon("far", 0.97 * hill, retrograde=True)]
+    result = run(rows, tmp_path)
+    assert fired(result, "beyond-stable-hill") == {"pro": "unstable", "far": "unstable"}
+    assert "retrograde orbits are stable to" in result.findings.filter(
+        pl.col("body") == "far")["message"][0]
 
 
 def test_kepler_mismatch(tmp_path: Path) -> None:
