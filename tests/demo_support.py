@@ -44,7 +44,12 @@ def _si(cat: pl.DataFrame) -> dict[str, np.ndarray]:
              "a (au)": ("a", AU), "e": ("e", 1.0), "period_days": ("period", DAY),
              "rotation_h": ("rotation", HOUR), "age_gyr": ("age", 1e9 * YEAR)}
     out = {name: cat[col].to_numpy().astype(float) * f for col, (name, f) in scale.items()}
+    for column, name in (("ring inner [R_planet]", "ring_inner"),
+                         ("ring outer [R_planet]", "ring_outer"),
+                         ("ring density (kg/m3)", "ring_density")):
+        out[name] = cat[column].to_numpy().astype(float)  # planet radii; kg m-3
     out["locked"] = cat["locked"].fill_null(False).to_numpy()
+    out["retrograde"] = (cat["orbit_sense"] == "retrograde").fill_null(False).to_numpy()
     out["family"] = np.array([guess_family(label) for label in cat["type"].to_list()])
     out["density"] = bodies.bulk_density(out["mass"], out["radius"])
     return out
@@ -62,8 +67,9 @@ def demo(request: pytest.FixtureRequest) -> Demo:
 
 
 def orbiting(d: Demo) -> np.ndarray:
-    """Clean rows with a clean parent."""
-    return d.clean & (d.parent >= 0) & d.clean[np.maximum(d.parent, 0)]
+    """Clean bodies (not rings) with a clean parent."""
+    return (d.clean & (d.parent >= 0) & d.clean[np.maximum(d.parent, 0)]
+            & (d.si["family"] != "ring"))
 
 
 def family_band(family: str, mass: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

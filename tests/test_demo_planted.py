@@ -9,7 +9,8 @@ import numpy as np
 import polars as pl
 from demo_support import Demo, demo, family_band
 
-from bodycensus.science.physics import bodies, orbits
+from bodycensus.science.families import FAMILY_PARAMETERS
+from bodycensus.science.physics import bodies, orbits, tides
 from bodycensus.science.units import HOUR, M_EARTH, M_JUPITER, M_SUN
 
 __all__ = ["demo"]  # the session fixture
@@ -111,6 +112,64 @@ def test_planted_data_errors(demo: Demo) -> None:
     assert sorted(orphans["id"]) == sorted(demo.planted_ids("orphan-parent"))
     cycle = demo.planted("parent-cycle")
     assert np.all(demo.parent[demo.parent[cycle]] == cycle)
+
+
+def _ring_planet(demo: Demo, rows: np.ndarray) -> np.ndarray:
+    """The planet row of each ring in ``rows``: a ring row's parent, else the row itself."""
+    return np.where(demo.si["family"][rows] == "ring", demo.parent[rows], rows)
+
+
+def test_planted_rings_break_their_limits(demo: Demo) -> None:
+    s = demo.si
+    reversed_ = demo.planted("ring-edges-reversed")
+    assert np.all(s["ring_outer"][reversed_] < s["ring_inner"][reversed_])
+    assert np.all(s["ring_inner"][demo.planted("ring-inside-planet")] < 1.0)  # planet radii
+    wide = demo.planted("ring-beyond-roche")
+    planet = _ring_planet(demo, wide)
+    # Fluid Roche limit for the material (ice, 917 kg/m3, when not given), Roche 1849; the rule
+    # allows 1.2x for porous particles.
+    fluid = orbits.roche_fluid(s["radius"][planet], s["density"][planet],
+                               np.nan_to_num(s["ring_density"][wide], nan=917.0))
+    assert np.all(s["ring_outer"][wide] * s["radius"][planet] > 1.2 * fluid)
+    loose = demo.planted("ring-beyond-hill")
+    planet = _ring_planet(demo, loose)
+    star = demo.parent[planet]  # Hill 1878: a(1-e)(m/3M)^(1/3)
+    hill = orbits.hill_radius(s["a"][planet], s["e"][planet], s["mass"][planet], s["mass"][star])
+    assert np.all(s["ring_outer"][loose] * s["radius"][planet] > hill)
+
+
+def test_planted_moons_orbit_within_a_ring(demo: Demo) -> None:
+    s, cat = demo.si, demo.catalogue
+    for moon in demo.planted("moon-in-ring"):
+        planet = demo.parent[moon]
+        ring_rows = np.flatnonzero((demo.parent == planet) & (s["family"] == "ring"))
+        ring = ring_rows[0] if len(ring_rows) else planet
+        span = np.array([s["ring_inner"][ring], s["ring_outer"][ring]]) * s["radius"][planet]
+        assert span[0] < s["a"][moon] < span[1], cat["id"][int(moon)]
+
+
+def test_planted_tidal_states(demo: Demo) -> None:
+    s = demo.si
+    hot = demo.planted("tidal-heating")  # Peale, Cassen & Reynolds 1979, family k2/Q
+    fam = s["family"][hot]
+    k2 = orbits.love_number_k2(s["mass"][hot], s["radius"][hot],
+                               np.array([FAMILY_PARAMETERS[f].rigidity for f in fam]))
+    q = np.array([FAMILY_PARAMETERS[f].quality_factor for f in fam])
+    power = tides.tidal_heating_power(s["a"][hot], s["e"][hot], s["mass"][hot], s["radius"][hot],
+                                      s["mass"][demo.parent[hot]], k2 / q)
+    assert np.all(tides.surface_heat_flux(power, s["radius"][hot]) > tides.IO_HEAT_FLUX)
+    doomed = demo.planted("short-lived-orbit")  # constant-Q decay, the star's family Q'
+    star = demo.parent[doomed]
+    q_star = FAMILY_PARAMETERS["star"].quality_factor
+    q_prime = tides.modified_quality_factor(orbits.love_number_k2(
+        s["mass"][star], s["radius"][star], FAMILY_PARAMETERS["star"].rigidity), q_star)
+    fluid = orbits.roche_fluid(s["radius"][star], s["density"][star], s["density"][doomed])
+    end = np.maximum(s["radius"][star] + s["radius"][doomed], fluid)
+    life = tides.tidal_decay_time(s["a"][doomed], end, s["mass"][star], s["radius"][star],
+                                  s["mass"][doomed], q_prime)
+    assert np.all(life < 0.01 * s["age"][doomed]) and np.all(life > 0)
+    period = orbits.kepler_period(s["a"][doomed], s["mass"][star], s["mass"][doomed])
+    assert np.all(period < s["rotation"][star])  # inside the star's synchronous orbit
 
 
 # --- the three generator artefacts -------------------------------------------------------------

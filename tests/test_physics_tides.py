@@ -77,6 +77,24 @@ def test_heating_grows_with_eccentricity_squared_and_falls_with_a_to_the_15_2() 
     assert farther == pytest.approx(base * 2**-7.5, rel=1e-6)  # m << M: n ~ a^(-3/2)
 
 
+def test_circularisation_time_is_the_heating_at_constant_angular_momentum() -> None:
+    # With a(1 - e^2) fixed, dE_orb/dt = -E gives tau_e = e / |de/dt| = G M m e^2 / (a E)
+    # (computed), Goldreich & Soter's (4/63) Q' (m/M) (a/R)^5 / n with Q' = 3Q/2k2 (from memory).
+    k2_over_q, e = 0.015, 0.0041
+    heat = tides.tidal_heating_power(IO["a"], e, IO["mass"], IO["radius"], JUPITER_MASS,
+                                     k2_over_q)
+    energy_route = G * JUPITER_MASS * IO["mass"] * e**2 / (IO["a"] * heat)
+    tau = tides.circularisation_time(IO["a"], IO["mass"], IO["radius"], JUPITER_MASS, k2_over_q)
+    assert tau == pytest.approx(energy_route, rel=1e-3)  # n with M + m versus M alone
+    q_prime = 3 / (2 * k2_over_q)
+    n = tides.mean_motion(IO["a"], JUPITER_MASS, IO["mass"])
+    textbook = 4 / 63 * q_prime * IO["mass"] / JUPITER_MASS * (IO["a"] / IO["radius"]) ** 5 / n
+    assert tau == pytest.approx(textbook, rel=1e-12)
+    # Io, at its measured k2/Q: 1.5e5 yr (computed), so its eccentricity must be forced (by the
+    # Laplace resonance with Europa and Ganymede) to survive.
+    assert tau / YEAR == pytest.approx(1.5e5, rel=0.05)
+
+
 def _mars_q_prime() -> float:
     k2 = orbits.love_number_k2(MARS["mass"], MARS["radius"], ROCK_RIGIDITY)
     return tides.modified_quality_factor(k2, ROCK_Q)
@@ -156,7 +174,8 @@ def test_modified_quality_factor_of_jupiter() -> None:
 
 
 @pytest.mark.parametrize("formula", [tides.mean_motion, tides.orbital_decay_rate,
-                                     tides.tidal_heating_power, tides.tidal_decay_time])
+                                     tides.tidal_heating_power, tides.tidal_decay_time,
+                                     tides.circularisation_time])
 def test_formulas_agree_on_floats_numpy_and_polars(formula: object) -> None:
     columns = {
         tides.mean_motion: {"a": [4.2e8, 9.4e6], "m_p": [1.9e27, 6.4e23], "m": [8.9e22, 1e16]},
@@ -166,6 +185,9 @@ def test_formulas_agree_on_floats_numpy_and_polars(formula: object) -> None:
         tides.tidal_heating_power: {"a": [4.2e8, 6.7e8], "e": [0.0041, 0.009],
                                     "m": [8.9e22, 4.8e22], "r": [1.8e6, 1.56e6],
                                     "m_p": [1.9e27, 1.9e27], "k2q": [0.015, 1e-3]},
+        tides.circularisation_time: {"a": [4.2e8, 6.7e8], "m": [8.9e22, 4.8e22],
+                                     "r": [1.8e6, 1.56e6], "m_p": [1.9e27, 1.9e27],
+                                     "k2q": [0.015, 1e-3]},
         tides.tidal_decay_time: {"a": [9.4e6, 3.4e9], "end": [5.5e6, 1.1e9],
                                  "m_p": [6.4e23, 2.7e30], "r_p": [3.4e6, 1.1e9],
                                  "m": [1e16, 2.7e27], "q": [670.0, 1.8e5]},

@@ -18,6 +18,7 @@ import polars as pl
 
 from bodycensus.demo.defects_body import BODY_PLANTINGS
 from bodycensus.demo.defects_orbit import ORBIT_PLANTINGS
+from bodycensus.demo.defects_rings import RING_TIDE_PLANTINGS
 from bodycensus.demo.kinds import LABELS
 from bodycensus.demo.names import body_names, system_names
 from bodycensus.demo.planter import Planter
@@ -28,7 +29,8 @@ BODIES_PER_SYSTEM = 6.0  # about what population() yields; used to size the firs
 SIGNIFICANT_DIGITS = 6
 COLUMNS = ("id", "name", "type", "orbits", "system", "mass (earth_mass)", "radius_km", "a (au)",
            "e", "period_days", "rotation_h", "locked", "age_gyr", "temp_k",
-           "luminosity (L_sun)")
+           "luminosity (L_sun)", "orbit_sense", "ring inner [R_planet]", "ring outer [R_planet]",
+           "ring density (kg/m3)")
 TRUTH_COLUMNS = ("kind", "rule", "body", "other", "label", "field", "at", "low", "high")
 ARTEFACTS = (  # kind, label, canonical field, at, low, high (SI)
     ("cutoff", "asteroid", "radius", CUTOFF_RADIUS, CUTOFF_RADIUS, None),
@@ -53,7 +55,7 @@ def _clean(n_bodies: int, seed: int) -> dict[str, np.ndarray]:
 def _spoil(table: dict[str, np.ndarray], n_bodies: int, seed: int) -> Planter:
     """Plant max(3, N / 20,000) defects of every rule, each in a system of its own."""
     planter = Planter(np.random.default_rng([seed, 999]), table, max(3, n_bodies // 20_000))
-    for plant in (*BODY_PLANTINGS, *ORBIT_PLANTINGS):
+    for plant in (*BODY_PLANTINGS, *ORBIT_PLANTINGS, *RING_TIDE_PLANTINGS):
         plant(planter)
     return planter
 
@@ -107,7 +109,11 @@ def _temperatures(p: Planter) -> pl.Series:
 def _catalogue(p: Planter, systems: pl.Series, names: pl.Series) -> pl.DataFrame:
     """The catalogue in the dump's own column names and units."""
     t, ids = p.t, _ids(p)
-    locked = pl.select(pl.when(pl.Series(t["tier"] > 0)).then(pl.Series(t["locked"])))
+    orbiting = (t["tier"] == 1) | (t["tier"] == 2)  # rings (tier 3) are not locked or unlocked
+    locked = pl.select(pl.when(pl.Series(orbiting)).then(pl.Series(t["locked"])))
+    sense = pl.select(pl.when(pl.Series(t["tier"] == 2)).then(
+        pl.when(pl.Series(t["retrograde"])).then(pl.lit("retrograde")).otherwise(
+            pl.lit("prograde")))).to_series().alias("orbit_sense")
     frame = pl.DataFrame([
         ids, names,
         pl.Series("type", LABELS, dtype=pl.String).gather(t["code"]),
@@ -117,7 +123,10 @@ def _catalogue(p: Planter, systems: pl.Series, names: pl.Series) -> pl.DataFrame
         _number("e", t["e"]), _number("period_days", t["period"] / DAY),
         _number("rotation_h", t["rotation"] / HOUR), locked.to_series().alias("locked"),
         _number("age_gyr", t["age"] / 1e9), _temperatures(p),
-        _number("luminosity (L_sun)", t["lum"] / L_SUN),
+        _number("luminosity (L_sun)", t["lum"] / L_SUN), sense,
+        _number("ring inner [R_planet]", t["ring_inner"]),
+        _number("ring outer [R_planet]", t["ring_outer"]),
+        _number("ring density (kg/m3)", t["ring_density"]),
     ])
     assert frame.columns == list(COLUMNS), frame.columns
     return frame

@@ -31,7 +31,9 @@ def _limits(p: Planter, mass: np.ndarray, radius: np.ndarray) -> dict[str, np.nd
         "rigid": orbits.roche_rigid(t["radius"][par], parent_density, density),
         "fluid": orbits.roche_fluid(t["radius"][par], parent_density, density),
         "hill": orbits.hill_radius(t["a"][par], t["e"][par], t["mass"][par], t["mass"][grand]),
-        "stable": orbits.stable_hill_fraction(t["e"][par], t["e"]),
+        "stable": np.where(t["retrograde"],
+                           orbits.stable_hill_fraction(t["e"][par], t["e"], retrograde=True),
+                           orbits.stable_hill_fraction(t["e"][par], t["e"])),
     }
 
 
@@ -84,7 +86,8 @@ def outside_hill_sphere(p: Planter) -> None:
 
 
 def beyond_stable_hill(p: Planter) -> None:
-    """A moon halfway between the stable prograde limit and the edge of the Hill sphere."""
+    """A moon halfway between the stable limit for its orbit's sense and the edge of the Hill
+    sphere."""
     lim = _limits(p, p.t["mass"], p.t["radius"])
     rows = p.pick(p.sole_moons())
     p.t["a"][rows] = 0.5 * (1.0 + lim["stable"][rows]) * lim["hill"][rows]

@@ -78,8 +78,22 @@ MOON_CURVES = (("rock", 0.82, 0.06), ("water_ice", 1.25, 0.10))  # curve, factor
 MOON_MASS_FRACTION = (3e-4, -0.35, 0.8)  # median x (M_planet/M_earth)^slope, sigma
 MOON_SPIN = (15.0, 0.7)  # h: median, sigma (unlocked moons)
 
+MOON_RETROGRADE_SHARE = 0.1  # moons on retrograde orbits (captured ones; a round figure)
+
+# Rings: a share of gas and ice giants carry one, half as a row of its own (the ring family),
+# half as columns of the planet; edges in planet radii. The inner edge sits just above the
+# planet, the outer edge well inside the fluid Roche limit of its material (solid ice when the
+# catalogue leaves the material out) and inside the planet's innermost moon.
+RING_LABEL = "planetary ring"
+RINGED_LABELS = ("gas giant", "ice giant")
+RING_SHARE, RING_AS_BODY, RING_MATERIAL_SHARE = 0.35, 0.5, 0.5
+RING_INNER = (1.3, 0.08)  # planet radii: median, sigma
+RING_OUTER = (0.72, 0.08)  # fraction of the fluid Roche limit for its material: median, sigma
+RING_MATERIAL = (600.0, 0.2)  # kg m-3: porous icy particles (a round figure), median, sigma
+
 LABELS: tuple[str, ...] = (
     tuple(k.label for k in STAR_KINDS) + tuple(k.label for k in PLANET_KINDS) + MOON_LABELS
+    + (RING_LABEL,)
 )
 CODE: dict[str, int] = {label: i for i, label in enumerate(LABELS)}
 FAMILY_OF: tuple[str, ...] = tuple(guess_family(label) for label in LABELS)
@@ -87,6 +101,7 @@ RIGIDITY = np.array([FAMILY_PARAMETERS[f].rigidity for f in FAMILY_OF])  # Pa, b
 QUALITY = np.array([FAMILY_PARAMETERS[f].quality_factor for f in FAMILY_OF])  # tidal Q
 PLANET_CODE0 = len(STAR_KINDS)
 MOON_CODE0 = PLANET_CODE0 + len(PLANET_KINDS)
+RING_CODE = CODE[RING_LABEL]  # after the moons: codes MOON_CODE0 .. RING_CODE - 1 are moons
 
 
 def lognormal(rng: np.random.Generator, median: float | np.ndarray, sigma: float | np.ndarray,

@@ -54,7 +54,8 @@ def _position(tier: np.ndarray, sys: np.ndarray, parent: np.ndarray) -> np.ndarr
 def body_names(systems: pl.Series, tier: np.ndarray, sys: np.ndarray, parent: np.ndarray,
                code: np.ndarray) -> pl.Series:
     """Names: the system's for its primary, ``<system> B`` for a companion star, ``<system> c``
-    for planets, ``<planet> II`` for moons. Call on the clean table (before defects)."""
+    for planets, ``<planet> II`` for moons, ``<planet> ring`` for a ring (tier 3). Call on the
+    clean table (before defects)."""
     k = _position(tier, sys, parent)
     letters = pl.Series([_letter(i) for i in range(int(k.max()) + 1)], dtype=pl.String)
     numerals = pl.Series([roman(i + 1) for i in range(int(k.max()) + 1)], dtype=pl.String)
@@ -62,6 +63,7 @@ def body_names(systems: pl.Series, tier: np.ndarray, sys: np.ndarray, parent: np
                        .otherwise(letters.gather(k))).to_series()
     names = pl.select(pl.when(pl.Series(tier == 0)).then(systems)
                       .otherwise(systems + " " + suffix)).to_series()
-    moon = np.flatnonzero(tier == 2)
+    moon, ring = np.flatnonzero(tier == 2), np.flatnonzero(tier == 3)
     moon_names = names.gather(parent[moon]) + " " + numerals.gather(k[moon])
-    return names.scatter(moon, moon_names).alias("name")
+    names = names.scatter(moon, moon_names)
+    return names.scatter(ring, names.gather(parent[ring]) + " ring").alias("name")

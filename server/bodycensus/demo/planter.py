@@ -10,7 +10,14 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from bodycensus.demo.kinds import MOON_CODE0, PLANET_CODE0, QUALITY, RIGIDITY, lognormal
+from bodycensus.demo.kinds import (
+    MOON_CODE0,
+    PLANET_CODE0,
+    QUALITY,
+    RIGIDITY,
+    RING_CODE,
+    lognormal,
+)
 from bodycensus.demo.stars import age_seconds
 from bodycensus.science.physics import orbits
 
@@ -49,7 +56,8 @@ class Planter:
     def sole_moons(self) -> np.ndarray:
         """Moons that are the only body orbiting their planet."""
         parent = np.maximum(self.t["parent"], 0)
-        return (self.t["code"] >= MOON_CODE0) & (self.children[parent] == 1)
+        code = self.t["code"]
+        return (code >= MOON_CODE0) & (code != RING_CODE) & (self.children[parent] == 1)
 
     def leaves(self) -> np.ndarray:
         """Rows nothing orbits."""

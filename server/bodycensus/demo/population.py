@@ -18,6 +18,7 @@ from bodycensus.demo.kinds import (
     MOON_CODE0,
     MOON_CURVES,
     MOON_MASS_FRACTION,
+    MOON_RETROGRADE_SHARE,
     MOON_SPIN,
     PLANET_CODE0,
     PLANET_KINDS,
@@ -26,7 +27,9 @@ from bodycensus.demo.kinds import (
     lognormal,
 )
 from bodycensus.demo.orbits import edge_factor, group_starts, noisy_period, place
+from bodycensus.demo.rings import add_rings
 from bodycensus.demo.stars import age_seconds, redraw, systems
+from bodycensus.demo.tides import damp_eccentricities, doomed_moons
 from bodycensus.science.physics import bodies, orbits
 from bodycensus.science.units import AU, HOUR, L_SUN, M_EARTH, M_SUN
 
@@ -239,12 +242,27 @@ def _finish(rng: np.random.Generator, t: Table, sysd: Table) -> Table:
     return t
 
 
+def _tides_and_rings(rng: np.random.Generator, t: Table) -> Table:
+    """Orbit senses, tidally damped eccentricities, no moon that tides would have brought down,
+    and rings, drawn from their own stream ``rng`` (so the rest of the population does not
+    change with them)."""
+    moon = t["tier"] == 2
+    t["retrograde"] = moon & (rng.random(len(moon)) < MOON_RETROGRADE_SHARE)
+    damp_eccentricities(rng, t)
+    keep = ~doomed_moons(t)  # moons: nothing orbits them, so parents keep their place
+    new_index = np.cumsum(keep) - 1
+    t = {k: v[keep] for k, v in t.items()}
+    t["parent"] = np.where(t["parent"] >= 0, new_index[np.maximum(t["parent"], 0)], -1)
+    return add_rings(rng, t)
+
+
 def population(rng: np.random.Generator, n_systems: int) -> Table:
     """The clean population of ``n_systems`` systems, sorted system by system (star, orbiters by
-    distance, moons by planet and distance); ``parent`` is a row index (-1 for none)."""
+    distance, moons by planet and distance, rings); ``parent`` is a row index (-1 for none)."""
+    side = rng.spawn(1)[0]  # its own stream: spawning leaves ``rng``'s draws as they were
     sysd = systems(rng, n_systems)
     orb = _star_orbiters(rng, sysd)
-    t = _finish(rng, _stack(sysd, orb, _moons(rng, orb)), sysd)
+    t = _tides_and_rings(side, _finish(rng, _stack(sysd, orb, _moons(rng, orb)), sysd))
     order = np.lexsort((t["sub"], t["tier"], t["sys"]))
     new_index = np.empty_like(order)
     new_index[order] = np.arange(len(order))

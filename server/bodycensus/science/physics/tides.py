@@ -33,6 +33,15 @@ def tidal_heating_power(semi_major_axis: Num, eccentricity: Num, mass: Num, radi
             / semi_major_axis**6)
 
 
+def circularisation_time(semi_major_axis: Num, mass: Num, radius: Num, parent_mass: Num,
+                         k2_over_q: Num) -> Num:
+    """e-folding time (s) of the eccentricity that the same tide damps, at constant orbital
+    angular momentum: G M m e^2 / (a E) = (2/21) (Q/k2) (m/M) (a/R)^5 / n, i.e. Goldreich &
+    Soter's (1966) (4/63) Q' (m/M) (a/R)^5 / n with Q' = 3Q / 2k2."""
+    n = mean_motion(semi_major_axis, parent_mass, mass)
+    return 2.0 / 21.0 / k2_over_q * mass / parent_mass * (semi_major_axis / radius) ** 5 / n
+
+
 def surface_heat_flux(power_w: Num, radius: Num) -> Num:
     """Heat flow through the surface, P / (4 pi R^2), W m-2."""
     return power_w / (4.0 * math.pi * radius**2)
