@@ -144,6 +144,22 @@ def test_overview_has_coverage_and_artefacts(checked: Path) -> None:
     assert result["summary"] == {"rows": 3} and isinstance(result["artefacts"], list)
 
 
+def test_a_ring_edge_given_in_planet_radii_shows_in_metres_and_as_given(tmp_path: Path) -> None:
+    # `ring outer [R_planet]` on the planet's row: 2.3 of its 58,232 km (Saturn's mean radius,
+    # JPL SSD) is 133,934 km; the page shows both.
+    source = tmp_path / "ringed.csv"
+    source.write_text("id,type,parent,mass_kg,radius_km,a (au),ring outer [R_planet]\n"
+                      "S,yellow dwarf star,,1.989e30,695700,,\n"
+                      "G,gas giant,S,5.683e26,58232,9.537,2.3\n", encoding="utf-8")
+    result = check_file(source, tmp_path / "cat")
+    assert result.report is not None
+    mapping = {"mapping": result.report.mapping.to_json()}
+    body = queries.body_detail(tmp_path / "cat", "G", mapping)
+    outer = next(f for f in body["fields"] if f["field"] == "ring_outer")
+    assert outer["value"] == pytest.approx(2.3 * 58_232e3, rel=1e-12) and outer["unit"] == "m"
+    assert outer["original"] == pytest.approx(2.3) and outer["original_unit"] == "planet_radius"
+
+
 def test_body_without_a_parent_has_an_empty_system_around_it(checked: Path) -> None:
     # A star (no parent): no parent row and no siblings, and no warning (warnings are errors here).
     star = queries.body_detail(checked, "giant-0", None)["system"]

@@ -72,3 +72,39 @@ def test_nothing_to_draw_without_a_parent_radius_or_an_orbit() -> None:
     assert system_figures(no_parent) == ({}, "", "")
     no_orbit = {**_detail(3.0 * R_PARENT, 0.0), "fields": []}
     assert system_figures(no_orbit) == ({}, "", "")
+
+
+def _ring_row(ring_id: str, inner: float, outer: float, implied: float) -> dict[str, Any]:
+    return {"id": ring_id, "ring_inner_edge": inner, "ring_outer_edge": outer,
+            "ring_implied_density": implied}
+
+
+def test_the_parents_rings_and_ring_siblings_are_drawn_with_their_implied_density() -> None:
+    # Saturn's A ring (PDS Rings Node) implies ~770 kg/m3 (REFERENCES.md, computed).
+    detail = _detail(3.0 * R_PARENT, 0.0)
+    detail["system"]["parent"].update(_ring_row("giant", 1.2 * R_PARENT, 1.9 * R_PARENT, 770.0))
+    detail["system"]["siblings"] = [_ring_row("A", 2.0 * R_PARENT, 2.3 * R_PARENT, 650.0)]
+    rings = [t for t in system_figures(detail)[0]["linear"]["data"] if t["meta"] == "ring"]
+    assert [t["name"].split(":")[0] for t in rings] == ["ring of giant", "ring of A"]
+    assert "implied density 770 kg/m³" in rings[0]["name"]
+    assert max(rings[0]["x"]) == pytest.approx(1.9) and rings[0]["fill"] == "toself"
+    assert min(abs(x) for x in rings[0]["x"]) == pytest.approx(0.0, abs=1e-3)  # its inner edge
+    assert max(abs(y) for y in rings[1]["y"]) == pytest.approx(2.3, rel=1e-3)
+
+
+def test_a_rings_own_page_is_centred_on_its_planet() -> None:
+    detail = {"id": "A", "findings": [], "fields": [{"field": "family", "value": "ring"}],
+              "derived": {"parent_radius": R_PARENT, "ring_inner_edge": 2.0 * R_PARENT,
+                          "ring_outer_edge": 2.3 * R_PARENT, "ring_implied_density": 650.0},
+              "system": {"parent": {"id": "giant", "radius": R_PARENT}, "siblings": []}}
+    figures, default, caption = system_figures(detail)
+    [ring] = [t for t in figures["linear"]["data"] if t["meta"] == "ring"]
+    assert ring["name"].startswith("ring of A: ") and "implied density 650" in ring["name"]
+    assert default == "linear" and "outer edge implies" in caption
+
+
+def test_a_planets_own_ring_is_drawn_about_it() -> None:
+    detail = _detail(3.0 * R_PARENT, 0.0, ring_inner_edge=0.01 * R_PARENT,
+                     ring_outer_edge=0.02 * R_PARENT, ring_implied_density=800.0)
+    [ring] = [t for t in system_figures(detail)[0]["linear"]["data"] if t["meta"] == "ring"]
+    assert max(ring["x"]) == pytest.approx(3.02, rel=1e-3)  # about the body at 3 parent radii

@@ -11,7 +11,17 @@ from __future__ import annotations
 from collections.abc import Mapping
 from typing import Any
 
-from bodycensus.diagrams import density, distributions, mass_radius, orbits, roche, tidal
+from bodycensus.diagrams import (
+    density,
+    distributions,
+    heating,
+    lifetimes,
+    mass_radius,
+    orbits,
+    rings,
+    roche,
+    tidal,
+)
 from bodycensus.diagrams.base import Diagram
 
 DIAGRAMS: tuple[Diagram[Any], ...] = (
@@ -49,6 +59,31 @@ DIAGRAMS: tuple[Diagram[Any], ...] = (
                 "to lock a body; a body given as locked above the tidal-lock-age limit (a factor "
                 "times its age, as the catalogue was checked) is flagged.",
         axes=tidal.AXES, rules=tidal.RULES, aggregate=tidal.aggregate, figure=tidal.figure),
+    Diagram(
+        key="tidal-heating", title="Tidal heating",
+        caption="Bodies on eccentric orbits by distance in fluid Roche limits and tidal heat "
+                "flux, E = 21/2 (k2/Q) G M^2 R^5 n e^2 / a^6 over the surface (Peale, Cassen & "
+                "Reynolds 1979; Segatz et al. 1988), k2/Q of each family, log-log. Dashed: the "
+                "rigid and fluid Roche limits; green: Io's measured ~2.4 W/m2 (1e14 W).",
+        axes=heating.AXES, rules=heating.RULES,
+        aggregate=heating.aggregate, figure=heating.figure),
+    Diagram(
+        key="remaining-life", title="Remaining tidal life",
+        caption="Per label, the time left before the tide on the parent brings a decaying orbit "
+                "to its Roche limit or surface (constant Q': Goldreich & Soter 1966; Jackson, "
+                "Greenberg & Barnes 2008), over the system's age, log scale. Dashed: one age; "
+                "orange: the short-lived-orbit limit the catalogue was checked with. A "
+                "generator that ignores tides piles bodies up far below 1.",
+        axes=lifetimes.AXES, rules=lifetimes.RULES, aggregate=lifetimes.aggregate,
+        figure=lifetimes.figure, choices=lifetimes.choices),
+    Diagram(
+        key="rings", title="Rings",
+        caption="Rings by x = (planet density / material density)^(1/3), solid ice (917 "
+                "kg/m3) when the material is not given, and y = outer edge / planet radius. "
+                "On the fluid line y = 2.44 x (Roche 1849) the outer edge implies the "
+                "material's own density, above it a lighter one: Saturn's A ring implies ~770 "
+                "kg/m3. Rigid line 1.26 x (Shu 1982); the ring-beyond-roche limit as checked.",
+        axes=rings.AXES, rules=rings.RULES, aggregate=rings.aggregate, figure=rings.figure),
     Diagram(
         key="distributions", title="Distributions",
         caption="Histogram of a numeric field per label; artefacts found in it are marked: a "

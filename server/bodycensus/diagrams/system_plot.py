@@ -1,8 +1,9 @@
 """The to-scale drawing of a body's system for the Body screen, as plotly figure dicts.
 
 Centred on the parent: its disc, the rigid and fluid Roche zones for this body's density, the
-parent's Hill sphere, the siblings' orbits, the body's orbit (an ellipse with the parent at a
-focus) and the body's own Hill sphere. Every outline is a polar path, so the same drawing works on
+parent's Hill sphere, the parent's rings and the siblings' orbits, the body's orbit (an ellipse
+with the parent at a focus), its own Hill sphere and its own rings. A ring's page is centred on
+its planet. Each ring is named with the density its outer edge implies. Every outline is a polar path, so the same drawing works on
 a linear scale and on a radial log scale (for systems that span decades).
 """
 
@@ -87,6 +88,58 @@ def _value(detail: Detail, name: str) -> float | None:
     return float(value) if isinstance(value, int | float) and math.isfinite(value) else None
 
 
+RING_COLOUR, RING_FILL = "#8c6d3f", "rgba(166,124,82,0.35)"
+Ring = tuple[str, float | None, float, float | None]  # owner, inner edge, outer edge, implied
+
+
+def _ring_of(row: Detail) -> Ring | None:
+    """The ring a relative row is or carries (edges in m), or None."""
+    outer = row.get("ring_outer_edge")
+    if not isinstance(outer, int | float) or not math.isfinite(outer):
+        return None
+    return (str(row.get("id")), row.get("ring_inner_edge"), float(outer),
+            row.get("ring_implied_density"))
+
+
+def _centred_rings(detail: Detail) -> list[Ring]:
+    """Rings about the drawing's centre: the parent's own, the siblings that are rings, and the
+    body itself when it is a ring."""
+    system = detail.get("system") or {}
+    rows = [system.get("parent") or {}, *(system.get("siblings") or [])[:MAX_SIBLINGS]]
+    rings = [ring for row in rows if (ring := _ring_of(row)) is not None]
+    if _is_ring(detail) and (own := _own_ring(detail)) is not None:
+        rings.append(own)
+    return rings
+
+
+def _own_ring(detail: Detail) -> Ring | None:
+    """The ring the body is or carries, from its derived quantities."""
+    outer = _value(detail, "ring_outer_edge")
+    if outer is None:
+        return None
+    return (str(detail.get("id")), _value(detail, "ring_inner_edge"), outer,
+            _value(detail, "ring_implied_density"))
+
+
+def _is_ring(detail: Detail) -> bool:
+    """Whether the body is a ring (of the ring family)."""
+    return any(f.get("field") == "family" and f.get("value") == "ring"
+               for f in detail.get("fields", []))
+
+
+def _ring_trace(ring: Ring, outline: Callable[[float], tuple[list[float], list[float]]]
+                ) -> dict[str, Any]:
+    """A ring as a filled annulus (outer edge round, inner edge back), named with its edges and
+    the density its outer edge implies."""
+    owner, inner, outer, implied = ring
+    xo, yo = outline(outer)
+    xi, yi = outline(inner) if inner else ([], [])
+    density = f", implied density {implied:,.0f} kg/m³" if implied else ""
+    span = f"{inner / 1e3:,.0f}–{outer / 1e3:,.0f} km" if inner else f"to {outer / 1e3:,.0f} km"
+    return _path(f"ring of {text(owner)}: {span}{density}", (xo + xi[::-1], yo + yi[::-1]),
+                 RING_COLOUR, RING_FILL, meta="ring")
+
+
 def _traces(detail: Detail, f: Transform, radius: float) -> list[dict[str, Any]]:
     """Every outline of the drawing, mapped through ``f``."""
     system = detail.get("system") or {}
@@ -102,6 +155,8 @@ def _traces(detail: Detail, f: Transform, radius: float) -> list[dict[str, Any]]
     if (r := _value(detail, "parent_hill_radius")) is not None:
         traces.append(_path("parent's Hill sphere", _polar(_circle(r), f), "#1b7837",
                             dash="dash"))
+    traces += [_ring_trace(ring, lambda r: _polar(_circle(r), f))
+               for ring in _centred_rings(detail)]
     for sib in (system.get("siblings") or [])[:MAX_SIBLINGS]:
         if sib.get("semi_major_axis"):
             xy = _polar(_orbit_radius(sib["semi_major_axis"], sib.get("eccentricity") or 0.0), f)
@@ -123,6 +178,8 @@ def _body_traces(detail: Detail, f: Transform) -> list[dict[str, Any]]:
     peri = float(periapsis(a, _drawn_eccentricity(e)))
     if (hill := _value(detail, "hill_radius")) is not None:
         traces.append(_path("its Hill sphere", _around(peri, hill, f), colour, dash="dot"))
+    if not _is_ring(detail) and (own := _own_ring(detail)) is not None:
+        traces.append(_ring_trace(own, lambda r: _around(peri, r, f)))
     traces.append({"type": "scatter", "mode": "markers",
                    "name": f"{text(detail['id'])} at periapsis", "meta": "body",
                    "x": [f(peri)], "y": [0.0], "hoverinfo": "name",
@@ -134,12 +191,15 @@ def system_figures(detail: Detail) -> tuple[dict[str, Figure], str, str]:
     """Linear and log drawings of the body's system, which one to show first, and a caption."""
     parent = (detail.get("system") or {}).get("parent") or {}
     radius = _value(detail, "parent_radius") or parent.get("radius")
-    if not radius or _value(detail, "semi_major_axis") is None:
+    drawn = _value(detail, "semi_major_axis") is not None or (
+        _is_ring(detail) and _own_ring(detail) is not None)
+    if not radius or not drawn:
         return {}, "", ""
     siblings = (detail.get("system") or {}).get("siblings") or []
     extents = [v for k in ("apoapsis", "parent_hill_radius", "roche_fluid", "semi_major_axis")
                if (v := _value(detail, k)) is not None]
     extents += [s["semi_major_axis"] for s in siblings[:MAX_SIBLINGS] if s.get("semi_major_axis")]
+    extents += [ring[2] for ring in _centred_rings(detail)]
     nearest = min(radius, _value(detail, "periapsis") or radius)
     span = max(extents) / nearest
     scales: dict[str, Transform] = {
@@ -153,8 +213,10 @@ def system_figures(detail: Detail) -> tuple[dict[str, Figure], str, str]:
         for key, f in scales.items()}
     caption = ("Centred on the parent. Shaded: inside the rigid (darker) and fluid Roche limits "
                "for this body's density; dashed: the parent's Hill sphere; dotted: the body's "
-               "Hill sphere; grey: sibling orbits. On the log scale distances are mapped "
-               "radially, so shapes are kept only along each direction.")
+               "Hill sphere; grey: sibling orbits; brown: rings, each named with the density its "
+               "outer edge implies (the material whose fluid Roche limit lies there). On the log "
+               "scale distances are mapped radially, so shapes are kept only along each "
+               "direction.")
     return figures, "log" if span > LOG_WHEN_SPAN else "linear", caption
 
 

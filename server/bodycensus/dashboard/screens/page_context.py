@@ -41,6 +41,11 @@ DERIVED_UNITS: dict[str, str] = {
     "hill_radius": "m", "parent_hill_radius": "m", "stable_hill_limit": "m",
     "kepler_period": "s", "period_ratio": "1", "barycentre_offset": "m",
     "tidal_lock_time": "yr", "roche_x": "1", "roche_y": "1", "hill_ratio": "1",
+    "tidal_heating": "W", "tidal_heat_flux": "W/m2", "roche_distance": "1",
+    "tidal_decay_time": "yr", "life_to_age": "1", "ring_inner_edge": "m",
+    "ring_outer_edge": "m", "ring_planet_radius": "m", "ring_roche_rigid": "m",
+    "ring_roche_fluid": "m", "ring_implied_density": "kg/m3", "ring_roche_x": "1",
+    "ring_roche_y": "1", "ring_around": "",
 }
 
 

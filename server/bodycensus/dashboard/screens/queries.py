@@ -34,6 +34,7 @@ from bodycensus.errors import NotFound
 from bodycensus.input.schema import CANONICAL_FIELDS, ColumnChoice
 from bodycensus.science.rules.context import DERIVED_COLUMNS, ENGINE_COLUMNS
 from bodycensus.science.rules.orbit import OrbitSettings
+from bodycensus.science.rules.ring_context import IN_METRES
 from bodycensus.science.severity import SEVERITIES, name_expr, rank_expr
 from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT
 from bodycensus.storage.csvsafe import neutralise_formulas
@@ -44,7 +45,8 @@ __all__ = ["ViewState", "aggregates", "artefacts", "body_detail", "coverage", "e
 
 _SYSTEM_COLUMNS = ("id", "name", "label", "family", "parent", "mass", "radius",
                    "semi_major_axis", "eccentricity", "periapsis", "apoapsis", "roche_rigid",
-                   "roche_fluid", "hill_radius")
+                   "roche_fluid", "hill_radius", "ring_inner_edge", "ring_outer_edge",
+                   "ring_implied_density")
 
 
 def _scan(cat_dir: Path, name: str) -> pl.LazyFrame:
@@ -105,12 +107,15 @@ def _choices(report: Mapping[str, Any] | None) -> dict[str, ColumnChoice]:
 
 
 def _field_rows(row: dict[str, Any], choices: dict[str, ColumnChoice]) -> list[FieldRow]:
-    """Each canonical field: SI value and unit, and the source column, unit and value."""
+    """Each canonical field: SI value and unit, and the source column, unit and value (a ring
+    edge given in planet radii is shown in metres as derived from its planet's radius)."""
     out: list[FieldRow] = []
     for name in CANONICAL_FIELDS:
         choice, value = choices.get(name), row.get(name)
         original = value
-        if choice is not None and choice.unit is not None and isinstance(value, float):
+        if choice is not None and choice.relative:
+            value = row.get(IN_METRES[name])
+        elif choice is not None and choice.unit is not None and isinstance(value, float):
             original = value / choice.factor()
         dimension = FIELD_DIMENSIONS.get(name)
         out.append({"field": name, "value": value,

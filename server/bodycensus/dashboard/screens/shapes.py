@@ -66,6 +66,9 @@ class Relative(TypedDict, total=False):
     roche_rigid: float | None
     roche_fluid: float | None
     hill_radius: float | None
+    ring_inner_edge: float | None
+    ring_outer_edge: float | None
+    ring_implied_density: float | None
     worst: str | None
 
 

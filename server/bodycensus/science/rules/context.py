@@ -178,7 +178,7 @@ DERIVED_COLUMNS: tuple[str, ...] = (
     "parent_radius", "parent_density", "parent_family", "roche_rigid", "roche_fluid",
     "hill_radius", "parent_hill_radius", "stable_hill_limit", "kepler_period", "period_ratio",
     "barycentre_offset", "tidal_lock_time", "roche_x", "roche_y", "hill_ratio",
-    "tidal_heating", "tidal_heat_flux", "tidal_decay_time", "life_to_age", "ring_inner_edge",
-    "ring_outer_edge", "ring_planet_radius", "ring_roche_rigid", "ring_roche_fluid",
-    "ring_implied_density", "ring_roche_x", "ring_roche_y", "ring_around",
+    "tidal_heating", "tidal_heat_flux", "roche_distance", "tidal_decay_time", "life_to_age",
+    "ring_inner_edge", "ring_outer_edge", "ring_planet_radius", "ring_roche_rigid",
+    "ring_roche_fluid", "ring_implied_density", "ring_roche_x", "ring_roche_y", "ring_around",
 )

@@ -19,6 +19,9 @@ from bodycensus.science.units import PLANET_RADII
 # judged as solid ice, the lightest common ring material, so with the widest Roche limit.
 ASSUMED_RING_DENSITY = bodies.WATER_ICE_DENSITY
 
+# The derived column that holds each relative field in metres (what a page shows as its SI value).
+IN_METRES: dict[str, str] = {"ring_inner": "ring_inner_edge", "ring_outer": "ring_outer_edge"}
+
 _IS_RING = pl.col("family").is_in(sorted(RING_FAMILIES)).fill_null(False)
 
 

@@ -24,14 +24,16 @@ def family_tides(family: pl.Expr) -> tuple[pl.Expr, pl.Expr]:
 
 def _heating(table: pl.LazyFrame) -> pl.LazyFrame:
     """Tidal heat (W) and surface heat flux (W m-2) of bodies on eccentric orbits, taken as
-    synchronous (Peale, Cassen & Reynolds 1979); null on circular orbits."""
+    synchronous (Peale, Cassen & Reynolds 1979), null on circular orbits; and the distance they
+    are plotted against: the semi-major axis in fluid Roche limits."""
     rigidity, quality = family_tides(pl.col("family"))
     mass, radius = pl.col("_mass"), pl.col("_radius")
     k2_over_q = orbits.love_number_k2(mass, radius, rigidity) / quality
     power = tides.tidal_heating_power(pl.col("_a"), pl.col("_e"), mass, radius,
                                       pl.col("parent_mass"), k2_over_q)
     heated = pl.when(pl.col("_e") > 0).then(power)
-    return table.with_columns(tidal_heating=heated).with_columns(
+    return table.with_columns(tidal_heating=heated,
+                              roche_distance=pl.col("_a") / pl.col("roche_fluid")).with_columns(
         tidal_heat_flux=tides.surface_heat_flux(pl.col("tidal_heating"), radius))
 
 
