@@ -206,6 +206,28 @@ def test_tidal_lock_words(tmp_path: Path) -> None:
     assert table["_bad"].to_list() == [None] * 9 + ["tidally_locked"]
 
 
+def test_orbit_sense_words_and_inclination_in_degrees(tmp_path: Path) -> None:
+    # Retrograde beyond 90 degrees of inclination; the angle is kept in radians (astropy).
+    words = ["retrograde", "Prograde", "direct", "true", "", "sideways"]
+    text = "id,orbit_sense,i (deg)\n" + "".join(f"b{i},{w},{30 * i}\n"
+                                                for i, w in enumerate(words))
+    report = ingest(_write_text(tmp_path / "s.csv", text), tmp_path / "s.parquet")
+    table = pl.read_parquet(tmp_path / "s.parquet")
+    assert table["retrograde"].to_list() == [True, False, False, True, None, None]
+    assert table["_bad"].to_list() == [None] * 5 + ["retrograde"]
+    assert table["inclination"].to_list() == pytest.approx(
+        [(30 * i * u.deg).to_value(u.rad) for i in range(6)], rel=1e-12)
+    assert report.mapping.choices["inclination"].unit == "deg"
+
+
+def test_ring_edges_in_planet_radii_are_kept_and_named(tmp_path: Path) -> None:
+    text = "id,ring_inner_km,ring outer [R_planet]\nG,74491,2.35\n"
+    ingest(_write_text(tmp_path / "r.csv", text), tmp_path / "r.parquet")
+    row = pl.read_parquet(tmp_path / "r.parquet").row(0, named=True)
+    assert (row["ring_inner"], row["ring_outer"]) == (pytest.approx(74_491e3), 2.35)
+    assert row["_planet_radii"] == "ring_outer"
+
+
 def test_nan_inf_and_garbage_are_bad_but_numbers_in_any_notation_are_not(tmp_path: Path) -> None:
     cells = ["nan", "inf", "-Infinity", "\"1,5\"", "12 kg", " 3 ", "1e3", "-2.5E+2", ""]
     text = "id,mass\n" + "".join(f"b{i},{c}\n" for i, c in enumerate(cells))

@@ -48,6 +48,8 @@ def test_canonical_fields_and_types_follow_the_contract() -> None:
     ("Spin period", "rotation_period"), ("Tidal lock", "tidally_locked"),
     ("locked", "tidally_locked"), ("AGE", "age"), ("Teff", "temperature"),
     ("T_eq", "temperature"), ("surface_temperature", "temperature"), ("lum", "luminosity"),
+    ("Orbit sense", "retrograde"), ("retrograde", "retrograde"), ("Inner edge", "ring_inner"),
+    ("ring_outer_radius", "ring_outer"), ("material_density", "ring_density"),
 ])
 def test_aliases_ignore_case_spaces_and_punctuation(header: str, field: str) -> None:
     assert read_header(header) == (field, None)
@@ -73,6 +75,13 @@ def test_aliases_ignore_case_spaces_and_punctuation(header: str, field: str) -> 
     ("mass_kg", "mass", "kg"),
     ("radius_jupiter_radii", "radius", "jupiter_radius"),
     ("Period (a)", "period", "yr"),
+    ("ring_inner_km", "ring_inner", "km"),
+    ("ring outer [R_planet]", "ring_outer", "planet_radius"),
+    ("outer_radius (Rp)", "ring_outer", "planet_radius"),
+    ("ring density (g/cm3)", "ring_density", "g/cm3"),
+    ("ring_mass_kg", "ring_mass", "kg"),
+    ("i (deg)", "inclination", "deg"),
+    ("inclination_rad", "inclination", "rad"),
 ])
 def test_unit_hints_in_headers(header: str, field: str, unit: str) -> None:
     name, hint = read_header(header)
@@ -191,6 +200,16 @@ def test_unit_of_the_wrong_dimension_says_what_fits() -> None:
         guess_mapping(["id", "radius"], unit_overrides={"radius": "kg"})
     with pytest.raises(SchemaError, match="field 'name' has no unit"):
         guess_mapping(["id", "name"], unit_overrides={"name": "km"})
+
+
+def test_the_planet_radius_unit_fits_only_ring_edges() -> None:
+    # Radii of the ring's planet mean nothing for a planet's own radius or an orbit.
+    assert read_header("radius (R_planet)") == ("radius", None)
+    with pytest.raises(SchemaError, match="only ring_inner, ring_outer can be given in it"):
+        guess_mapping(["id", "a"], unit_overrides={"semi_major_axis": "R_planet"})
+    mapping = guess_mapping(["id", "ring outer [R_planet]", "ring_inner_km"])
+    assert mapping.choices["ring_outer"].relative and not mapping.choices["ring_inner"].relative
+    assert mapping.choices["ring_outer"].factor() == 1.0  # numbers kept; derive multiplies
 
 
 def test_map_to_a_missing_column_lists_the_columns() -> None:

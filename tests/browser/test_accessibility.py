@@ -198,6 +198,13 @@ def _first_flagged_body(page: Page, base: str) -> str:
         "href") or ""
 
 
+def _first_body_of(page: Page, base: str, rule: str) -> str:
+    """The address of the first body in the Findings list of one rule."""
+    page.goto(f"{base}/findings?rule={rule}")
+    return page.locator("#findings-table tbody a[href*='/bodies/']").first.get_attribute(
+        "href") or ""
+
+
 def _first_system(page: Page, base: str) -> str:
     """The address of the most serious system."""
     page.goto(f"{base}/systems")
@@ -219,6 +226,10 @@ SCREENS: dict[str, Callable[[Page, str, str], None]] = {
     "Systems": lambda page, root, base: page.goto(f"{base}/systems"),
     "One system": lambda page, root, base: page.goto(root + _first_system(page, base)),
     "Body (flagged)": lambda page, root, base: page.goto(root + _first_flagged_body(page, base)),
+    "Body (a ring)": lambda page, root, base: page.goto(
+        root + _first_body_of(page, base, "ring-inside-planet")),
+    "Body (a moon in a ring)": lambda page, root, base: page.goto(
+        root + _first_body_of(page, base, "moon-in-ring")),
     "Error page": lambda page, root, base: page.goto(f"{root}/catalogues/no-such-catalogue"),
 }
 

@@ -3,8 +3,9 @@
 Centred on the parent: its disc, the rigid and fluid Roche zones for this body's density, the
 parent's Hill sphere, the parent's rings and the siblings' orbits, the body's orbit (an ellipse
 with the parent at a focus), its own Hill sphere and its own rings. A ring's page is centred on
-its planet. Each ring is named with the density its outer edge implies. Every outline is a polar path, so the same drawing works on
-a linear scale and on a radial log scale (for systems that span decades).
+its planet. Each ring is named with the density its outer edge implies. Every outline is a polar
+path, so the same drawing works on a linear scale and on a radial log scale (for systems that
+span decades).
 """
 
 from __future__ import annotations

@@ -265,6 +265,9 @@ def check_unit(field_name: str, unit_name: str) -> Unit:
     if unit is None:
         known = ", ".join(UNITS)
         raise SchemaError(f"unknown unit '{unit_name}' for {name}; use one of: {known}")
+    if unit.relative and name not in RELATIVE_FIELDS:
+        raise SchemaError(f"unit '{unit.name}' is a multiple of the radius of a ring's planet; "
+                          f"only {', '.join(sorted(RELATIVE_FIELDS))} can be given in it")
     if not _dimension_fits(name, unit):
         fits = ", ".join(u.name for u in UNITS.values() if _dimension_fits(name, u))
         raise SchemaError(

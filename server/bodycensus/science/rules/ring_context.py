@@ -47,37 +47,41 @@ def own_ring_edges(table: pl.LazyFrame) -> pl.LazyFrame:
 
 
 def ring_columns(table: pl.LazyFrame) -> pl.LazyFrame:
-    """Per row that is or carries a ring: its edges, its planet's radius, density and Hill
-    radius, the Roche limits for its material and the density its outer edge implies."""
-    planet_radius = pl.when(_IS_RING).then(pl.col("parent_radius")).otherwise(pl.col("_radius"))
-    planet_density = pl.when(_IS_RING).then(pl.col("parent_density")).otherwise(
-        pl.col("_trusted_density"))
-    planet_hill = pl.when(_IS_RING).then(pl.col("parent_hill_radius")).otherwise(
-        pl.col("hill_radius"))
-    inner = pl.when(_IS_RING).then(_edge("ring_inner", pl.col("parent_radius"))).otherwise(
-        pl.col("_ring_inner_m"))
-    outer = pl.when(_IS_RING).then(_edge("ring_outer", pl.col("parent_radius"))).otherwise(
-        pl.col("_ring_outer_m"))
+    """Per row that is or carries a ring (null elsewhere): its edges, its planet's radius,
+    density and Hill radius, the Roche limits for its material and the density its outer edge
+    implies."""
+    has_ring = _IS_RING | pl.col("ring_inner").is_not_null() | pl.col("ring_outer").is_not_null()
+
+    def of_planet(on_ring: str, on_planet: str) -> pl.Expr:
+        return pl.when(_IS_RING).then(pl.col(on_ring)).otherwise(pl.col(on_planet))
+
     material = pl.when(pl.col("ring_density") > 0).then(pl.col("ring_density"))
     table = table.with_columns(
-        (_IS_RING | pl.col("ring_inner").is_not_null() | pl.col("ring_outer").is_not_null())
-        .alias("_has_ring"),
-        inner.alias("ring_inner_edge"), outer.alias("ring_outer_edge"),
-        planet_radius.alias("ring_planet_radius"), planet_density.alias("_ring_planet_density"),
-        planet_hill.alias("_ring_planet_hill"),
+        has_ring.alias("_has_ring"),
+        of_planet("parent_radius", "_radius").alias("ring_planet_radius"),
+        of_planet("parent_density", "_trusted_density").alias("_ring_planet_density"),
+        of_planet("parent_hill_radius", "hill_radius").alias("_ring_planet_hill"),
+        pl.when(_IS_RING).then(_edge("ring_inner", pl.col("parent_radius")))
+        .otherwise(pl.col("_ring_inner_m")).alias("ring_inner_edge"),
+        pl.when(_IS_RING).then(_edge("ring_outer", pl.col("parent_radius")))
+        .otherwise(pl.col("_ring_outer_m")).alias("ring_outer_edge"),
         material.fill_null(ASSUMED_RING_DENSITY).alias("_ring_material"),
         material.is_null().alias("_ring_material_assumed"),
     )
     radius, density = pl.col("ring_planet_radius"), pl.col("_ring_planet_density")
     stuff, edge = pl.col("_ring_material"), pl.col("ring_outer_edge")
+    columns = {
+        "ring_roche_rigid": orbits.roche_rigid(radius, density, stuff),
+        "ring_roche_fluid": orbits.roche_fluid(radius, density, stuff),
+        "ring_implied_density": orbits.roche_density(radius, density, edge,
+                                                     orbits.FLUID_ROCHE_COEFFICIENT),
+        "ring_roche_x": (density / stuff) ** (1.0 / 3.0),
+        "ring_roche_y": edge / radius,
+    }
+    only_rings = ("ring_planet_radius", "_ring_planet_density", "_ring_planet_hill")
     return table.with_columns(
-        ring_roche_rigid=orbits.roche_rigid(radius, density, stuff),
-        ring_roche_fluid=orbits.roche_fluid(radius, density, stuff),
-        ring_implied_density=orbits.roche_density(radius, density, edge,
-                                                  orbits.FLUID_ROCHE_COEFFICIENT),
-        ring_roche_x=(density / stuff) ** (1.0 / 3.0),
-        ring_roche_y=edge / radius,
-    )
+        *[pl.when(pl.col("_has_ring")).then(expr).alias(name) for name, expr in columns.items()],
+        *[pl.when(pl.col("_has_ring")).then(pl.col(name)).alias(name) for name in only_rings])
 
 
 _AROUND = ("ring_around", "_ring_around_inner", "_ring_around_outer")
