@@ -27,12 +27,19 @@ FIGURE_INFO = """() => {
     traces: gd.data.length,
   };
 }"""
+# The marker of the first (most serious) flagged trace that lies farthest from every other
+# marker, so the click cannot land on a neighbour drawn on top of it.
 FLAGGED_POINT = """() => {
   const gd = document.getElementById('figure');
-  const trace = gd.data.find(t => t.meta === 'flagged');
   const xa = gd._fullLayout.xaxis, ya = gd._fullLayout.yaxis, box = gd.getBoundingClientRect();
-  return {x: box.left + xa._offset + xa.l2p(trace.x[0]),
-          y: box.top + ya._offset + ya.l2p(trace.y[0]), id: trace.customdata[0]};
+  const at = (t, i) => ({x: box.left + xa._offset + xa.l2p(t.x[i]),
+                         y: box.top + ya._offset + ya.l2p(t.y[i]), id: t.customdata[i]});
+  const traces = gd.data.filter(t => t.meta === 'flagged');
+  const all = traces.flatMap(t => t.x.map((_, i) => at(t, i)));
+  const gap = p => Math.min(...all.filter(q => q.id !== p.id)
+                                  .map(q => Math.hypot(p.x - q.x, p.y - q.y)), Infinity);
+  return traces[0].x.map((_, i) => at(traces[0], i))
+    .reduce((best, p) => gap(p) > gap(best) ? p : best);
 }"""
 
 
@@ -88,6 +95,10 @@ def test_upload_reaches_the_overview(page: Page, catalogue: str, screenshots: Pa
     ("roche", ["rigid Roche limit", "fluid Roche limit", "parent surface"], []),
     ("orbits", ["Hill radius", "stable prograde limit", "Kepler's third law"], []),
     ("tidal-locking", ["despinning time = age", "tidal-lock-age limit"], []),
+    ("tidal-heating", ["rigid Roche limit", "fluid Roche limit", "Io's heat flux"], []),
+    ("remaining-life", ["one system age", "short-lived-orbit limit"], []),
+    ("rings", ["rigid Roche limit", "fluid Roche limit", "ring-beyond-roche limit",
+               "planet surface"], []),
     ("distributions", [], []),
 ])
 def test_each_diagram_draws_its_reference_lines(page: Page, base_url: str, catalogue: str,
