@@ -6,7 +6,7 @@ Layout under ``data_dir``::
     incoming/<id>/work/            the engine's output while it is written
     catalogues/<id>/               a finished catalogue: manifest.json, Parquet, aggregates.json
     tmp/                           exports and deletions in progress (emptied at start-up)
-    bodycensus.sqlite              saved views (WAL)
+    bodycensus.sqlite              saved views and triage decisions (WAL; storage/decisions.py)
 
 A catalogue appears under ``catalogues/`` only by renaming a complete work folder; every JSON
 file is written to a temporary name, fsynced and renamed, so a killed server leaves either the
@@ -34,6 +34,7 @@ from typing import Any, Unpack
 from bodycensus.durable import fsync_path
 from bodycensus.errors import Conflict, NotFound, StorageError, storage_error
 from bodycensus.input.ingest import IngestRecord
+from bodycensus.storage.decisions import DecisionBook
 from bodycensus.storage.manifest import Manifest, ManifestChanges, RunSummary, Status
 
 MANIFEST = "manifest.json"
@@ -112,6 +113,7 @@ class Store:
         self._lock = threading.RLock()
         self._unsaved: dict[str, Manifest] = {}  # failures the disk would not take
         self._init_db()
+        self.decisions = DecisionBook(self._db)
         self.recover()
 
     # --- catalogues ------------------------------------------------------------------------
@@ -231,6 +233,7 @@ class Store:
             root = self.catalogues if manifest.status == "ready" else self.incoming
             self._remove(root / cat_id)
         self.delete_views(cat_id)
+        self.decisions.forget_catalogue(cat_id)
 
     def ready_dir(self, cat_id: str) -> Path:
         """The folder of a ready catalogue; NotFound or Conflict otherwise."""
