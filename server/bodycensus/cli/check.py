@@ -1,7 +1,8 @@
 """``bodycensus check``: the headless gate for a content pipeline.
 
 Prints the findings as JSON (``{"catalogue", "summary", "findings", "artefacts"}``), CSV or a
-readable table; exits 1 when a finding at or above ``--fail-on`` exists.
+readable table; exits 1 when a finding at or above ``--fail-on`` exists, leaving out findings a
+decisions file covers, or when a finding is new against a baseline run (``cli.gate``).
 """
 
 from __future__ import annotations
@@ -16,15 +17,23 @@ from typing import TextIO, TypeAlias
 
 import polars as pl
 
+from bodycensus.cli.gate import (
+    Gate,
+    add_gate_arguments,
+    apply_gate,
+    check_gate_arguments,
+    exit_code,
+    gate_json,
+    gate_lines,
+)
 from bodycensus.engines.local import CheckOptions, CheckResult, check_file
 from bodycensus.input.formats import accepted
 from bodycensus.input.ingest import IngestRecord
 from bodycensus.input.schema import parse_assignment
 from bodycensus.science.families import parse_family_override
-from bodycensus.science.severity import SEVERITIES, SEVERITY_RANK, rank_expr
+from bodycensus.science.severity import SEVERITIES, rank_expr
 from bodycensus.storage.csvsafe import neutralise_formulas
 
-FOUND_AT_FAIL_LEVEL = 1
 PROGRESS_FILE_BYTES = 20 * 2**20  # files above this report progress on stderr by default
 Commands: TypeAlias = "argparse._SubParsersAction[argparse.ArgumentParser]"  # the subcommands
 
@@ -60,12 +69,14 @@ def add_check_parser(commands: Commands) -> None:
                        help="keep the run's Parquet files (bodies, findings, ...) in this folder")
     check.add_argument("--no-artefacts", action="store_true",
                        help="skip the distribution-artefact detector")
+    add_gate_arguments(check)
     noise = check.add_mutually_exclusive_group()
     noise.add_argument("--progress", action="store_true", help="always report progress on stderr")
     noise.add_argument("--quiet", action="store_true", help="never report progress")
 
 
-def _options(args: argparse.Namespace) -> CheckOptions:
+def check_options(args: argparse.Namespace) -> CheckOptions:
+    """The engine options the command line gives (shared by check and compare)."""
     return CheckOptions(
         map_overrides=dict(parse_assignment(text) for text in args.map),
         unit_overrides=dict(parse_assignment(text) for text in args.unit),
@@ -89,27 +100,22 @@ class _ProgressPrinter:
 
 def run_check(args: argparse.Namespace) -> int:
     """Run ``check``; returns the exit code."""
-    options = _options(args)
+    options = check_options(args)
     if not args.file.is_file():
         raise FileNotFoundError(2, "no such file", str(args.file))
+    check_gate_arguments(args)
     wants_progress = args.progress or (
         not args.quiet and args.file.stat().st_size > PROGRESS_FILE_BYTES)
     progress = _ProgressPrinter(sys.stderr) if wants_progress else None
-    if args.keep is not None:
-        result = check_file(args.file, args.keep, options, progress)
-        _print(result, args, sys.stdout)
-    else:
-        with tempfile.TemporaryDirectory(prefix="bodycensus-check-") as workdir:
-            result = check_file(args.file, Path(workdir), options, progress)
-            _print(result, args, sys.stdout)
-    return _exit_code(result, args.fail_on)
-
-
-def _exit_code(result: CheckResult, fail_on: str | None) -> int:
-    worst = result.worst_severity_rank()
-    if fail_on is None or worst is None:
-        return 0
-    return FOUND_AT_FAIL_LEVEL if worst <= SEVERITY_RANK[fail_on] else 0
+    with tempfile.TemporaryDirectory(prefix="bodycensus-check-") as scratch:
+        workdir = args.keep if args.keep is not None else Path(scratch) / "run"
+        result = check_file(args.file, workdir, options, progress)
+        gate = apply_gate(result, args, Path(scratch) / "baseline",
+                          lambda source, dest: check_file(source, dest, options, progress))
+        _print(result, gate, args, sys.stdout)
+        for line in gate_lines(gate, args.fail_on_new):
+            print(f"bodycensus check: {line}", file=sys.stderr)
+    return exit_code(gate, args.fail_on)
 
 
 def _sorted_findings(findings: pl.DataFrame) -> pl.DataFrame:
@@ -117,10 +123,10 @@ def _sorted_findings(findings: pl.DataFrame) -> pl.DataFrame:
                          descending=[False, True, False], nulls_last=True)
 
 
-def _print(result: CheckResult, args: argparse.Namespace, out: TextIO) -> None:
-    findings = _sorted_findings(result.findings)
+def _print(result: CheckResult, gate: Gate, args: argparse.Namespace, out: TextIO) -> None:
+    findings = _sorted_findings(gate.findings)
     if args.format == "json":
-        out.write(json_document(result, args.file, findings))
+        out.write(json_document(result, args.file, findings, gate_json(gate)))
     elif args.format == "csv":
         out.write(neutralise_formulas(findings.drop("_row")).write_csv())
     else:
@@ -135,10 +141,11 @@ def catalogue_info(result: CheckResult, source: Path) -> CatalogueInfo:
             "label_families": result.families}
 
 
-def json_document(result: CheckResult, source: Path, findings: pl.DataFrame) -> str:
-    """The headless contract's JSON document."""
+def json_document(result: CheckResult, source: Path, findings: pl.DataFrame,
+                  gate: dict[str, object] | None = None) -> str:
+    """The headless contract's JSON document (with the gate's decisions and baseline counts)."""
     head = {"catalogue": catalogue_info(result, source),
-            "summary": {**result.summary, "coverage": result.coverage.to_dicts()}}
+            "summary": {**result.summary, "coverage": result.coverage.to_dicts()}, **(gate or {})}
     body = json.dumps(head, indent=1, default=str)[:-2]
     return (body + ',\n "findings": ' + findings.drop("_row").write_json()
             + ',\n "artefacts": ' + result.artefacts.write_json() + "\n}\n")
@@ -159,7 +166,9 @@ def table_text(result: CheckResult, source: Path, findings: pl.DataFrame, limit:
     lines.append("")
     shown = findings.head(limit)
     for row in shown.iter_rows(named=True):
-        lines.append(f"{row['severity']:<10} {row['rule']:<24} {row['body']:<16} {row['message']}")
+        decided = f" [{row['decision']}]" if row.get("decision") else ""
+        lines.append(f"{row['severity']:<10} {row['rule']:<24} {row['body']:<16} "
+                     f"{row['message']}{decided}")
     if findings.height > limit:
         lines.append(f"... {findings.height - limit:,} more (use --format json or csv for all)")
     for row in result.artefacts.iter_rows(named=True):

@@ -1,4 +1,4 @@
-"""The command line: ``bodycensus serve | check | demo | bench``.
+"""The command line: ``bodycensus serve | check | compare | demo | bench``.
 
 Each command is a thin shell over the functions the dashboard calls; domain errors become a
 one-line message and exit code 2 here, at the edge, and nowhere else.
@@ -13,6 +13,7 @@ from pathlib import Path
 
 from bodycensus import __version__
 from bodycensus.cli.check import Commands, add_check_parser, run_check
+from bodycensus.cli.compare import add_compare_parser, run_compare
 from bodycensus.errors import BodycensusError
 from bodycensus.input.readers import compression_hint
 
@@ -81,6 +82,7 @@ def build_parser() -> argparse.ArgumentParser:
     commands = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
     _add_serve(commands)
     add_check_parser(commands)
+    add_compare_parser(commands)
     _add_demo(commands)
     _add_bench(commands)
     return parser
@@ -138,7 +140,8 @@ def _bench(args: argparse.Namespace) -> int:
 def main(argv: Sequence[str] | None = None) -> int:
     """Run one command; the exit code is 0, 1 (findings at --fail-on), or 2 (bad input)."""
     args = build_parser().parse_args(argv)
-    handlers = {"serve": _serve, "check": run_check, "demo": _demo, "bench": _bench}
+    handlers = {"serve": _serve, "check": run_check, "compare": run_compare, "demo": _demo,
+                "bench": _bench}
     try:
         return handlers[args.command](args)
     except _INPUT_ERRORS as error:
