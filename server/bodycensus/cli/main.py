@@ -57,6 +57,12 @@ def _add_demo(commands: Commands) -> None:
     demo.add_argument("--seed", type=int, default=7, help="random seed (default 7)")
     demo.add_argument("--out", type=Path, required=True,
                       help="output file; .csv, .csv.gz, .parquet or .ndjson")
+    demo.add_argument("--giant-mass-factor", type=float, default=1.0, metavar="F",
+                      help="gas giants' median mass times F (default 1): another generator "
+                           "setting, for bodycensus compare")
+    demo.add_argument("--spike-share", type=float, default=None, metavar="S",
+                      help="share of ocean worlds given one default mass (default 0.04; 0 "
+                           "removes that planted spike)")
     demo.add_argument("--score", action="store_true",
                       help="then check it and print recall per planted defect and the rate of "
                            "clean bodies called impossible")
@@ -105,8 +111,13 @@ def _serve(args: argparse.Namespace) -> int:
 
 def _demo(args: argparse.Namespace) -> int:
     from bodycensus.demo import write_demo
+    from bodycensus.demo.population import GeneratorSettings
 
-    catalogue, truth = write_demo(args.out, n_bodies=args.bodies, seed=args.seed)
+    settings = GeneratorSettings(giant_mass_factor=args.giant_mass_factor)
+    if args.spike_share is not None:
+        settings = GeneratorSettings(args.giant_mass_factor, args.spike_share)
+    catalogue, truth = write_demo(args.out, n_bodies=args.bodies, seed=args.seed,
+                                  settings=settings)
     print(f"wrote {catalogue} and {truth}")
     if args.score:
         print(score_demo(catalogue, truth), end="")

@@ -22,7 +22,13 @@ from bodycensus.demo.defects_rings import RING_TIDE_PLANTINGS
 from bodycensus.demo.kinds import LABELS
 from bodycensus.demo.names import body_names, system_names
 from bodycensus.demo.planter import Planter
-from bodycensus.demo.population import CUTOFF_RADIUS, GAP_SPIN, SPIKE_MASS, population
+from bodycensus.demo.population import (
+    CUTOFF_RADIUS,
+    GAP_SPIN,
+    SPIKE_MASS,
+    GeneratorSettings,
+    population,
+)
 from bodycensus.science.units import AU, DAY, HOUR, L_SUN, M_EARTH
 
 BODIES_PER_SYSTEM = 6.0  # about what population() yields; used to size the first attempt
@@ -40,13 +46,14 @@ ARTEFACTS = (  # kind, label, canonical field, at, low, high (SI)
 SUFFIXES = (".csv.gz", ".csv", ".parquet", ".ndjson")
 
 
-def _clean(n_bodies: int, seed: int) -> dict[str, np.ndarray]:
+def _clean(n_bodies: int, seed: int, settings: GeneratorSettings | None = None
+           ) -> dict[str, np.ndarray]:
     """Exactly ``n_bodies`` clean rows: whole systems, the last one cut short (outer first)."""
     attempt = 0
     while True:
         rng = np.random.default_rng([seed, attempt])
         n_systems = int(n_bodies / BODIES_PER_SYSTEM * 1.1 * 1.5**attempt) + 8
-        table = population(rng, n_systems)
+        table = population(rng, n_systems, settings)
         if len(table["code"]) >= n_bodies:
             return {k: v[:n_bodies] for k, v in table.items()}
         attempt += 1
@@ -146,11 +153,13 @@ def _truth(p: Planter, id_column: pl.Series) -> pl.DataFrame:
     return pl.DataFrame(rows, schema=schema, orient="row")
 
 
-def generate_demo(n_bodies: int, seed: int = 7) -> tuple[pl.DataFrame, pl.DataFrame]:
-    """The demo catalogue of ``n_bodies`` rows and its ground truth (see sample_data/README.md)."""
+def generate_demo(n_bodies: int, seed: int = 7, settings: GeneratorSettings | None = None
+                  ) -> tuple[pl.DataFrame, pl.DataFrame]:
+    """The demo catalogue of ``n_bodies`` rows and its ground truth (see sample_data/README.md);
+    ``settings`` change the generator (the defaults make the documented demo)."""
     if n_bodies < 1:
         raise ValueError(f"a demo catalogue needs at least one body, not {n_bodies}")
-    clean = _clean(n_bodies, seed)
+    clean = _clean(n_bodies, seed, settings)
     systems = system_names(clean["sys"], np.random.default_rng([seed, 998]))
     names = body_names(systems, clean["tier"], clean["sys"], clean["parent"], clean["code"])
     planter = _spoil(clean, n_bodies, seed)
@@ -186,11 +195,12 @@ def _write(frame: pl.DataFrame, out: Path) -> None:
         tmp.unlink(missing_ok=True)
 
 
-def write_demo(out: Path, n_bodies: int, seed: int = 7) -> tuple[Path, Path]:
+def write_demo(out: Path, n_bodies: int, seed: int = 7,
+               settings: GeneratorSettings | None = None) -> tuple[Path, Path]:
     """Write the demo catalogue to ``out`` and its truth beside it; returns both paths."""
     out = Path(out)
     truth_out = truth_path(out)
-    catalogue, truth = generate_demo(n_bodies, seed)
+    catalogue, truth = generate_demo(n_bodies, seed, settings)
     _write(catalogue, out)
     _write(truth, truth_out)
     return out, truth_out

@@ -8,6 +8,8 @@ default mass (a spike). Their physics stays consistent because sizes follow the 
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 from bodycensus.demo.kinds import (
@@ -39,6 +41,17 @@ CUTOFF_RADIUS = 6e3  # m; the generator re-rolls every asteroid smaller than thi
 GAP_SPIN = (13.0 * HOUR, 20.0 * HOUR)  # s; the generator re-rolls ice-giant spins in this band
 SPIKE_MASS = 1.75 * M_EARTH  # kg; the default mass a share of ocean worlds is given
 SPIKE_SHARE = 0.04
+
+
+@dataclass(frozen=True)
+class GeneratorSettings:
+    """What a run of the generator may change; the defaults make the documented demo. Two runs
+    with other settings differ the way a generator's weekly change would (``bodycensus compare``
+    shows it): heavier gas giants shift their mass law and, through the moons' mass fraction,
+    their moons'; a spike share of 0 removes the ocean worlds' default-mass spike."""
+
+    giant_mass_factor: float = 1.0  # x the median mass of gas giants (and hot gas giants)
+    spike_share: float = SPIKE_SHARE  # share of ocean worlds given the default mass SPIKE_MASS
 AGE_SCATTER = 0.1  # per-body scatter of catalogued ages about their system's age
 STAR_PAIR_SCALE = 0.01 * AU  # edge scale for star pairs, x (M / M_sun)^(1/3): a sun's Roche reach
 PLANETS_PER_STAR = 4.5  # Poisson mean, main-sequence hosts only
@@ -60,7 +73,8 @@ def _planet_kinds(rng: np.random.Generator, sysd: Table) -> tuple[np.ndarray, np
     return sys, code
 
 
-def _planet_sizes(rng: np.random.Generator, code: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def _planet_sizes(rng: np.random.Generator, code: np.ndarray, settings: GeneratorSettings
+                  ) -> tuple[np.ndarray, np.ndarray]:
     """Mass (kg) and radius (m) of planet-like bodies, kind by kind."""
     mass, radius = np.empty(len(code)), np.empty(len(code))
     for i, kind in enumerate(PLANET_KINDS):
@@ -72,9 +86,10 @@ def _planet_sizes(rng: np.random.Generator, code: np.ndarray) -> tuple[np.ndarra
             rho = lognormal(rng, ASTEROID_DENSITY[0], ASTEROID_DENSITY[1], n)
             mass[where], radius[where] = rho * bodies.sphere_volume(r), r
             continue
-        m = lognormal(rng, kind.mass_median * M_EARTH, kind.mass_sigma, n)
+        scale = settings.giant_mass_factor if kind.curve == "cold_hhe" else 1.0
+        m = lognormal(rng, kind.mass_median * scale * M_EARTH, kind.mass_sigma, n)
         if kind.label == "ocean world":
-            m[rng.random(n) < SPIKE_SHARE] = SPIKE_MASS
+            m[rng.random(n) < settings.spike_share] = SPIKE_MASS
         factor = lognormal(rng, kind.factor_median, kind.factor_sigma, n)
         if kind.curve == "cold_hhe":
             radius[where] = bodies.cold_hhe_radius(m) * factor
@@ -84,10 +99,10 @@ def _planet_sizes(rng: np.random.Generator, code: np.ndarray) -> tuple[np.ndarra
     return mass, radius
 
 
-def _star_orbiters(rng: np.random.Generator, sysd: Table) -> Table:
+def _star_orbiters(rng: np.random.Generator, sysd: Table, settings: GeneratorSettings) -> Table:
     """Planets, asteroids and companion stars about each primary, placed on stable orbits."""
     sys, code = _planet_kinds(rng, sysd)
-    mass, radius = _planet_sizes(rng, code)
+    mass, radius = _planet_sizes(rng, code, settings)
     pair = np.flatnonzero(sysd["c_code"] >= 0)
     t: Table = {"sys": np.concatenate([sys, pair]),
                 "code": np.concatenate([code, sysd["c_code"][pair]]),
@@ -256,12 +271,13 @@ def _tides_and_rings(rng: np.random.Generator, t: Table) -> Table:
     return add_rings(rng, t)
 
 
-def population(rng: np.random.Generator, n_systems: int) -> Table:
+def population(rng: np.random.Generator, n_systems: int,
+               settings: GeneratorSettings | None = None) -> Table:
     """The clean population of ``n_systems`` systems, sorted system by system (star, orbiters by
     distance, moons by planet and distance, rings); ``parent`` is a row index (-1 for none)."""
     side = rng.spawn(1)[0]  # its own stream: spawning leaves ``rng``'s draws as they were
     sysd = systems(rng, n_systems)
-    orb = _star_orbiters(rng, sysd)
+    orb = _star_orbiters(rng, sysd, settings or GeneratorSettings())
     t = _tides_and_rings(side, _finish(rng, _stack(sysd, orb, _moons(rng, orb)), sysd))
     order = np.lexsort((t["sub"], t["tier"], t["sys"]))
     new_index = np.empty_like(order)
