@@ -12,6 +12,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
+import polars as pl
 import pytest
 from scipy import stats
 
@@ -19,9 +20,9 @@ from bodycensus.science.shift import (
     MIN_SAMPLE,
     adjusted_p_values,
     effect_size,
-    on_test_scale,
     overlaid_histogram,
     shift_test,
+    on_test_scale,
 )
 
 
@@ -41,13 +42,14 @@ def test_a_tenth_of_a_standard_deviation_in_ten_thousand_is_found() -> None:
     expected_gap = 2 * stats.norm.cdf(0.05) - 1  # 0.0399
     assert test.statistic == pytest.approx(expected_gap, abs=0.012)
     assert test.p_value < 1e-4
-    assert test.effect == pytest.approx(0.1, abs=0.03)  # a pure shift: W1 / SD = delta
+    assert effect_size(old, new) == pytest.approx(0.1, abs=0.03)  # a pure shift: W1/SD = delta
 
 
 def test_same_law_gives_no_small_p_value_and_a_small_effect() -> None:
     rng = np.random.default_rng(12)
-    test = shift_test(rng.normal(0, 1, 10_000), rng.normal(0, 1, 10_000))
-    assert test is not None and test.p_value > 0.01 and test.effect < 0.05
+    old, new = rng.normal(0, 1, 10_000), rng.normal(0, 1, 10_000)
+    test = shift_test(old, new)
+    assert test is not None and test.p_value > 0.01 and effect_size(old, new) < 0.05
 
 
 def test_identical_samples_have_zero_effect_and_too_few_values_no_test() -> None:
@@ -65,9 +67,11 @@ def test_benjamini_hochberg_by_hand() -> None:
 
 
 def test_positive_fields_are_compared_as_logarithms_eccentricity_as_it_is() -> None:
-    raw = np.array([1.0, 10.0, 100.0, 0.0, -5.0, math.nan, math.inf])
-    assert on_test_scale("mass", raw).tolist() == [0.0, 1.0, 2.0]
-    assert on_test_scale("eccentricity", np.array([0.0, 0.5, math.nan])).tolist() == [0.0, 0.5]
+    raw = pl.DataFrame({"mass": [1.0, 10.0, 100.0, 0.0, -5.0, math.nan, math.inf, None],
+                        "eccentricity": [0.0, 0.5, math.nan, None, 0.1, 0.2, 0.3, 0.4]})
+    scaled = raw.select(on_test_scale("mass"), on_test_scale("eccentricity"))
+    assert scaled["mass"].to_list() == [0.0, 1.0, 2.0, None, None, None, None, None]
+    assert scaled["eccentricity"].to_list() == [0.0, 0.5, None, None, 0.1, 0.2, 0.3, 0.4]
 
 
 def test_the_histograms_share_edges_and_are_fractions() -> None:

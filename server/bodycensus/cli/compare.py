@@ -117,11 +117,12 @@ def _shifts(result: Comparison) -> list[str]:
     reported = sum(s["shifted"] for s in shifts)
     lines = ["", f"Distribution shifts: {reported} of {len(shifts)} label x field tests at "
                  f"q < {result['fdr']} (two-sample Kolmogorov-Smirnov, Benjamini-Hochberg; "
-                 f"effect = shift in pooled SDs; at most {result['sample_cap']:,} bodies per "
-                 "label and run)"]
+                 f"one value per system; effect = shift in the bodies' pooled SDs; at most "
+                 f"{result['sample_cap']:,} systems per label and run)"]
     shown = [s for s in shifts if s["shifted"]] or shifts[:5]
-    lines += _table(("label", "field", "scale", "n old", "n new", "D", "p", "q", "effect", ""),
-                    [(s["label"], s["field"], s["scale"], s["n_old"], s["n_new"],
+    lines += _table(("label", "field", "scale", "sys old", "sys new", "D", "p", "q", "effect",
+                     ""),
+                    [(s["label"], s["field"], s["scale"], s["units_old"], s["units_new"],
                       f"{s['statistic']:.3f}", f"{s['p_value']:.2g}", f"{s['q_value']:.2g}",
                       f"{s['effect']:.2f}", "SHIFTED" if s["shifted"] else "")
                      for s in shown[:SHIFTS_SHOWN]], (20, 16, 6, -7, -7, -6, -8, -8, -6, 7))

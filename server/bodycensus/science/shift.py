@@ -15,6 +15,9 @@ field, its effect size, and false-discovery control over all the tests of a comp
 
 Positive quantities spanning orders of magnitude are compared as log10 (the effect size then
 counts standard deviations of the logarithm); eccentricity, bounded in [0, 1), as it is.
+
+The test assumes independent draws. Bodies of one system are not (they share a star, an age,
+a history), so ``engines.shifts`` hands it one value per system; see there.
 """
 
 from __future__ import annotations
@@ -22,6 +25,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+import polars as pl
 from numpy.typing import NDArray
 from scipy import stats
 
@@ -34,22 +38,21 @@ HISTOGRAM_BINS = 40
 
 @dataclass(frozen=True)
 class ShiftTest:
-    """One two-sample test: KS statistic and p-value, effect size, sample sizes."""
+    """One two-sample test: KS statistic and p-value, and the sample sizes."""
 
     statistic: float
     p_value: float
-    effect: float  # Wasserstein-1 distance / pooled standard deviation
     n_old: int
     n_new: int
 
 
-def on_test_scale(field: str, values: FloatArray) -> FloatArray:
-    """The finite values of ``field`` on the scale the test compares (log10 unless linear;
-    non-positive values of a log field are left out: they are ``error`` findings already)."""
-    values = values[np.isfinite(values)]
-    if field in LINEAR_FIELDS:
-        return values
-    return np.log10(values[values > 0])
+def on_test_scale(field: str) -> pl.Expr:
+    """``field`` on the scale the test compares: log10 unless linear, null where not finite
+    (or, for a log field, not positive: those are ``error`` findings already)."""
+    column = pl.col(field).cast(pl.Float64)
+    kept = column.is_finite() if field in LINEAR_FIELDS else column.is_finite() & (column > 0)
+    value = column if field in LINEAR_FIELDS else column.log10()
+    return pl.when(kept).then(value).alias(field)
 
 
 def pooled_sd(old: FloatArray, new: FloatArray) -> float:
@@ -74,8 +77,7 @@ def shift_test(old: FloatArray, new: FloatArray) -> ShiftTest | None:
     if len(old) < MIN_SAMPLE or len(new) < MIN_SAMPLE:
         return None
     result = stats.ks_2samp(old, new)  # exact p-value for small samples, asymptotic above
-    return ShiftTest(float(result.statistic), float(result.pvalue), effect_size(old, new),
-                     len(old), len(new))
+    return ShiftTest(float(result.statistic), float(result.pvalue), len(old), len(new))
 
 
 def adjusted_p_values(p_values: list[float]) -> list[float]:
