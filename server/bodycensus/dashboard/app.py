@@ -21,7 +21,7 @@ from fastapi.staticfiles import StaticFiles
 from bodycensus import __version__
 from bodycensus.dashboard.error_pages import install_error_handlers
 from bodycensus.dashboard.intake.jobs import Jobs, add_catalogue
-from bodycensus.dashboard.routes import api, pages
+from bodycensus.dashboard.routes import api, compare, pages, triage
 from bodycensus.dashboard.security import auth
 from bodycensus.dashboard.security.guard import Guard
 from bodycensus.dashboard.settings import Settings
@@ -100,7 +100,11 @@ def create_app(settings: Settings) -> FastAPI:
                        allowed_hosts=frozenset(settings.allowed_hosts))
     app.include_router(auth.router)
     app.include_router(api.router)
+    app.include_router(triage.api)
+    app.include_router(compare.api)
     app.include_router(pages.router)
+    app.include_router(triage.router)
+    app.include_router(compare.router)
 
     @app.get("/static/vendor/plotly.min.js", include_in_schema=False)
     def plotly() -> FileResponse:

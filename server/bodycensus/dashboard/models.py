@@ -85,6 +85,12 @@ class Finding(BaseModel):
     label: str | None = None
     family: str | None = None
     row: int | None = Field(None, alias="_row", description="1-based data row in the file")
+    decision: str | None = Field(None, description="confirmed, accepted or wontfix; null when "
+                                                    "no triage decision covers the finding")
+    decision_scope: str | None = Field(None, description="finding, system or label")
+    decision_note: str | None = None
+    decided_by: str | None = None
+    decided_at: str | None = None
 
 
 class FindingsPage(BaseModel):

@@ -30,6 +30,7 @@ from bodycensus.dashboard.models import (
     ViewOut,
 )
 from bodycensus.dashboard.screens import queries, shapes
+from bodycensus.dashboard.screens.triage import decisions_of
 from bodycensus.dashboard.screens.viewstate import MAX_LIMIT, ViewState
 from bodycensus.diagrams import registry
 from bodycensus.errors import BadInput, Conflict
@@ -117,7 +118,8 @@ def confirm_mapping(catalogue_id: str, choice: MappingIn, store: StoreDep,
 
 @router.delete("/catalogues/{catalogue_id}", status_code=204)
 def delete_catalogue(catalogue_id: str, store: StoreDep) -> Response:
-    """Delete a catalogue and its saved views (not while it is being ingested)."""
+    """Delete a catalogue and its saved views (not while it is being ingested); the decisions
+    of its catalogue key stay for the next upload."""
     store.delete(catalogue_id)
     return Response(status_code=204)
 
@@ -149,11 +151,14 @@ FindingsView = Annotated[ViewState, Depends(findings_view)]
 
 
 @router.get("/catalogues/{catalogue_id}/findings", response_model=FindingsPage)
-def list_findings(cat_dir: ReadyDir, view: FindingsView) -> shapes.FindingsPage:
+def list_findings(catalogue_id: str, cat_dir: ReadyDir, view: FindingsView, store: StoreDep,
+                  undecided: bool = False) -> shapes.FindingsPage:
     """Findings filtered by severity (error, impossible, unstable, suspect, note), rule, label,
-    family and value/margin ranges; sorted by ``sort`` (a column, '-' for descending); paginated
-    by ``limit`` and ``offset``."""
-    return queries.findings_page(cat_dir, view)
+    family and value/margin ranges, and to those no triage decision covers (``undecided=1``);
+    sorted by ``sort`` (a column, '-' for descending); paginated by ``limit`` and ``offset``.
+    Each finding carries the decision that covers it."""
+    return queries.findings_page(cat_dir, view.with_(undecided=undecided),
+                                 decisions_of(store, catalogue_id)[1])
 
 
 def _export(request: Request, store: Store, cat_dir: Path, fmt: Literal["csv", "parquet"]
@@ -161,7 +166,8 @@ def _export(request: Request, store: Store, cat_dir: Path, fmt: Literal["csv", "
     """Write the filtered findings to a scratch file and send it, removing it afterwards."""
     dest = store.scratch(f".{fmt}")
     try:
-        queries.export_findings(cat_dir, _state(request), fmt, dest)
+        queries.export_findings(cat_dir, _state(request), fmt, dest,
+                                decisions_of(store, cat_dir.name)[1])
     except BaseException:
         dest.unlink(missing_ok=True)
         raise
@@ -185,8 +191,10 @@ def export_parquet(request: Request, cat_dir: ReadyDir, store: StoreDep) -> File
 @router.get("/catalogues/{catalogue_id}/bodies/{body_id:path}", response_model=BodyOut)
 def get_body(catalogue_id: str, body_id: str, cat_dir: ReadyDir, store: StoreDep
              ) -> shapes.BodyDetail:
-    """One body: fields in SI and as given, derived values, findings, parent/siblings/children."""
-    return queries.body_detail(cat_dir, body_id, store.get(catalogue_id).mapping)
+    """One body: fields in SI and as given, derived values, findings (with their decisions),
+    parent/siblings/children."""
+    return queries.body_detail(cat_dir, body_id, store.get(catalogue_id).mapping,
+                               decisions_of(store, catalogue_id)[1])
 
 
 @router.get("/catalogues/{catalogue_id}/overview", response_model=Overview)

@@ -8,7 +8,7 @@ from __future__ import annotations
 from importlib.resources import files
 from pathlib import Path
 from typing import Any
-from urllib.parse import quote
+from urllib.parse import quote, unquote
 
 from fastapi import APIRouter, Request
 from fastapi.responses import HTMLResponse
@@ -16,6 +16,7 @@ from fastapi.templating import Jinja2Templates
 
 from bodycensus.dashboard.deps import StoreDep
 from bodycensus.dashboard.screens import queries, report
+from bodycensus.dashboard.screens.triage import decisions_of, triage_counts
 from bodycensus.dashboard.screens.figure_text import drawn_marks
 from bodycensus.dashboard.screens.page_context import (
     artefact_rows,
@@ -37,6 +38,7 @@ templates = Jinja2Templates(directory=TEMPLATES_DIR)  # autoescape is on for eve
 templates.env.filters["num"] = format_number
 router = APIRouter(include_in_schema=False)
 LABELS_SHOWN = 40
+NAME_COOKIE = "bodycensus_name"  # who decides: the name typed in a decide form (triage.js)
 
 
 def cat_url(cat_id: str, *parts: str, state: ViewState | None = None) -> str:
@@ -44,6 +46,11 @@ def cat_url(cat_id: str, *parts: str, state: ViewState | None = None) -> str:
     path = "/".join([f"/catalogues/{quote(cat_id, safe='')}", *[quote(p, safe='') for p in parts]])
     query = state.to_query() if state else ""
     return f"{path}?{query}" if query else path
+
+
+def who(request: Request) -> str:
+    """The name the person last typed in a decide form (kept in a cookie by triage.js)."""
+    return unquote(request.cookies.get(NAME_COOKIE, ""))[:200]
 
 
 def _render(request: Request, template: str, **context: Any) -> HTMLResponse:
@@ -96,6 +103,9 @@ def overview_context(store: Store, manifest: Manifest) -> dict[str, Any]:
         "artefacts": artefact_rows(cat_id, overview["artefacts"], cat_url),
         "diagrams": diagram_links(cat_id, cat_url),
         "views": [{**v.__dict__, "url": v.url} for v in store.list_views(cat_id)],
+        "triage": triage_counts(cat_dir, decisions_of(store, cat_id)[1]),
+        "triage_href": cat_url(cat_id, "triage"),
+        "undecided_href": findings(undecided=True),
     }
 
 
@@ -110,7 +120,7 @@ def overview_page(request: Request, catalogue_id: str, store: StoreDep) -> HTMLR
 def findings_context(store: Store, cat_id: str, state: ViewState) -> dict[str, Any]:
     """Findings: one server-side page of the filtered, sorted list, with its filter form."""
     cat_dir = store.ready_dir(cat_id)
-    page = queries.findings_page(cat_dir, state)
+    page = queries.findings_page(cat_dir, state, decisions_of(store, cat_id)[1])
     aggs = queries.aggregates(cat_dir)
     query = state.to_query()
     prev_state = state.with_(offset=max(0, state.offset - state.limit))
@@ -130,6 +140,9 @@ def findings_context(store: Store, cat_id: str, state: ViewState) -> dict[str, A
                       if state.offset + state.limit < page["total"] else None),
         "export_csv": _export_url(cat_id, "csv", state),
         "export_parquet": _export_url(cat_id, "parquet", state),
+        "decide_url": f"/api/catalogues/{quote(cat_id, safe='')}/decisions",
+        "undecided_toggle": cat_url(cat_id, "findings", state=state.with_(
+            undecided=not state.undecided, offset=0)),
     }
 
 
@@ -144,7 +157,8 @@ def _export_url(cat_id: str, fmt: str, state: ViewState) -> str:
 def findings_screen(request: Request, catalogue_id: str, store: StoreDep) -> HTMLResponse:
     """Findings list: filters, sort, pages, exports."""
     state = ViewState.from_query(request.query_params)
-    return _render(request, "findings.html", **findings_context(store, catalogue_id, state))
+    return _render(request, "findings.html", **findings_context(store, catalogue_id, state),
+                   who=who(request))
 
 
 def diagrams_context(store: Store, cat_id: str, state: ViewState) -> dict[str, Any]:
@@ -168,19 +182,22 @@ def body_context(store: Store, cat_id: str, body_id: str) -> dict[str, Any]:
     """Body: every field (original and SI), derived quantities, findings, its system drawn."""
     cat_dir = store.ready_dir(cat_id)
     manifest = store.get(cat_id)
-    detail = queries.body_detail(cat_dir, body_id, manifest.mapping)
+    detail = queries.body_detail(cat_dir, body_id, manifest.mapping,
+                                 decisions_of(store, cat_id)[1])
     state = ViewState(body=body_id)
     return {"screen": "body", "catalogue": manifest.to_json(), "body": detail,
             "query": state.to_query(), "default_query": state.to_query(),
             "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/bodies/"
-                        f"{quote(body_id, safe='')}", **body_extras(detail, manifest.mapping)}
+                        f"{quote(body_id, safe='')}", **body_extras(detail, manifest.mapping),
+            "decide_url": f"/api/catalogues/{quote(cat_id, safe='')}/decisions"}
 
 
 @router.get("/catalogues/{catalogue_id}/bodies/{body_id:path}", response_class=HTMLResponse)
 def body_screen(request: Request, catalogue_id: str, body_id: str,
                 store: StoreDep) -> HTMLResponse:
     """One body and its system."""
-    return _render(request, "body.html", **body_context(store, catalogue_id, body_id))
+    return _render(request, "body.html", **body_context(store, catalogue_id, body_id),
+                   who=who(request))
 
 
 def _view_context(store: Store, view: SavedView) -> tuple[str, dict[str, Any], str]:
@@ -218,8 +235,11 @@ def report_download(request: Request, catalogue_id: str, store: StoreDep) -> HTM
     manifest = store.get(catalogue_id)
     aggs = queries.aggregates(cat_dir)
     figures = report.figures_for_view(aggs, state)
-    page = queries.findings_page(cat_dir, state.with_(limit=min(state.limit * 10, 500)))
-    body = report.build_report(templates.env, manifest.to_json(), state, aggs, figures, page)
+    decisions = decisions_of(store, catalogue_id)[1]
+    page = queries.findings_page(cat_dir, state.with_(limit=min(state.limit * 10, 500)),
+                                 decisions)
+    body = report.build_report(templates.env, manifest.to_json(), state, aggs, figures, page,
+                               triage_counts(cat_dir, decisions))
     name = f"bodycensus-{catalogue_id}-report.html"
     return HTMLResponse(body, headers={"Content-Disposition": f'attachment; filename="{name}"'})
 

@@ -8,7 +8,7 @@ anything is collected, so a catalogue of millions of rows answers a page in mill
 from __future__ import annotations
 
 import json
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from pathlib import Path
 from typing import Any, Literal, cast
 
@@ -38,7 +38,10 @@ from bodycensus.science.rules.ring_context import IN_METRES
 from bodycensus.science.severity import SEVERITIES, name_expr, rank_expr
 from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT
 from bodycensus.storage.csvsafe import neutralise_formulas
+from bodycensus.storage.decisions import Decision
+from bodycensus.storage.runs import scan_bodies
 from bodycensus.storage.store import json_ready, write_json_atomic
+from bodycensus.storage.triage import undecided, with_decisions
 
 __all__ = ["ViewState", "aggregates", "artefacts", "body_detail", "coverage", "export_findings",
            "findings_page", "overview", "system_detail", "systems_page"]
@@ -68,11 +71,16 @@ def _filters(state: ViewState) -> list[pl.Expr]:
     return exprs
 
 
-def filtered_findings(cat_dir: Path, state: ViewState) -> pl.LazyFrame:
-    """The findings that pass the view's filters, in the view's order (lazy)."""
+def filtered_findings(cat_dir: Path, state: ViewState, decisions: Sequence[Decision] = ()
+                      ) -> pl.LazyFrame:
+    """The findings that pass the view's filters, in the view's order, with the triage decision
+    that covers each (lazy); only the undecided ones when the view asks."""
     lf = _scan(cat_dir, "findings")
     for expr in _filters(state):
         lf = lf.filter(expr)
+    lf = with_decisions(lf, decisions, lambda: scan_bodies(cat_dir))
+    if state.undecided:
+        lf = undecided(lf)
     key, descending = state.sort_key()
     if key == "severity":
         return lf.sort([rank_expr(), "margin", "body"], descending=[descending, True, False],
@@ -80,9 +88,10 @@ def filtered_findings(cat_dir: Path, state: ViewState) -> pl.LazyFrame:
     return lf.sort([key, "body"], descending=[descending, False], nulls_last=True)
 
 
-def findings_page(cat_dir: Path, state: ViewState) -> FindingsPage:
+def findings_page(cat_dir: Path, state: ViewState, decisions: Sequence[Decision] = ()
+                  ) -> FindingsPage:
     """One page of the filtered findings: ``{"total", "offset", "limit", "items"}``."""
-    lf = filtered_findings(cat_dir, state)
+    lf = filtered_findings(cat_dir, state, decisions)
     total = lf.select(pl.len()).collect().item()
     items = lf.slice(state.offset, state.limit).collect().to_dicts()
     return {"total": total, "offset": state.offset, "limit": state.limit,
@@ -90,9 +99,10 @@ def findings_page(cat_dir: Path, state: ViewState) -> FindingsPage:
 
 
 def export_findings(cat_dir: Path, state: ViewState, fmt: Literal["csv", "parquet"],
-                    dest: Path) -> Path:
-    """Write every filtered finding (no paging) to ``dest`` as CSV or Parquet, streaming."""
-    lf = filtered_findings(cat_dir, state)
+                    dest: Path, decisions: Sequence[Decision] = ()) -> Path:
+    """Write every filtered finding (no paging) to ``dest`` as CSV or Parquet, streaming, with
+    the columns of the decision that covers each."""
+    lf = filtered_findings(cat_dir, state, decisions)
     if fmt == "csv":
         neutralise_formulas(lf).sink_csv(dest)
     else:
@@ -155,8 +165,10 @@ def _system(cat_dir: Path, body_id: str, parent: str | None) -> SystemAround:
             "siblings": rows["siblings"], "children": rows["children"]}
 
 
-def body_detail(cat_dir: Path, body_id: str, mapping: Mapping[str, Any] | None) -> BodyDetail:
-    """Everything about one body: fields (SI and original), derived values, findings, system."""
+def body_detail(cat_dir: Path, body_id: str, mapping: Mapping[str, Any] | None,
+                decisions: Sequence[Decision] = ()) -> BodyDetail:
+    """Everything about one body: fields (SI and original), derived values, findings (with
+    their decisions), system."""
     rows = _scan(cat_dir, "bodies").filter(pl.col("id") == body_id).head(100).collect()
     if rows.height == 0:
         raise NotFound(f"no body with id '{body_id}' in this catalogue")
@@ -165,7 +177,8 @@ def body_detail(cat_dir: Path, body_id: str, mapping: Mapping[str, Any] | None) 
     derived = {k: v for k, v in row.items() if k in DERIVED_COLUMNS}
     extra = {k: v for k, v in row.items()
              if k not in hidden and k not in DERIVED_COLUMNS and not k.startswith("_")}
-    findings = (_scan(cat_dir, "findings").filter(pl.col("body") == body_id)
+    own = _scan(cat_dir, "findings").filter(pl.col("body") == body_id)
+    findings = (with_decisions(own, decisions, lambda: scan_bodies(cat_dir))
                 .sort(rank_expr(), pl.col("margin"), descending=[False, True],
                       nulls_last=True).collect().to_dicts())
     return cast(BodyDetail, json_ready({

@@ -55,12 +55,13 @@ def figures_for_view(aggs: Mapping[str, Any], state: ViewState) -> list[ReportFi
 
 def build_report(env: Environment, catalogue: Mapping[str, Any], state: ViewState,
                  aggs: Mapping[str, Any], figures: list[ReportFigure],
-                 findings: FindingsPage) -> str:
-    """The report's HTML: summary counts, the view's filters, its figures and findings."""
+                 findings: FindingsPage, triage: Mapping[str, int] | None = None) -> str:
+    """The report's HTML: summary counts, triage counts, the view's filters, its figures and
+    findings (each with its decision)."""
     template = env.get_template("report.html")
     return template.render(
         catalogue=catalogue, state=state, filters=state.filters, query=state.to_query(),
         severity=aggs.get("severity", []), rules=aggs.get("rules", []), figures=figures,
-        page=findings, created=datetime.now(UTC).isoformat(timespec="seconds"),
+        page=findings, created=datetime.now(UTC).isoformat(timespec="seconds"), triage=triage,
         css=stylesheet(), plotly_js=plotly_source(),
     )

@@ -26,6 +26,11 @@ class Finding(TypedDict):
     label: str | None
     family: str | None
     _row: int | None
+    decision: str | None  # the triage decision covering it (storage/triage.py), None: undecided
+    decision_scope: str | None
+    decision_note: str | None
+    decided_by: str | None
+    decided_at: str | None
 
 
 class FindingsPage(TypedDict):

@@ -25,6 +25,7 @@ _MAX_VALUES = 200
 _LISTS = ("severity", "rule", "label", "family")
 _FLOATS = ("min_value", "max_value", "min_margin", "max_margin")
 _DIAGRAM = re.compile(r"^[a-z0-9_-]{1,64}$")
+GROUPINGS = ("label", "system")  # the Triage screen's groups: a rule within a label or system
 
 
 @dataclass(frozen=True)
@@ -39,12 +40,14 @@ class ViewState:
     max_value: float | None = None
     min_margin: float | None = None
     max_margin: float | None = None
+    undecided: bool = False  # only findings no triage decision covers
     sort: str = "severity"  # a findings column; a leading '-' sorts descending
     limit: int = 50
     offset: int = 0
     diagram: str | None = None  # the diagram shown: a key of diagrams.registry, e.g. "roche"
     field: str | None = None  # the field of the distribution diagram
     body: str | None = None  # the selected body
+    by: str | None = None  # how the Triage screen groups findings: "label" (default), "system"
 
     @classmethod
     def from_query(cls, query: str | Mapping[str, Any] | Any) -> ViewState:
@@ -64,6 +67,8 @@ class ViewState:
                 continue
             if f.name in _LISTS:
                 pairs.extend((f.name, v) for v in value)
+            elif isinstance(value, bool):
+                pairs.append((f.name, "1"))
             else:
                 pairs.append((f.name, repr(value) if isinstance(value, float) else str(value)))
         return urlencode(pairs)
@@ -79,8 +84,9 @@ class ViewState:
     @property
     def filters(self) -> dict[str, Any]:
         """The active filters only (for showing them as removable chips)."""
-        return {k: getattr(self, k) for k in _LISTS + _FLOATS if getattr(self, k) not in ((),
-                                                                                      None)}
+        chosen = {k: getattr(self, k) for k in _LISTS + _FLOATS
+                  if getattr(self, k) not in ((), None)}
+        return {**chosen, "undecided": True} if self.undecided else chosen
 
 
 def _pairs(query: str | Mapping[str, Any] | Any) -> Iterable[tuple[str, str]]:
@@ -103,6 +109,8 @@ def _parse(key: str, raw: list[str]) -> Any:
     text = raw[-1]
     if key in _FLOATS:
         return _parse_float(key, text)
+    if key == "undecided":
+        return _parse_flag(key, text)
     if key in ("limit", "offset"):
         return _parse_int(key, text, 1 if key == "limit" else 0, MAX_LIMIT if key == "limit"
                           else 10**12)
@@ -138,6 +146,14 @@ def _parse_float(key: str, text: str) -> float:
     return value
 
 
+def _parse_flag(key: str, text: str) -> bool:
+    """An on/off choice: 1, true, on or yes; 0, false, off or no."""
+    lowered = text.strip().lower()
+    if lowered not in ("1", "true", "on", "yes", "0", "false", "off", "no"):
+        raise BadInput(f"{key}={text[:40]!r} must be 1 or 0")
+    return lowered in ("1", "true", "on", "yes")
+
+
 def _parse_int(key: str, text: str, low: int, high: int) -> int:
     """An integer within [low, high]."""
     if not re.fullmatch(r"\d{1,13}", text.strip()) or not low <= int(text) <= high:
@@ -151,4 +167,6 @@ def _parse_text(key: str, text: str) -> str:
         raise BadInput(f"{key}: at most {_MAX_TEXT} characters")
     if key == "diagram" and not _DIAGRAM.match(text):
         raise BadInput(f"diagram={text[:40]!r} must be lower-case letters, digits, '-' or '_'")
+    if key == "by" and text not in GROUPINGS:
+        raise BadInput(f"by={text[:40]!r} is unknown; use one of {', '.join(GROUPINGS)}")
     return text
