@@ -72,6 +72,12 @@ def test_cross_site_state_changes_are_refused(served: tuple[SyncClient, str, Pat
     assert_error(client.delete(f"/api/catalogues/{cat_id}", headers=headers), 403, "forbidden")
     assert_error(client.post(f"/api/catalogues/{cat_id}/mapping", json={}, headers=headers),
                  403, "forbidden")
+    decide = {"scope": "label", "status": "accepted", "items": [{"rule": "r", "target": "t"}]}
+    for path, body in ((f"/api/catalogues/{cat_id}/decisions", decide),
+                       (f"/api/catalogues/{cat_id}/decisions/key", {"key": "k"}),
+                       (f"/api/catalogues/{cat_id}/decisions/import", {"toml": "format = 1"})):
+        assert_error(client.post(path, json=body, headers=headers), 403, "forbidden")
+    assert client.get(f"/api/catalogues/{cat_id}/decisions").json()["decisions"] == []
     assert data_entries(data_dir) == before
     assert client.get(f"/api/catalogues/{cat_id}", headers=headers).status_code == 200  # reads
 
@@ -115,6 +121,14 @@ def test_cookie_api_calls_need_json_or_a_custom_header(guarded: tuple[SyncClient
         del client.client.headers["Cookie"]
     view = client.post("/api/views", json={"catalogue": cat_id, "title": "t"}, headers=same)
     assert view.status_code == 201, view.text  # the dashboard's own JSON fetch
+    decide = (f'{{"scope": "label", "status": "accepted", "items": [{{"rule": "r", '
+              f'"target": "t"}}]}}')
+    as_form = client.post(f"/api/catalogues/{cat_id}/decisions", content=decide,
+                          headers={**same, "Content-Type": "text/plain"})
+    assert "X-Requested-With" in assert_error(as_form, 403, "forbidden")["detail"]
+    as_json = client.post(f"/api/catalogues/{cat_id}/decisions", content=decide,
+                          headers={**same, "Content-Type": "application/json"})
+    assert as_json.status_code == 200, as_json.text  # triage.js posts JSON
     assert_error(client.delete(f"/api/catalogues/{cat_id}", headers=same), 403, "forbidden")
     assert_error(client.post("/api/catalogues", files=source,
                              headers={**same, "Origin": EVIL, "X-Requested-With": "x"}),

@@ -14,6 +14,8 @@ from bodycensus.diagrams.plots import ACCENT, centres, empty, layout, log_ticks,
 from bodycensus.diagrams.shapes import Figure
 
 OLD_COLOUR = "#5f6670"  # the muted grey of the page; the new run in the accent colour
+# 500 px tall (not the shared 560): the figure box of the page is 520 px and hides overflow, so
+# the legend under the axis stays in view.
 
 
 def figure(row: Mapping[str, Any] | None, old_name: str, new_name: str) -> Figure:
@@ -28,7 +30,7 @@ def figure(row: Mapping[str, Any] | None, old_name: str, new_name: str) -> Figur
              f"q = {row['q_value']:.2g}, effect {row['effect']:.2f} SD)")
     log = row["scale"] == "log10"
     look = layout(title, f"{row['field']} (SI{', log scale' if log else ''})",
-                  "share of the run's bodies", barmode="overlay")
+                  "share of the run's bodies", barmode="overlay", height=500)
     if log:
         look["xaxis"].update(log_ticks(edges[0], edges[-1]))
     at = "10^%{x:.2f}" if log else "%{x:.3g}"
