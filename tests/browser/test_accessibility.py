@@ -2,8 +2,10 @@
 
 A dashboard with an access token in uvicorn on 127.0.0.1; headless Chromium logs in, uploads a
 demo catalogue and a file that needs the mapping step, saves a view, and visits the login page,
-Catalogues, the mapping step, Overview, Findings (with the save dialog open), Systems, one
-system, a flagged body, every diagram of the chooser, the saved view and the error page. On each,
+Catalogues, the mapping step, Overview, Findings (with the save dialog open, and undecided
+only), Systems, one system, a flagged body, Triage (by label, and by system), Compare (empty,
+and two catalogues with their overlaid histograms), every diagram of the chooser, the saved view
+and the error page. On each,
 axe-core 4 (bundled by the axe-playwright-python package; its source is evaluated in the page,
 since the Content-Security-Policy refuses an injected script tag) runs the WCAG 2.0/2.1 A and AA
 rules, and Tab walks the page to check that every stop shows a focus ring. Per-screen counts go
@@ -31,6 +33,7 @@ from web_support import live_server
 from bodycensus.dashboard.app import create_app
 from bodycensus.dashboard.settings import Settings
 from bodycensus.demo import write_demo
+from bodycensus.demo.population import GeneratorSettings
 
 TOKEN = "a11y-token-12345"
 SAMPLE = Path(__file__).resolve().parents[2] / "sample_data" / "varrow_shoals.csv"
@@ -230,6 +233,11 @@ SCREENS: dict[str, Callable[[Page, str, str], None]] = {
         root + _first_body_of(page, base, "ring-inside-planet")),
     "Body (a moon in a ring)": lambda page, root, base: page.goto(
         root + _first_body_of(page, base, "moon-in-ring")),
+    "Triage": lambda page, root, base: page.goto(f"{base}/triage"),
+    "Triage by system, undecided only": lambda page, root, base: page.goto(
+        f"{base}/triage?by=system&undecided=1"),
+    "Findings, undecided only": lambda page, root, base: page.goto(f"{base}/findings?undecided=1"),
+    "Compare, nothing chosen": lambda page, root, base: page.goto(f"{root}/compare"),
     "Error page": lambda page, root, base: page.goto(f"{root}/catalogues/no-such-catalogue"),
 }
 
@@ -266,6 +274,24 @@ def test_saved_view_meets_wcag_aa(page: Page, guarded_url: str, catalogue: str, 
     page.goto(guarded_url + answer.json()["url"])
     _wait_for_figures(page)
     problems = audit.check(page, "Saved view (Roche plane)", screenshots)
+    assert not problems, problems
+
+
+def test_compare_screen_meets_wcag_aa(page: Page, guarded_url: str, catalogue: str, audit: Audit,
+                                     screenshots: Path, tmp_path: Path) -> None:
+    path, _truth = write_demo(tmp_path / "sector-next.csv", n_bodies=3000, seed=8,
+                              settings=GeneratorSettings(giant_mass_factor=1.5))
+    answer = page.request.post(f"{guarded_url}/api/catalogues?auto=1",
+                               headers={"X-Requested-With": "XMLHttpRequest"},
+                               multipart={"file": {"name": path.name, "mimeType": "text/csv",
+                                                   "buffer": path.read_bytes()}})
+    assert answer.ok, answer.text()
+    other = answer.json()["id"]
+    page.goto(f"{guarded_url}/catalogues/{other}")
+    expect(page.locator("#by-severity")).to_be_visible(timeout=60_000)
+    page.goto(f"{guarded_url}/compare?old={catalogue}&new={other}")
+    _wait_for_figures(page)
+    problems = audit.check(page, "Compare (two catalogues)", screenshots)
     assert not problems, problems
 
 

@@ -12,6 +12,7 @@ from typing import Any
 
 from bodycensus.diagrams.plots import ACCENT, centres, empty, layout, log_ticks, text
 from bodycensus.diagrams.shapes import Figure
+from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT
 
 OLD_COLOUR = "#5f6670"  # the muted grey of the page; the new run in the accent colour
 # 500 px tall (not the shared 560): the figure box of the page is 520 px and hides overflow, so
@@ -29,7 +30,10 @@ def figure(row: Mapping[str, Any] | None, old_name: str, new_name: str) -> Figur
     title = (f"{text(row['label'])}: {row['field']} ({verdict}; D = {row['statistic']:.3f}, "
              f"q = {row['q_value']:.2g}, effect {row['effect']:.2f} SD)")
     log = row["scale"] == "log10"
-    look = layout(title, f"{row['field']} (SI{', log scale' if log else ''})",
+    unit = SI_UNIT.get(FIELD_DIMENSIONS.get(row["field"], ""), "")
+    where = ", ".join(part for part in (unit if unit != "1" else "", "log scale" if log else "")
+                      if part)
+    look = layout(title, f"{row['field']} ({where})" if where else row["field"],
                   "share of the run's bodies", barmode="overlay", height=500)
     if log:
         look["xaxis"].update(log_ticks(edges[0], edges[-1]))
