@@ -112,6 +112,10 @@ def modules() -> tuple[Module, ...]:
 # Modules with logic that no test imports directly, and the test that exercises them instead.
 TESTED_THROUGH: dict[str, str] = {
     "bodycensus.cli.check": "test_check_cli.py runs `python -m bodycensus check` as a process",
+    "bodycensus.cli.compare": "test_gate_cli.py runs `python -m bodycensus compare` as a process",
+    "bodycensus.cli.gate": "test_gate_cli.py runs check --decisions/--baseline as a process",
+    "bodycensus.dashboard.routes.compare": "test_triage_api.py: the Compare screen and its JSON",
+    "bodycensus.dashboard.routes.triage": "test_triage_api.py, test_security.py through the app",
     "bodycensus.dashboard.deps": "test_api.py: every route receives its store and settings",
     "bodycensus.dashboard.intake.uploads": "test_api_lifecycle.py, test_hostile_input.py upload",
     "bodycensus.dashboard.security.guard": "test_security.py, test_auth.py through the app",

@@ -121,8 +121,8 @@ def test_cookie_api_calls_need_json_or_a_custom_header(guarded: tuple[SyncClient
         del client.client.headers["Cookie"]
     view = client.post("/api/views", json={"catalogue": cat_id, "title": "t"}, headers=same)
     assert view.status_code == 201, view.text  # the dashboard's own JSON fetch
-    decide = (f'{{"scope": "label", "status": "accepted", "items": [{{"rule": "r", '
-              f'"target": "t"}}]}}')
+    decide = ('{"scope": "label", "status": "accepted", "items": [{"rule": "r", '
+              '"target": "t"}]}')
     as_form = client.post(f"/api/catalogues/{cat_id}/decisions", content=decide,
                           headers={**same, "Content-Type": "text/plain"})
     assert "X-Requested-With" in assert_error(as_form, 403, "forbidden")["detail"]

@@ -20,9 +20,9 @@ from bodycensus.science.shift import (
     MIN_SAMPLE,
     adjusted_p_values,
     effect_size,
+    on_test_scale,
     overlaid_histogram,
     shift_test,
-    on_test_scale,
 )
 
 

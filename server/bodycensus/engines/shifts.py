@@ -30,11 +30,12 @@ import polars as pl
 from bodycensus.science.shift import (
     FDR,
     LINEAR_FIELDS,
+    Histogram,
     adjusted_p_values,
     effect_size,
+    on_test_scale,
     overlaid_histogram,
     shift_test,
-    on_test_scale,
 )
 
 SAMPLE_CAP = 20_000  # systems per label and run at most
@@ -43,14 +44,6 @@ SHIFT_FIELDS: tuple[str, ...] = ("mass", "radius", "semi_major_axis", "eccentric
                                  "rotation_period", "age", "temperature", "luminosity")
 UNIT = "_unit"  # the sampling unit: the system, else the body
 _HASH_RANGE = 1 << 32
-
-
-class Histogram(TypedDict):
-    """Both samples binned on shared edges, as fractions of each sample (test scale)."""
-
-    edges: list[float]
-    old: list[float]
-    new: list[float]
 
 
 class ShiftRow(TypedDict):
@@ -68,7 +61,7 @@ class ShiftRow(TypedDict):
     q_value: float  # Benjamini-Hochberg adjusted over every test of the comparison
     effect: float  # shift in the bodies' pooled standard deviations (Wasserstein-1 / SD)
     shifted: bool
-    histogram: Histogram
+    histogram: Histogram  # the bodies on the test scale, shares of each run's sample
 
 
 def unit_expr() -> pl.Expr:
@@ -104,7 +97,7 @@ def _row(label: str, field: str, old: pl.DataFrame, new: pl.DataFrame) -> ShiftR
             "n_old": len(a), "n_new": len(b), "units_old": test.n_old, "units_new": test.n_new,
             "statistic": test.statistic, "p_value": test.p_value, "q_value": 1.0,
             "effect": effect_size(a, b), "shifted": False,
-            "histogram": Histogram(**overlaid_histogram(a, b))}
+            "histogram": overlaid_histogram(a, b)}
 
 
 def compare_distributions(old: pl.LazyFrame, new: pl.LazyFrame, fdr: float = FDR,

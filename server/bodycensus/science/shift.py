@@ -23,6 +23,7 @@ a history), so ``engines.shifts`` hands it one value per system; see there.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TypedDict
 
 import numpy as np
 import polars as pl
@@ -34,6 +35,14 @@ MIN_SAMPLE = 20  # fewer values on either side: no test (common practice for KS 
 FDR = 0.05  # default false-discovery rate of the reported shifts
 LINEAR_FIELDS = frozenset({"eccentricity"})  # compared as they are; the others as log10
 HISTOGRAM_BINS = 40
+
+
+class Histogram(TypedDict):
+    """Two samples binned on shared edges, each as fractions of its own size."""
+
+    edges: list[float]
+    old: list[float]
+    new: list[float]
 
 
 @dataclass(frozen=True)
@@ -88,7 +97,7 @@ def adjusted_p_values(p_values: list[float]) -> list[float]:
 
 
 def overlaid_histogram(old: FloatArray, new: FloatArray, bins: int = HISTOGRAM_BINS
-                       ) -> dict[str, list[float]]:
+                       ) -> Histogram:
     """Both samples binned on the same edges, each as fractions of its own count, so runs of
     different sizes draw on one axis: ``{"edges", "old", "new"}``."""
     both = np.concatenate([old, new])

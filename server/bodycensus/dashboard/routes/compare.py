@@ -12,7 +12,7 @@ from starlette.concurrency import run_in_threadpool
 
 from bodycensus.dashboard.deps import StoreDep
 from bodycensus.dashboard.routes.pages import _render
-from bodycensus.dashboard.screens.compare import comparison, compare_context
+from bodycensus.dashboard.screens.compare import compare_context, comparison
 
 api = APIRouter(prefix="/api", tags=["compare"])
 router = APIRouter(include_in_schema=False)

@@ -16,7 +16,6 @@ from fastapi.templating import Jinja2Templates
 
 from bodycensus.dashboard.deps import StoreDep
 from bodycensus.dashboard.screens import queries, report
-from bodycensus.dashboard.screens.triage import decisions_of, triage_counts
 from bodycensus.dashboard.screens.figure_text import drawn_marks
 from bodycensus.dashboard.screens.page_context import (
     artefact_rows,
@@ -26,6 +25,7 @@ from bodycensus.dashboard.screens.page_context import (
     format_number,
     mapping_context,
 )
+from bodycensus.dashboard.screens.triage import decisions_of, triage_counts
 from bodycensus.dashboard.screens.viewstate import SORT_KEYS, ViewState
 from bodycensus.input.formats import accepted
 from bodycensus.science.families import FAMILIES

@@ -50,7 +50,7 @@ def chosen_shift(result: Comparison, label: str | None, field: str | None) -> Sh
     """The shift row the screen draws: the one asked for, else the most shifted."""
     rows = result["shifts"]
     asked = [r for r in rows if r["label"] == label and r["field"] == field]
-    return (asked or rows or [None])[0]
+    return next(iter(asked or rows), None)
 
 
 def compare_context(store: Store, old: str | None, new: str | None, label: str | None,

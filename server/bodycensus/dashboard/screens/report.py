@@ -55,7 +55,7 @@ def figures_for_view(aggs: Mapping[str, Any], state: ViewState) -> list[ReportFi
 
 def build_report(env: Environment, catalogue: Mapping[str, Any], state: ViewState,
                  aggs: Mapping[str, Any], figures: list[ReportFigure],
-                 findings: FindingsPage, triage: Mapping[str, int] | None = None) -> str:
+                 findings: FindingsPage, triage: Mapping[str, object] | None = None) -> str:
     """The report's HTML: summary counts, triage counts, the view's filters, its figures and
     findings (each with its decision)."""
     template = env.get_template("report.html")
