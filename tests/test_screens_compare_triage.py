@@ -4,7 +4,6 @@ store: comparisons are kept and read back, the chosen histogram, groups and sele
 from __future__ import annotations
 
 from collections.abc import Iterator
-from pathlib import Path
 
 import pytest
 from web_support import SyncClient, api_settings, asgi_client, upload, wait_done
