@@ -27,6 +27,7 @@ from web_support import (
 
 from bodycensus.dashboard.app import create_app
 from bodycensus.science.units import M_EARTH
+from bodycensus.storage.triage import DECISION_COLUMNS
 
 
 @pytest.fixture(scope="module")
@@ -126,7 +127,8 @@ def test_parquet_export_reads_back(served: tuple[SyncClient, str, Path],
     assert response.status_code == 200
     exported = pl.read_parquet(io.BytesIO(response.content))
     expected = findings.filter(pl.col("severity") == "error")
-    assert exported.height == expected.height > 0 and exported.columns == findings.columns
+    assert exported.height == expected.height > 0
+    assert exported.columns == [*findings.columns, *DECISION_COLUMNS]  # the triage decision
 
 
 def test_body_detail(served: tuple[SyncClient, str, Path]) -> None:

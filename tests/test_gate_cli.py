@@ -36,7 +36,7 @@ def test_fail_on_new_passes_an_unchanged_rerun_and_stops_a_planted_defect(
     assert "0 new undecided findings at or above impossible" in unchanged.stderr
     planted = bodycensus("check", str(runs["planted"]), *gate)
     assert planted.returncode == 1, planted.stderr
-    assert "1 new undecided findings" in planted.stderr
+    assert "1 new undecided finding at or above impossible" in planted.stderr
     assert "lead2" in planted.stderr and "denser-than-iron" in planted.stderr
     assert bodycensus("check", str(runs["planted"]), "--baseline", str(runs["old"]),
                       "--fail-on-new", "error").returncode == 0  # nothing new at error
@@ -61,7 +61,7 @@ def test_decisions_waive_findings_and_stale_ones_are_named(runs: dict[str, Path]
     done = bodycensus("check", str(runs["old"]), "--fail-on", "impossible", "--decisions",
                       str(decisions), "--format", "json")
     assert done.returncode == 0, done.stderr
-    assert "1 findings waived by 2 decisions" in done.stderr
+    assert "1 finding waived by 2 decisions" in done.stderr
     assert "stale decision (matches no finding): accepted: rule kepler-mismatch on label " \
            "'ice moon'" in done.stderr
     document = json.loads(done.stdout)

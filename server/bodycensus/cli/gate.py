@@ -118,16 +118,21 @@ def exit_code(gate: Gate, fail_on: str | None) -> int:
     return FOUND if ranks and min(ranks) <= SEVERITY_RANK[fail_on] else 0
 
 
+def _count(n: int, noun: str) -> str:
+    """``1 finding``, ``2 findings``."""
+    return f"{n:,} {noun}{'' if n == 1 else 's'}"
+
+
 def gate_lines(gate: Gate, fail_on_new: str | None) -> list[str]:
     """What the gate says on stderr: waived findings, stale decisions, new findings."""
     lines = []
     if gate.decisions_file is not None:
-        lines.append(f"{gate.waived:,} findings waived by {len(gate.decisions)} decisions in "
-                     f"{gate.decisions_file}")
+        lines.append(f"{_count(gate.waived, 'finding')} waived by "
+                     f"{_count(len(gate.decisions), 'decision')} in {gate.decisions_file}")
         lines += [f"stale decision (matches no finding): {d.describe()}" for d in gate.stale]
     if gate.new is not None:
-        lines.append(f"{gate.new.height:,} new undecided findings at or above {fail_on_new} "
-                     f"against {gate.baseline}")
+        lines.append(f"{_count(gate.new.height, 'new undecided finding')} at or above "
+                     f"{fail_on_new} against {gate.baseline}")
         lines += [f"new {row['severity']:<10} {row['rule']:<24} {row['body']}: {row['message']}"
                   for row in gate.new.head(SHOWN_NEW).iter_rows(named=True)]
         if gate.new.height > SHOWN_NEW:
