@@ -12,6 +12,7 @@ import pytest
 from catalogue_builder import EARTH_LIKE, SUN_LIKE, run
 from shift_support import label_catalogue
 
+from bodycensus.engines import compare
 from bodycensus.engines.compare import artefacts_diff, compare_runs, new_findings
 from bodycensus.engines.local import CheckOptions, check_file
 from bodycensus.engines.shifts import UNIT, label_sample
@@ -40,6 +41,13 @@ def test_bodies_are_matched_by_id(two_runs: tuple[Path, Path]) -> None:
     assert bodies["changed_fields"] == {"mass": 1}
     assert bodies["examples"] == {"added": ["mars"], "removed": ["lead"], "changed": ["P"]}
     assert result["old"]["bodies"] == result["new"]["bodies"] == 3
+
+
+def test_buckets_of_ids_add_up_to_the_whole(two_runs: tuple[Path, Path],
+                                            monkeypatch: pytest.MonkeyPatch) -> None:
+    whole = compare_runs(*two_runs)["bodies"]
+    monkeypatch.setattr(compare, "BUCKET_ROWS", 1)  # three bodies: three buckets
+    assert compare_runs(*two_runs)["bodies"] == whole
 
 
 def test_findings_are_matched_by_body_and_rule(two_runs: tuple[Path, Path]) -> None:

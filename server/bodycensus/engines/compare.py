@@ -9,6 +9,7 @@ results are counts and a few examples, never rows by the million.
 
 from __future__ import annotations
 
+import math
 import time
 from pathlib import Path
 from typing import Any, TypedDict
@@ -23,6 +24,8 @@ from bodycensus.storage.runs import read_artefacts, scan_bodies, scan_findings
 
 COMPARED_FIELDS = tuple(f for f in CANONICAL_FIELDS if f not in ("id", "family"))
 EXAMPLES = 10  # ids listed per kind of change
+BUCKET_ROWS = 1_000_000  # bodies per bucket of the id join: bounds its memory
+BUCKET_SEED = 11
 ARTEFACT_KEY = ("scope", "label", "field", "kind")
 SAME_PLACE = 0.05  # artefacts of one key whose places differ by less than this share match
 
@@ -84,10 +87,11 @@ def _fields(old: pl.LazyFrame, new: pl.LazyFrame) -> list[str]:
     return [f for f in COMPARED_FIELDS if f in both]
 
 
-def bodies_diff(old: pl.LazyFrame, new: pl.LazyFrame) -> BodiesDiff:
-    """Added, removed and changed bodies, by id, in one streaming join of the compared fields."""
-    fields = _fields(old, new)
-    keep = [pl.col("id").is_not_null()]
+def _bucket_counts(old: pl.LazyFrame, new: pl.LazyFrame, fields: list[str],
+                   bucket: pl.Expr) -> tuple[dict[str, Any], pl.DataFrame]:
+    """One bucket of ids: its totals (kinds of change, changed fields, example ids) and its
+    counts per label, from one streaming join of the compared fields on the id."""
+    keep = [pl.col("id").is_not_null(), bucket]
     joined = (old.select("id", *fields).filter(*keep)
               .join(new.select("id", *fields).filter(*keep), on="id", how="full",
                     suffix="_new"))
@@ -97,7 +101,7 @@ def bodies_diff(old: pl.LazyFrame, new: pl.LazyFrame) -> BodiesDiff:
     changed = pl.any_horizontal(*differs.values()) if differs else pl.lit(False)
     marked = joined.with_columns(_added=added, _removed=removed, _changed=changed,
                                  _label=pl.coalesce("label_new", "label") if "label" in fields
-                                 else pl.lit(None, pl.String))
+                                 else pl.lit(None, pl.String)).collect(engine="streaming")
     totals = marked.select(
         pl.col("_added").sum(), pl.col("_removed").sum(), pl.col("_changed").sum(),
         (~pl.col("_added") & ~pl.col("_removed") & ~pl.col("_changed")).sum().alias("_same"),
@@ -105,20 +109,33 @@ def bodies_diff(old: pl.LazyFrame, new: pl.LazyFrame) -> BodiesDiff:
         pl.col("id_new").filter("_added").bottom_k(EXAMPLES).implode().alias("ex_added"),
         pl.col("id").filter("_removed").bottom_k(EXAMPLES).implode().alias("ex_removed"),
         pl.col("id").filter("_changed").bottom_k(EXAMPLES).implode().alias("ex_changed"),
-    ).collect(engine="streaming").row(0, named=True)
-    by_label = (marked.group_by("_label")
-                .agg(pl.col("_added").sum().alias("added"),
-                     pl.col("_removed").sum().alias("removed"),
-                     pl.col("_changed").sum().alias("changed"))
+    ).row(0, named=True)
+    by_label = marked.group_by("_label").agg(pl.col("_added", "_removed", "_changed").sum())
+    return totals, by_label
+
+
+def bodies_diff(old: pl.LazyFrame, new: pl.LazyFrame) -> BodiesDiff:
+    """Added, removed and changed bodies, by id. The ids are split by hash into buckets of
+    about ``BUCKET_ROWS`` bodies, each joined on its own, so memory follows the bucket, not the
+    catalogue (a bucket's scan reads the id column first and skips the rest of other buckets)."""
+    fields = _fields(old, new)
+    rows = max(int(lf.select(pl.len()).collect().item()) for lf in (old, new))
+    count = max(1, math.ceil(rows / BUCKET_ROWS))
+    key = pl.col("id").hash(seed=BUCKET_SEED) % count
+    parts = [_bucket_counts(old, new, fields, key == k) for k in range(count)]
+    totals = {name: sum(p[0][name] for p in parts)
+              for name in ("_added", "_removed", "_changed", "_same", *fields)}
+    examples = {kind: sorted(i for p in parts for i in p[0][f"ex_{kind}"])[:EXAMPLES]
+                for kind in ("added", "removed", "changed")}
+    by_label = (pl.concat([p[1] for p in parts]).group_by("_label").sum()
+                .rename({"_label": "label", "_added": "added", "_removed": "removed",
+                         "_changed": "changed"})
                 .filter((pl.col("added") + pl.col("removed") + pl.col("changed")) > 0)
-                .sort(["changed", "_label"], descending=[True, False], nulls_last=True)
-                .rename({"_label": "label"}).collect(engine="streaming"))
+                .sort(["changed", "label"], descending=[True, False], nulls_last=True))
     return {"added": totals["_added"], "removed": totals["_removed"],
             "changed": totals["_changed"], "unchanged": totals["_same"],
             "changed_fields": {f: totals[f] for f in fields if totals[f]},
-            "by_label": by_label.to_dicts(),
-            "examples": {kind: sorted(totals[f"ex_{kind}"]) for kind in
-                         ("added", "removed", "changed")}}
+            "by_label": by_label.to_dicts(), "examples": examples}
 
 
 def finding_keys(findings: pl.LazyFrame) -> pl.LazyFrame:
