@@ -20,8 +20,9 @@ from __future__ import annotations
 
 import sqlite3
 from collections.abc import Callable, Iterable, Iterator
-from contextlib import AbstractContextManager
+from contextlib import AbstractContextManager, closing
 from dataclasses import astuple, dataclass
+from pathlib import Path
 from typing import Literal, cast, get_args
 
 from bodycensus.errors import BadInput
@@ -103,18 +104,29 @@ def check_key(key: str) -> str:
 class DecisionBook:
     """The decisions of every catalogue key, and the key chosen for each catalogue."""
 
-    def __init__(self, connect: Connect) -> None:
-        self._connect = connect
+    def __init__(self, connect: Connect, db_path: Path) -> None:
+        self._connect, self._path = connect, db_path
         with connect() as conn:
             for statement in _SCHEMA:
                 conn.execute(statement)
 
+    def _read(self, sql: str, params: tuple[str, ...]) -> list[tuple[object, ...]]:
+        """Rows of a query. When the data directory has become read-only (a full or remounted
+        disk), SQLite cannot open its write-ahead log; the file is then read as immutable, so
+        the screens still show the decisions (every connection closes, which checkpoints the
+        log into the file)."""
+        try:
+            with self._connect() as conn:
+                return conn.execute(sql, params).fetchall()
+        except sqlite3.OperationalError:
+            uri = f"{self._path.resolve().as_uri()}?mode=ro&immutable=1"
+            with closing(sqlite3.connect(uri, uri=True)) as conn:
+                return conn.execute(sql, params).fetchall()
+
     def key_of(self, catalogue: str, name: str) -> str:
         """The key of catalogue ``catalogue`` (uploaded as ``name``): chosen, else the default."""
-        with self._connect() as conn:
-            row = conn.execute("SELECT key FROM catalogue_keys WHERE catalogue = ?",
-                               (catalogue,)).fetchone()
-        return str(row[0]) if row else default_key(name)
+        rows = self._read("SELECT key FROM catalogue_keys WHERE catalogue = ?", (catalogue,))
+        return str(rows[0][0]) if rows else default_key(name)
 
     def set_key(self, catalogue: str, key: str) -> str:
         """Choose the key of a catalogue (its decisions are then those of ``key``)."""
@@ -155,16 +167,14 @@ class DecisionBook:
 
     def of(self, key: str) -> list[Decision]:
         """Every decision of ``key``, in a stable order (scope, rule, target)."""
-        with self._connect() as conn:
-            rows = conn.execute(f"SELECT {_COLUMNS} FROM decisions WHERE catalogue_key = ?"
-                                " ORDER BY scope, rule, target", (key,)).fetchall()
-        return list(_decisions(rows))
+        return list(_decisions(self._read(f"SELECT {_COLUMNS} FROM decisions WHERE "
+                                          "catalogue_key = ? ORDER BY scope, rule, target",
+                                          (key,))))
 
     def keys(self) -> list[str]:
         """Every catalogue key that has decisions."""
-        with self._connect() as conn:
-            rows = conn.execute("SELECT DISTINCT catalogue_key FROM decisions ORDER BY 1")
-            return [str(r[0]) for r in rows.fetchall()]
+        return [str(r[0]) for r in self._read(
+            "SELECT DISTINCT catalogue_key FROM decisions ORDER BY 1", ())]
 
 
 def _decisions(rows: Iterable[tuple[object, ...]]) -> Iterator[Decision]:

@@ -113,7 +113,7 @@ class Store:
         self._lock = threading.RLock()
         self._unsaved: dict[str, Manifest] = {}  # failures the disk would not take
         self._init_db()
-        self.decisions = DecisionBook(self._db)
+        self.decisions = DecisionBook(self._db, self.db_path)
         self.recover()
 
     # --- catalogues ------------------------------------------------------------------------
