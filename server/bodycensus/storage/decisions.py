@@ -171,11 +171,6 @@ class DecisionBook:
                                           "catalogue_key = ? ORDER BY scope, rule, target",
                                           (key,))))
 
-    def keys(self) -> list[str]:
-        """Every catalogue key that has decisions."""
-        return [str(r[0]) for r in self._read(
-            "SELECT DISTINCT catalogue_key FROM decisions ORDER BY 1", ())]
-
 
 def _decisions(rows: Iterable[tuple[object, ...]]) -> Iterator[Decision]:
     for scope, rule, target, status, note, by, decided in rows:

@@ -89,8 +89,3 @@ def stale(findings: pl.LazyFrame, decisions: Sequence[Decision],
     matched = matched_keys(findings, decisions, bodies)
     return [d for d in decisions if d.key not in matched]
 
-
-def covering(decisions: Sequence[Decision], scope: Scope, rule: str,
-             target: str) -> Decision | None:
-    """The decision of exactly this scope, rule and target, if there is one."""
-    return next((d for d in decisions if d.key == (scope, rule, target)), None)
