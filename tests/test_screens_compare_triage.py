@@ -60,6 +60,10 @@ def test_groups_counts_and_selection(stored: tuple[Store, list[str]]) -> None:
         ("terrestrial planet", 3, 2, 1)
     by_system = triage.triage_groups(cat_dir, decisions, ViewState(by="system"))
     assert {g["target"] for g in by_system["items"]} == {"Sol"}
+    sol = triage.system_groups(cat_dir, decisions, "Sol")
+    assert [(g["rule"], g["findings"], g["undecided"]) for g in sol
+            if g["rule"] == "denser-than-iron"] == [("denser-than-iron", 3, 2)]
+    assert triage.system_groups(cat_dir, decisions, "Nowhere") == []
     counts = triage.triage_counts(cat_dir, decisions)
     assert counts["accepted"] == 1 and counts["undecided"] == counts["findings"] - 1
     picked = triage.selection(cat_dir, ViewState(rule=("denser-than-iron",), undecided=True),

@@ -138,6 +138,10 @@ def test_the_screens_show_decisions_and_the_undecided_filter(client: SyncClient)
     assert 'id="triage-summary"' in client.get(f"/catalogues/{cat_id}").text
     by_system = client.get(f"/catalogues/{cat_id}/triage", params={"by": "system"}).text
     assert ">Sol</a>" in by_system
+    _decide(client, cat_id, scope="system", status="wontfix", by="Cy",
+            items=[{"rule": "denser-than-iron", "target": "Sol"}])
+    system = client.get(f"/catalogues/{cat_id}/systems/Sol").text
+    assert 'id="system-groups"' in system and "decision-wontfix" in system and "by Cy" in system
 
 
 @pytest.mark.parametrize(("body", "status"), [

@@ -25,7 +25,7 @@ from bodycensus.dashboard.screens.page_context import (
     format_number,
     mapping_context,
 )
-from bodycensus.dashboard.screens.triage import decisions_of, triage_counts
+from bodycensus.dashboard.screens.triage import decisions_of, system_groups, triage_counts
 from bodycensus.dashboard.screens.viewstate import SORT_KEYS, ViewState
 from bodycensus.input.formats import accepted
 from bodycensus.science.families import FAMILIES
@@ -276,9 +276,13 @@ def systems_screen(request: Request, catalogue_id: str, store: StoreDep) -> HTML
 @router.get("/catalogues/{catalogue_id}/systems/{system:path}", response_class=HTMLResponse)
 def system_screen(request: Request, catalogue_id: str, system: str,
                   store: StoreDep) -> HTMLResponse:
-    """One system: its bodies as an indented tree, each with its worst severity."""
-    detail = queries.system_detail(store.ready_dir(catalogue_id), system)
+    """One system: its bodies as an indented tree, each with its worst severity, and its
+    findings per rule, each group with its triage decision."""
+    cat_dir = store.ready_dir(catalogue_id)
+    detail = queries.system_detail(cat_dir, system)
     bodies = [{**row, "href": cat_url(catalogue_id, "bodies", row["id"])}
               for row in detail["bodies"]]
+    groups = system_groups(cat_dir, decisions_of(store, catalogue_id)[1], system)
     return _render(request, "system.html", screen="systems", system={**detail, "bodies": bodies},
-                   catalogue=store.get(catalogue_id).to_json())
+                   catalogue=store.get(catalogue_id).to_json(), groups=groups, who=who(request),
+                   decide_url=f"/api/catalogues/{quote(catalogue_id, safe='')}/decisions")

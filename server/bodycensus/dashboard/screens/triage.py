@@ -90,28 +90,49 @@ def _with_targets(cat_dir: Path, lf: pl.LazyFrame, by: Grouping) -> pl.LazyFrame
     return lf.join(systems, on="body", how="left")
 
 
+def _grouped(lf: pl.LazyFrame) -> pl.LazyFrame:
+    """Findings (with decisions and a ``target``) counted per rule and target."""
+    return (lf.filter(pl.col("target").is_not_null()).group_by("rule", "target")
+            .agg(pl.len().alias("findings"), pl.col("decision").is_null().sum()
+                 .alias("undecided"), *_status_counts(), rank_expr().min().alias("_rank")))
+
+
+def _items(table: pl.LazyFrame, decisions: Sequence[Decision], by: Grouping
+           ) -> tuple[int, list[Group]]:
+    """How many groups there are, and the first ``GROUPS_SHOWN``, most serious and most
+    undecided first, each with its own decision."""
+    rows = (table.sort(["_rank", "undecided", "rule", "target"],
+                       descending=[False, True, False, False])
+            .with_columns(severity=name_expr("_rank")).drop("_rank").collect())
+    own = {d.key[1:]: d for d in decisions if d.scope == by}
+    items = []
+    for row in rows.head(GROUPS_SHOWN).iter_rows(named=True):
+        mine = own.get((row["rule"], row["target"]))
+        items.append({**row, "decision": mine.status if mine else None,
+                      "note": mine.note if mine else None, "by": mine.by if mine else None})
+    return rows.height, cast(list[Group], json_ready(items))
+
+
 def triage_groups(cat_dir: Path, decisions: Sequence[Decision], state: ViewState) -> Groups:
     """The groups of the catalogue's findings by rule and label (or system), most serious and
     most undecided first; only groups with undecided findings when the view asks."""
     by: Grouping = "system" if state.by == "system" else "label"
     lf = with_decisions(scan_findings(cat_dir), decisions, lambda: scan_bodies(cat_dir))
-    grouped = (_with_targets(cat_dir, lf, by).filter(pl.col("target").is_not_null())
-               .group_by("rule", "target")
-               .agg(pl.len().alias("findings"), pl.col("decision").is_null().sum()
-                    .alias("undecided"), *_status_counts(), rank_expr().min().alias("_rank")))
+    grouped = _grouped(_with_targets(cat_dir, lf, by))
     if state.undecided:
         grouped = grouped.filter(pl.col("undecided") > 0)
-    table = (grouped.sort(["_rank", "undecided", "rule", "target"],
-                          descending=[False, True, False, False])
-             .with_columns(severity=name_expr("_rank")).drop("_rank").collect())
-    own = {d.key[1:]: d for d in decisions if d.scope == by}
-    items = []
-    for row in table.head(GROUPS_SHOWN).iter_rows(named=True):
-        mine = own.get((row["rule"], row["target"]))
-        items.append({**row, "decision": mine.status if mine else None,
-                      "note": mine.note if mine else None, "by": mine.by if mine else None})
-    return {"by": by, "total": table.height, "shown": len(items),
-            "items": cast(list[Group], json_ready(items))}
+    total, items = _items(grouped, decisions, by)
+    return {"by": by, "total": total, "shown": len(items), "items": items}
+
+
+def system_groups(cat_dir: Path, decisions: Sequence[Decision], system: str) -> list[Group]:
+    """The findings of one system's bodies per rule: the System screen's decide table."""
+    members = (scan_bodies(cat_dir).filter(pl.col("system") == system)
+               .select(pl.col("id").alias("body")).unique())
+    own = scan_findings(cat_dir).join(members, on="body", how="semi")
+    lf = with_decisions(own, decisions, lambda: scan_bodies(cat_dir))
+    return _items(_grouped(lf.with_columns(pl.lit(system).alias("target"))), decisions,
+                  "system")[1]
 
 
 def selection(cat_dir: Path, state: ViewState, decisions: Sequence[Decision]
