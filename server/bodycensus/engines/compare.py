@@ -231,14 +231,14 @@ def compare_runs(old_dir: Path, new_dir: Path, names: tuple[str, str] | None = N
     """Compare the run in ``old_dir`` with the run in ``new_dir`` (folders the engine wrote)."""
     started = time.monotonic()
     names = names or (old_dir.name, new_dir.name)
-    old_bodies, new_bodies = scan_bodies(old_dir), scan_bodies(new_dir)
-    old_findings, new_findings_ = scan_findings(old_dir), scan_findings(new_dir)
+    bodies = scan_bodies(old_dir), scan_bodies(new_dir)
+    findings = scan_findings(old_dir), scan_findings(new_dir)
     result: Comparison = {
-        "old": _info(names[0], old_bodies, old_findings),
-        "new": _info(names[1], new_bodies, new_findings_),
-        "bodies": bodies_diff(old_bodies, new_bodies),
-        "findings": findings_diff(old_findings, new_findings_),
-        "shifts": compare_distributions(old_bodies, new_bodies, fdr, cap),
+        "old": _info(names[0], bodies[0], findings[0]),
+        "new": _info(names[1], bodies[1], findings[1]),
+        "bodies": bodies_diff(*bodies),
+        "findings": findings_diff(*findings),
+        "shifts": compare_distributions(*bodies, fdr, cap),
         "artefacts": artefacts_diff(read_artefacts(old_dir), read_artefacts(new_dir)),
         "fdr": fdr, "sample_cap": cap, "seconds": 0.0,
     }
