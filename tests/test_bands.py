@@ -18,6 +18,7 @@ from bodycensus.science.rules.bands import (
     band_columns,
     band_density,
     curve_density,
+    slip_factor,
     unit_slip_hint,
 )
 from bodycensus.science.units import M_EARTH, M_JUPITER, M_SUN
@@ -101,16 +102,22 @@ def _hints(densities: list[float], family: str = "rock", mass: float = EARTH_MAS
 def test_radius_in_km_read_as_metres_is_named() -> None:
     """Earth's radius given as 6371 where metres were expected: density 1e9 x too high."""
     slipped = bodies.bulk_density(EARTH_MASS, EARTH_RADIUS / 1e3)
-    assert _hints([slipped]) == ["radius looks 0.001x too large (km given where metres were "
-                                 "expected?)"]
+    assert _hints([slipped]) == ["radius looks 1000x too small (values in km read as metres?)"]
 
 
-def test_jupiter_masses_given_as_earth_masses_is_named() -> None:
-    """A rocky world's mass column in Jupiter masses, read as Earth masses (x 317.8)."""
+def test_earth_masses_read_as_jupiter_masses_is_named() -> None:
+    """A rocky world's mass column in Earth masses, read as Jupiter masses: its mass comes out
+    M_jup / M_earth = 317.8x too large (IAU 2015 B3 nominal GM ratio)."""
     slipped = bodies.bulk_density(EARTH_MASS * M_JUPITER / M_EARTH, EARTH_RADIUS)
     [hint] = _hints([slipped])
-    assert hint is not None and hint.startswith("mass looks 317.8x too large")
-    assert "Jupiter masses given as Earth masses" in hint
+    assert hint == "mass looks 317.8x too large (values in Earth masses read as Jupiter masses?)"
+
+
+def test_a_value_too_small_is_said_too_small_not_a_fraction_too_large() -> None:
+    """Jupiter masses read as Earth masses: 318x too small, never '0.003146x too large'."""
+    slipped = bodies.bulk_density(EARTH_MASS * M_EARTH / M_JUPITER, EARTH_RADIUS)
+    [hint] = _hints([slipped])
+    assert hint == "mass looks 317.8x too small (values in Jupiter masses read as Earth masses?)"
 
 
 def test_no_hint_inside_the_band_or_when_no_factor_explains_the_miss() -> None:
@@ -122,9 +129,10 @@ def test_no_hint_inside_the_band_or_when_no_factor_explains_the_miss() -> None:
 
 
 def test_every_slip_factor_is_a_ratio_of_known_units() -> None:
-    for field, factor, cause in UNIT_SLIPS:
-        assert field in ("mass", "radius") and math.isfinite(factor) and factor > 0, cause
-    factors = {(f, round(math.log10(x), 6)) for f, x, _ in UNIT_SLIPS}
+    for field, given, read_as in UNIT_SLIPS:
+        factor = slip_factor(given, read_as)
+        assert field in ("mass", "radius") and math.isfinite(factor) and factor > 0, given
+    factors = {(f, round(math.log10(slip_factor(g, r)), 6)) for f, g, r in UNIT_SLIPS}
     assert len(factors) == len(UNIT_SLIPS)  # no slip listed twice
     # each slip comes with its inverse
     assert all((f, -k) in factors for f, k in factors)

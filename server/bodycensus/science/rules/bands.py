@@ -17,7 +17,7 @@ from polars.expr.whenthen import ChainedThen, Then
 from bodycensus.science.families import FAMILY_PARAMETERS, DensityBand
 from bodycensus.science.physics import bodies
 from bodycensus.science.physics._ops import Num
-from bodycensus.science.units import M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
+from bodycensus.science.units import UNITS
 
 _MASS = pl.col("_mass")
 
@@ -88,22 +88,36 @@ def band_high() -> pl.Expr:
     return pl.col("_band_high")
 
 
-# Known unit slips: (field, factor by which it came out too large, the likely cause). A mass too
-# large by f scales density by f; a radius too large by f scales it by f^-3.
-UNIT_SLIPS: tuple[tuple[str, float, str], ...] = (
-    ("radius", 1e3, "metres given where km were expected"),
-    ("radius", 1e-3, "km given where metres were expected"),
-    ("mass", 1e3, "kg given where g were expected"),
-    ("mass", 1e-3, "g given where kg were expected"),
-    ("mass", M_JUPITER / M_EARTH, "Jupiter masses given as Earth masses"),
-    ("mass", M_EARTH / M_JUPITER, "Earth masses given as Jupiter masses"),
-    ("mass", M_SUN / M_JUPITER, "solar masses given as Jupiter masses"),
-    ("mass", M_JUPITER / M_SUN, "Jupiter masses given as solar masses"),
-    ("radius", R_JUPITER / R_EARTH, "Jupiter radii given as Earth radii"),
-    ("radius", R_EARTH / R_JUPITER, "Earth radii given as Jupiter radii"),
-    ("radius", R_SUN / R_JUPITER, "solar radii given as Jupiter radii"),
-    ("radius", R_JUPITER / R_SUN, "Jupiter radii given as solar radii"),
+# Known unit slips: (field, the unit the values were in, the unit they were read as). Values in
+# Earth masses read as Jupiter masses come out M_jup / M_earth = 318x too large; a mass too large
+# by f scales density by f, a radius too large by f scales it by f^-3.
+UNIT_SLIPS: tuple[tuple[str, str, str], ...] = (
+    ("radius", "m", "km"), ("radius", "km", "m"), ("mass", "g", "kg"), ("mass", "kg", "g"),
+    ("mass", "earth_mass", "jupiter_mass"), ("mass", "jupiter_mass", "earth_mass"),
+    ("mass", "jupiter_mass", "solar_mass"), ("mass", "solar_mass", "jupiter_mass"),
+    ("radius", "earth_radius", "jupiter_radius"), ("radius", "jupiter_radius", "earth_radius"),
+    ("radius", "jupiter_radius", "solar_radius"), ("radius", "solar_radius", "jupiter_radius"),
 )
+_UNIT_WORDS = {"m": "metres", "km": "km", "g": "grams", "kg": "kg", "earth_mass": "Earth masses",
+               "jupiter_mass": "Jupiter masses", "solar_mass": "solar masses",
+               "earth_radius": "Earth radii", "jupiter_radius": "Jupiter radii",
+               "solar_radius": "solar radii"}
+
+
+def slip_factor(given: str, read_as: str) -> float:
+    """How many times too large a value in ``given`` comes out when read as ``read_as``."""
+    return UNITS[read_as].to_si / UNITS[given].to_si
+
+
+def slip_text(field: str, given: str, read_as: str) -> str:
+    """The hint for one slip, said the way round it happened: '318x too small' rather than
+    '0.003146x too large'."""
+    factor = slip_factor(given, read_as)
+    size = f"{factor:.4g}x too large" if factor >= 1 else f"{1 / factor:.4g}x too small"
+    return (f"{field} looks {size} (values in {_UNIT_WORDS[given]} read as "
+            f"{_UNIT_WORDS[read_as]}?)")
+
+
 SLIP_TOLERANCE = 10.0  # a slip is suspected only when the density misses its band by > 10x
 
 
@@ -113,10 +127,11 @@ def unit_slip_hint(density: pl.Expr) -> pl.Expr:
     low, high = band_low(), band_high()
     far_out = (density < low / SLIP_TOLERANCE) | (density > high * SLIP_TOLERANCE)
     hint: Then | ChainedThen | None = None
-    for field, factor, cause in UNIT_SLIPS:
+    for field, given, read_as in UNIT_SLIPS:
+        factor = slip_factor(given, read_as)
         fixed = density / (factor if field == "mass" else factor**-3)
         inside = far_out & (fixed >= low) & (fixed <= high)
-        text = pl.lit(f"{field} looks {factor:.4g}x too large ({cause}?)")
+        text = pl.lit(slip_text(field, given, read_as))
         hint = pl.when(inside).then(text) if hint is None else hint.when(inside).then(text)
     assert hint is not None
     return hint.otherwise(None)

@@ -7,17 +7,21 @@ one findings frame; ``coverage`` says for each rule how many bodies it could and
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 import polars as pl
 
+from bodycensus.science.display_units import scaled_expr, unit_expr
 from bodycensus.science.families import RING_FAMILIES
+from bodycensus.science.rules.needs import in_words
+from bodycensus.science.severity import SEVERITY_RANK
 
 FINDING_SCHEMA: dict[str, pl.DataType] = {
     "body": pl.String(), "rule": pl.String(), "severity": pl.String(), "value": pl.Float64(),
     "limit": pl.Float64(), "unit": pl.String(), "margin": pl.Float64(), "message": pl.String(),
     "source": pl.String(), "label": pl.String(), "family": pl.String(), "_row": pl.Int64(),
+    "name": pl.String(), "system": pl.String(), "parent": pl.String(),
 }
 
 
@@ -32,13 +36,20 @@ class Rule:
     needs: tuple[str, ...]
     value: pl.Expr
     limit: pl.Expr
-    unit: str
+    unit: str | pl.Expr  # the unit of value and limit (an expression when it varies by row)
     message: pl.Expr
     direction: str = "above"  # above | below | none (fires says it all)
     families: frozenset[str] | None = None  # None: every family
     fires: pl.Expr | None = None
     severity_expr: pl.Expr | None = None
     scope: str = "body"  # error | body | orbit | statistics | ring
+    also: tuple[str, ...] = ()  # the other severities severity_expr may give
+    quantity: str | None = None  # value and limit are this quantity in SI (display_units)
+
+    @property
+    def severities(self) -> tuple[str, ...]:
+        """Every severity a finding of this rule may have, most serious first."""
+        return tuple(sorted({self.severity, *self.also}, key=SEVERITY_RANK.__getitem__))
 
     def applies(self) -> pl.Expr:
         """Bodies this rule is meant for, whether or not their fields are present: error rules
@@ -86,13 +97,16 @@ def _findings_of(rule: Rule, context: pl.LazyFrame) -> pl.LazyFrame:
         severity.alias("severity"),
         rule.value.cast(pl.Float64).alias("value"),
         rule.limit.cast(pl.Float64).alias("limit"),
-        pl.lit(rule.unit).alias("unit"),
+        (rule.unit if isinstance(rule.unit, pl.Expr) else pl.lit(rule.unit)).alias("unit"),
         rule.margin().cast(pl.Float64).alias("margin"),
         rule.message.alias("message"),
         pl.lit(rule.source).alias("source"),
         pl.col("label"),
         pl.col("family"),
         pl.col("_row"),
+        pl.col("name"),
+        pl.col("system"),
+        pl.col("parent"),
     )
 
 
@@ -116,7 +130,8 @@ def coverage(context: pl.LazyFrame, rules: Sequence[Rule]) -> pl.DataFrame:
     rows = []
     for i, rule in enumerate(rules):
         applicable, judged = counts[f"a{i}"], counts[f"j{i}"]
-        lacking = [c for k, c in enumerate(rule.needs) if counts[f"m{i}_{k}"]]
+        lacking = {c: counts[f"m{i}_{k}"] for k, c in enumerate(rule.needs)
+                   if counts[f"m{i}_{k}"]}
         why = _why_skipped(applicable, judged, lacking)
         rows.append({"rule": rule.id, "title": rule.title, "severity": rule.severity,
                      "evaluated": judged, "skipped": applicable - judged, "why": why})
@@ -125,12 +140,28 @@ def coverage(context: pl.LazyFrame, rules: Sequence[Rule]) -> pl.DataFrame:
                                       "skipped": pl.Int64, "why": pl.String})
 
 
-def _why_skipped(applicable: int, judged: int, lacking: Iterable[str]) -> str:
+def _why_skipped(applicable: int, judged: int, lacking: Mapping[str, int]) -> str:
+    """Why bodies were skipped, in the catalogue's terms: what they lack, how many, most first."""
     if applicable == 0:
         return "no body of the families it applies to"
     if judged == applicable:
         return ""
-    return "no " + ", ".join(c.removeprefix("_") for c in lacking)
+    words: dict[str, int] = {}
+    for column, n in lacking.items():
+        words[in_words(column)] = max(words.get(in_words(column), 0), n)
+    ordered = sorted(words.items(), key=lambda item: (-item[1], item[0]))
+    return "; ".join(f"{n:,} without {what}" for what, n in ordered)
+
+
+def say(value: pl.Expr, quantity: str, reference: pl.Expr | None = None,
+        family: pl.Expr | None = None) -> pl.Expr:
+    """A quantity (SI) as message text in the unit a curator reads it in, e.g. '0.05 au' or
+    '5.5 g/cm3' (``display_units``): the unit of the body's family, or of the size of
+    ``reference`` (the rule's limit, so value, limit and message share one unit)."""
+    unit = unit_expr(quantity, pl.col("family") if family is None else family,
+                     value if reference is None else reference)
+    scaled, shown = scaled_expr(value, unit)
+    return pl.concat_str([fmt(scaled), pl.lit(" "), shown])
 
 
 def fmt(expr: pl.Expr) -> pl.Expr:

@@ -9,7 +9,7 @@ import polars as pl
 from bodycensus.science.families import BODY_FAMILIES, PLANETARY_FAMILIES
 from bodycensus.science.physics import bodies
 from bodycensus.science.rules.bands import band_high, band_low
-from bodycensus.science.rules.base import Rule, fmt
+from bodycensus.science.rules.base import Rule, fmt, say
 from bodycensus.science.units import M_JUPITER, M_SUN
 
 DENSER_THAN_IRON_TOLERANCE = 1.05  # the Seager et al. 2007 fits are good to a few per cent
@@ -24,14 +24,15 @@ def _denser_than_iron() -> Rule:
     return Rule(
         id="denser-than-iron", title="Denser than pure iron at its mass", severity="impossible",
         source=_SEAGER, needs=("density",), value=_DENSITY, limit=limit, unit="kg/m3",
-        families=PLANETARY_FAMILIES,
-        message=pl.format("density {} kg/m3 exceeds a pure-iron body of this mass ({} kg/m3)",
-                          fmt(_DENSITY), fmt(limit)),
+        quantity="density", families=PLANETARY_FAMILIES,
+        message=pl.format("density {} exceeds a pure-iron body of this mass ({})",
+                          say(_DENSITY, "density", limit), say(limit, "density", limit)),
     )
 
 
 def _family_density() -> Rule:
     low, high = band_low(), band_high()
+    nearer = pl.when(_DENSITY < low).then(low).otherwise(high)
     outside = (_DENSITY < low) | (_DENSITY > high)
     not_iron = _DENSITY <= DENSER_THAN_IRON_TOLERANCE * bodies.composition_density(_MASS, "iron")
     return Rule(
@@ -39,14 +40,14 @@ def _family_density() -> Rule:
         severity="suspect",
         source="bands from composition curves: Seager et al. 2007; cold H/He (Zapolsky & "
                "Salpeter 1969); Nauenberg 1972; main sequence R~M^0.8 (common practice)",
-        needs=("density", "_band_low"), value=_DENSITY,
-        limit=pl.when(_DENSITY < low).then(low).otherwise(high), unit="kg/m3",
-        direction="none",
+        needs=("density", "_band_low"), value=_DENSITY, limit=nearer, unit="kg/m3",
+        quantity="density", direction="none",
         fires=outside & (~pl.col("family").is_in(sorted(PLANETARY_FAMILIES)) | not_iron)
         & pl.col("_slip_hint").is_null(),
         families=BODY_FAMILIES,
-        message=pl.format("density {} kg/m3 is outside the {} band {}-{} kg/m3 at this mass",
-                          fmt(_DENSITY), pl.col("family"), fmt(low), fmt(high)),
+        message=pl.format("density {} is outside the {} band {} to {} at this mass",
+                          say(_DENSITY, "density", nearer), pl.col("family"),
+                          say(low, "density", nearer), say(high, "density", nearer)),
     )
 
 
@@ -62,27 +63,34 @@ def _oversized_cold_body() -> Rule:
     )
 
 
-def _mass_limit(rule_id: str, title: str, family: str, limit: float, source: str,
+def _mass_limit(rule_id: str, title: str, family: str, limit: float | pl.Expr, source: str,
                 severity: str, direction: str = "above") -> Rule:
+    """A limit on a body's mass in solar masses; ``limit`` (kg) may vary with the body."""
     in_sun = _MASS / M_SUN
     word = "above" if direction == "above" else "below"
+    limit_sun = (limit if isinstance(limit, pl.Expr) else pl.lit(limit)) / M_SUN
     return Rule(
         id=rule_id, title=title, severity=severity, source=source, needs=("_mass",),
-        value=in_sun, limit=pl.lit(limit / M_SUN), unit="M_sun", direction=direction,
+        value=in_sun, limit=limit_sun, unit="M_sun", direction=direction,
         families=frozenset({family}),
         message=pl.format("mass {} M_sun is {} the limit {} M_sun", fmt(in_sun), pl.lit(word),
-                          pl.lit(f"{limit / M_SUN:.4g}")),
+                          fmt(limit_sun)),
     )
 
 
 def _over_neutron_star_max() -> Rule:
-    rule = _mass_limit("over-neutron-star-max", "Heavier than any neutron star can be",
-                       "neutron_star", bodies.NEUTRON_STAR_SUSPECT_MASS,
-                       "Romani et al. 2022 (heaviest known 2.35 M_sun); Rhoades & Ruffini 1974 "
-                       "(causal bound ~3 M_sun, from memory)", "suspect")
+    """Suspect above the heaviest neutron star measured, impossible above the causal bound; each
+    finding quotes, and measures its margin from, the limit of its own severity."""
     impossible = _MASS > bodies.NEUTRON_STAR_MAX_MASS
+    limit = pl.when(impossible).then(pl.lit(bodies.NEUTRON_STAR_MAX_MASS)).otherwise(
+        pl.lit(bodies.NEUTRON_STAR_SUSPECT_MASS))
+    # The ~3 M_sun causal bound is quoted from memory (REFERENCES.md); users see the citation.
+    rule = _mass_limit("over-neutron-star-max", "Heavier than any neutron star can be",
+                       "neutron_star", limit,
+                       "Romani et al. 2022 (heaviest known 2.35 M_sun); Rhoades & Ruffini 1974 "
+                       "(causal bound ~3 M_sun)", "suspect")
     severity = pl.when(impossible).then(pl.lit("impossible")).otherwise(pl.lit("suspect"))
-    return replace(rule, severity_expr=severity)
+    return replace(rule, severity_expr=severity, also=("impossible",))
 
 
 def _brown_dwarf_range() -> Rule:

@@ -6,7 +6,8 @@ import polars as pl
 
 from bodycensus.science.families import RING_FAMILIES
 from bodycensus.science.rules.bands import band_high, band_low
-from bodycensus.science.rules.base import Rule, fmt
+from bodycensus.science.rules.base import Rule, fmt, say
+from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT
 
 _NONE = pl.lit(None, dtype=pl.Float64)
 _POSITIVE_FIELDS = ("mass", "radius", "semi_major_axis", "period", "rotation_period",
@@ -37,10 +38,10 @@ def _missing_value() -> Rule:
 
 
 def _bad_cell() -> Rule:
-    return Rule(
+    return Rule(  # every row is judged: a row without an unreadable cell passes
         id="bad-cell", title="A cell could not be read as a number", severity="error",
-        source=_DATA, needs=("_bad",), value=_NONE, limit=_NONE, unit="", direction="none",
-        fires=pl.lit(True),
+        source=_DATA, needs=(), value=_NONE, limit=_NONE, unit="", direction="none",
+        fires=pl.col("_bad").is_not_null(),
         message=pl.format("unreadable or non-finite value in: {}", pl.col("_bad")), scope="error",
     )
 
@@ -48,9 +49,12 @@ def _bad_cell() -> Rule:
 def _non_positive() -> Rule:
     offending = [pl.when(pl.col(f) <= 0).then(pl.lit(f)) for f in _POSITIVE_FIELDS]
     first_bad = pl.coalesce([pl.when(pl.col(f) <= 0).then(pl.col(f)) for f in _POSITIVE_FIELDS])
+    its_unit = pl.coalesce([pl.when(pl.col(f) <= 0).then(pl.lit(SI_UNIT[FIELD_DIMENSIONS[f]]))
+                            for f in _POSITIVE_FIELDS])
     return Rule(
         id="non-positive", title="A size, distance or time is zero or negative",
-        severity="error", source=_DATA, needs=(), value=first_bad, limit=pl.lit(0.0), unit="SI",
+        severity="error", source=_DATA, needs=(), value=first_bad, limit=pl.lit(0.0),
+        unit=its_unit,
         direction="none", fires=pl.any_horizontal([pl.col(f) <= 0 for f in _POSITIVE_FIELDS]),
         message=pl.format("must be positive: {}",
                           pl.concat_str(offending, separator=", ", ignore_nulls=True)),
@@ -89,13 +93,15 @@ def _parent_cycle() -> Rule:
 
 def _unit_slip() -> Rule:
     density, hint = pl.col("density"), pl.col("_slip_hint")
+    nearer = pl.when(density < band_low()).then(band_low()).otherwise(band_high())
     return Rule(
         id="unit-slip", title="A value looks off by a unit factor", severity="error",
         source="unit factors: IAU 2015 B3 nominal masses and radii; factor 1000 (k-prefix)",
-        needs=("density", "_band_low"), value=density, limit=band_low(), unit="kg/m3",
-        direction="none", fires=hint.is_not_null(),
-        message=pl.format("density {} kg/m3 is far outside its family's band {}-{}; {}",
-                          fmt(density), fmt(band_low()), fmt(band_high()), hint),
+        needs=("density", "_band_low"), value=density, limit=nearer, unit="kg/m3",
+        quantity="density", direction="none", fires=hint.is_not_null(),
+        message=pl.format("density {} is far outside its family's band {} to {}; {}",
+                          say(density, "density", nearer), say(band_low(), "density", nearer),
+                          say(band_high(), "density", nearer), hint),
         scope="error",
     )
 

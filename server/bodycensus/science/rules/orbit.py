@@ -11,7 +11,7 @@ import polars as pl
 
 from bodycensus.science.families import FLUID_FAMILIES, SOLID_FAMILIES, STELLAR_FAMILIES
 from bodycensus.science.physics import orbits
-from bodycensus.science.rules.base import Rule, fmt
+from bodycensus.science.rules.base import Rule, fmt, say
 
 
 @dataclass(frozen=True)
@@ -45,8 +45,9 @@ _SELF_LUMINOUS = STELLAR_FAMILIES | {"brown_dwarf"}  # pairs whose mass transfer
 _ROCHE_SOURCE = "Roche 1849 (fluid, 2.44); Shu 1982 The Physical Universe (rigid, 1.26)"
 
 
-def _km(expr: pl.Expr) -> pl.Expr:
-    return fmt(expr / 1e3)
+def _far(expr: pl.Expr, reference: pl.Expr) -> pl.Expr:
+    """A distance in km or au, by the size of ``reference`` (the rule's limit)."""
+    return say(expr, "distance", reference)
 
 
 def _periapsis_inside_parent() -> Rule:
@@ -55,9 +56,9 @@ def _periapsis_inside_parent() -> Rule:
         id="periapsis-inside-parent", title="The orbit passes through the parent",
         severity="impossible", source="geometry: periapsis a(1-e) below the sum of radii",
         needs=("periapsis", "parent_radius"), value=_PERI, limit=limit, unit="m",
-        direction="below", scope="orbit",
-        message=pl.format("periapsis {} km is inside the parent (radius {} km plus its own)",
-                          _km(_PERI), _km(pl.col("parent_radius"))),
+        quantity="distance", direction="below", scope="orbit",
+        message=pl.format("periapsis {} is inside the parent (radius {} plus its own)",
+                          _far(_PERI, limit), _far(pl.col("parent_radius"), limit)),
     )
 
 
@@ -67,10 +68,12 @@ def _inside_rigid_roche(settings: OrbitSettings) -> Rule:
         id="inside-rigid-roche", title="Inside the rigid-body Roche limit", severity="impossible",
         source=_ROCHE_SOURCE + "; gravity-bound above ~200 km (Lineweaver & Norman 2010)",
         needs=("periapsis", "roche_rigid", "_radius"), value=_PERI, limit=pl.col("roche_rigid"),
-        unit="m", direction="below", scope="orbit", families=_NOT_STELLAR,
+        unit="m", quantity="distance", direction="below", scope="orbit", families=_NOT_STELLAR,
         severity_expr=pl.when(big).then(pl.lit("impossible")).otherwise(pl.lit("unstable")),
-        message=pl.format("periapsis {} km is inside the rigid Roche limit {} km",
-                          _km(_PERI), _km(pl.col("roche_rigid"))),
+        also=("unstable",),
+        message=pl.format("periapsis {} is inside the rigid Roche limit {}",
+                          _far(_PERI, pl.col("roche_rigid")),
+                          _far(pl.col("roche_rigid"), pl.col("roche_rigid"))),
     )
 
 
@@ -79,12 +82,14 @@ def _inside_fluid_roche() -> Rule:
     return Rule(
         id="inside-fluid-roche", title="Inside the fluid-body Roche limit", severity="note",
         source=_ROCHE_SOURCE, needs=("periapsis", "roche_fluid", "roche_rigid"), value=_PERI,
-        limit=pl.col("roche_fluid"), unit="m", direction="below", scope="orbit",
-        fires=(_PERI < pl.col("roche_fluid")) & (_PERI >= pl.col("roche_rigid")),
+        limit=pl.col("roche_fluid"), unit="m", quantity="distance", direction="below",
+        scope="orbit", fires=(_PERI < pl.col("roche_fluid")) & (_PERI >= pl.col("roche_rigid")),
         families=_NOT_STELLAR,
         severity_expr=pl.when(fluid).then(pl.lit("unstable")).otherwise(pl.lit("note")),
-        message=pl.format("periapsis {} km is inside the fluid Roche limit {} km",
-                          _km(_PERI), _km(pl.col("roche_fluid"))),
+        also=("unstable",),
+        message=pl.format("periapsis {} is inside the fluid Roche limit {}",
+                          _far(_PERI, pl.col("roche_fluid")),
+                          _far(pl.col("roche_fluid"), pl.col("roche_fluid"))),
     )
 
 
@@ -140,8 +145,8 @@ def _kepler_mismatch(settings: OrbitSettings) -> Rule:
         needs=("period_ratio",), value=ratio,
         limit=pl.when(ratio < 1).then(1 - tol).otherwise(1 + tol), unit="x Kepler period",
         direction="none", fires=(ratio - 1).abs() > tol, scope="orbit",
-        message=pl.format("period is {}x the Kepler period {} d", fmt(ratio),
-                          fmt(pl.col("kepler_period") / 86400)),
+        message=pl.format("period is {}x the Kepler period {}", fmt(ratio),
+                          say(pl.col("kepler_period"), "period")),
     )
 
 
@@ -150,9 +155,10 @@ def _sibling_rules() -> tuple[Rule, Rule]:
         id="crossing-orbits", title="Orbit crosses the next sibling inward", severity="unstable",
         source="orbit geometry: inner apoapsis a(1+e) beyond outer periapsis a(1-e)",
         needs=("inner_apoapsis", "periapsis"), value=pl.col("inner_apoapsis"), limit=_PERI,
-        unit="m", scope="orbit",
-        message=pl.format("inner sibling '{}' reaches {} km, beyond this periapsis {} km",
-                          pl.col("inner_id"), _km(pl.col("inner_apoapsis")), _km(_PERI)),
+        unit="m", quantity="distance", scope="orbit",
+        message=pl.format("inner sibling '{}' reaches {}, beyond this periapsis {}",
+                          pl.col("inner_id"), _far(pl.col("inner_apoapsis"), _PERI),
+                          _far(_PERI, _PERI)),
     )
     mutual = orbits.mutual_hill_radius(pl.col("inner_a"), pl.col("inner_mass"), pl.col("_mass"),
                                        pl.col("parent_mass"))
@@ -188,10 +194,11 @@ def _binary_barycentre(settings: OrbitSettings) -> Rule:
         id="binary-barycentre", title="A binary: the barycentre lies outside the parent",
         severity="note", source="two-body barycentre a m/(M+m) (Newtonian mechanics)",
         needs=("barycentre_offset", "parent_radius"), value=offset,
-        limit=pl.col("parent_radius"), unit="m", scope="orbit",
+        limit=pl.col("parent_radius"), unit="m", quantity="distance", scope="orbit",
         fires=(offset > pl.col("parent_radius")) & binary,
-        message=pl.format("barycentre is {} km from the parent's centre, outside its radius {} km",
-                          _km(offset), _km(pl.col("parent_radius"))),
+        message=pl.format("barycentre is {} from the parent's centre, outside its radius {}",
+                          _far(offset, pl.col("parent_radius")),
+                          _far(pl.col("parent_radius"), pl.col("parent_radius"))),
     )
 
 
@@ -205,8 +212,8 @@ def _tidal_lock_age(settings: OrbitSettings) -> Rule:
         needs=("tidal_lock_time", "age"), value=ratio, limit=pl.lit(settings.lock_time_factor),
         unit="x age", scope="orbit", families=SOLID_FAMILIES | (FLUID_FAMILIES - STELLAR_FAMILIES),
         fires=locked & (ratio > settings.lock_time_factor),
-        message=pl.format("locked, but despinning takes {} yr, {}x its age", fmt(
-            pl.col("tidal_lock_time")), fmt(ratio)),
+        message=pl.format("locked, but despinning takes {}, {}x its age",
+                          say(pl.col("tidal_lock_time"), "age"), fmt(ratio)),
     )
 
 
