@@ -66,7 +66,7 @@ def test_upload_answers_202_then_becomes_ready(tmp_path: Path, source: bytes) ->
         "unit"] == "earth_mass"
     assert sorted(p.name for p in (tmp_path / "catalogues" / accepted["id"]).iterdir()) == [
         "aggregates.json", "artefacts.parquet", "bodies.parquet", "coverage.parquet",
-        "findings.parquet", "manifest.json"]
+        "findings.parquet", "manifest.json", "names.parquet", "source.csv"]
     assert list((tmp_path / "incoming").iterdir()) == []
 
 
@@ -128,7 +128,8 @@ def test_parquet_export_reads_back(served: tuple[SyncClient, str, Path],
     exported = pl.read_parquet(io.BytesIO(response.content))
     expected = findings.filter(pl.col("severity") == "error")
     assert exported.height == expected.height > 0
-    assert exported.columns == [*findings.columns, *DECISION_COLUMNS]  # the triage decision
+    assert exported.columns[:4] == ["body", "name", "system", "parent"]  # names beside ids
+    assert sorted(exported.columns) == sorted([*findings.columns, *DECISION_COLUMNS])
 
 
 def test_body_detail(served: tuple[SyncClient, str, Path]) -> None:

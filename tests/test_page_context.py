@@ -9,6 +9,7 @@ from urllib.parse import parse_qs, urlsplit
 from bodycensus.dashboard.screens import page_context
 from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.diagrams import registry
+from bodycensus.science.display_units import DisplayChoice
 
 
 def _url(cat_id: str, *parts: str, state: ViewState | None = None) -> str:
@@ -50,9 +51,11 @@ def test_artefact_rows_say_where_and_link_their_distribution() -> None:
     rows = page_context.artefact_rows("c", [
         {"scope": "label", "label": "Rocky world", "field": "mass", "kind": "gap", "at": None,
          "low": 1.5e24, "high": 2.25e24},
-        {"scope": "family", "label": "rock", "field": "radius", "kind": "cutoff", "at": 1000.0,
-         "low": None, "high": None}], _url)  # type: ignore[typeddict-item]
-    assert rows[0]["where"] == "1.5e+24 – 2.25e+24" and rows[1]["where"] == "at 1000"
+        {"scope": "family", "label": "minor", "field": "radius", "kind": "cutoff", "at": 1000.0,
+         "low": None, "high": None}], _url, {"Rocky world": "rock"})  # type: ignore[typeddict-item]
+    # in the family's units (M_earth = 5.9722e24 kg, IAU 2015 B3 GM / CODATA G), SI on hover
+    assert rows[0]["where"] == "0.2512 – 0.3767 M_earth" and rows[1]["where"] == "at 1 km"
+    assert rows[0]["si"] == "1.5e+24 kg – 2.25e+24 kg"
     first = parse_qs(urlsplit(rows[0]["href"]).query)
     assert first == {"diagram": ["distributions"], "field": ["mass"], "label": ["Rocky world"]}
     assert "label" not in parse_qs(urlsplit(rows[1]["href"]).query)  # a family is not a label
@@ -88,14 +91,28 @@ def _body(**extra: Any) -> Any:
 
 
 def test_body_extras_name_worst_units_and_relatives() -> None:
-    extras = page_context.body_extras(_body(), {"unknown_columns": ["colour"]})
+    body = _body(fields=[{"field": "name", "value": "Moon"},
+                         {"field": "label", "value": "rocky moon"},
+                         {"field": "parent", "value": "p"}])
+    extras = page_context.body_extras(body, {"unknown_columns": ["colour"]})
     assert (extras["name"], extras["label"], extras["worst"]) == ("Moon", "rocky moon",
                                                                  "unstable")
-    assert {d["name"]: d["unit"] for d in extras["derived"]} == {"density": "kg/m3",
-                                                                 "roche_y": "1"}
+    # density in g/cm3 (3344 kg/m3 = 3.344 g/cm3, the Moon's, JPL SSD); a ratio has no unit
+    assert {d["name"]: (d["text"], d["unit"]) for d in extras["derived"]} == {
+        "density": ("3.344", "g/cm3"), "roche_y": ("1.2", "")}
     assert [(r["id"], r["relation"]) for r in extras["relatives"]] == [("p", "parent"),
                                                                        ("s", "sibling")]
     assert not extras["relatives_capped"]
+
+
+def test_a_primary_hides_its_orbit_rows_and_says_why_once() -> None:
+    derived = {"density": 1408.0, "periapsis": None, "roche_rigid": None, "hill_ratio": None,
+               "escape_speed": None}
+    rows, notes = page_context.derived_rows(derived, "star", has_parent=False,
+                                            choice=DisplayChoice())
+    assert [r["name"] for r in rows] == ["density"]
+    assert len(notes) == 2 and "no parent" in notes[0] and "periapsis" not in notes[1]
+    assert notes[1].endswith("escape_speed.")  # the one non-orbit quantity it lacks
 
 
 def test_file_columns_from_either_shape_of_the_mapping() -> None:

@@ -194,7 +194,7 @@ def test_mapping_step_shows_columns_samples_and_families(tmp_path: Path) -> None
     with asgi_client(create_app(Settings(data_dir=tmp_path))) as client:
         answer = client.post("/api/catalogues", files={"file": ("x.csv", csv.encode())}).json()
         assert answer["status"] == "mapping"
-        page = client.get(answer["url"]).text
+        page = client.get(answer["url"], follow_redirects=True).text
     assert 'id="mapping-form"' in page and 'data-column="kind"' in page
     assert "<span>1e24</span>" in page
     assert re.search(r'data-label="Frozen moon".*?<option value="ice" selected>', page, re.DOTALL)

@@ -50,7 +50,8 @@ def test_samples_come_from_the_first_rows_only(tmp_path: Path) -> None:
 
 def test_no_id_column_is_the_first_reason(tmp_path: Path) -> None:
     look = sniff(_write(tmp_path, "k.tsv", "key\tmass_kg\nb1\t1\n"), "k.tsv", 100)
-    assert look is not None and look.reasons == ["no column was recognised as the body id"]
+    assert look is not None and look.reasons == ["no column was recognised as the body id; "
+                                                 "choose it, or number the rows"]
 
 
 def test_ndjson_and_parquet_are_looked_into(tmp_path: Path) -> None:
@@ -59,9 +60,10 @@ def test_ndjson_and_parquet_are_looked_into(tmp_path: Path) -> None:
     assert look is not None and look.columns == ["id", "mass_kg"]
     assert look.samples["mass_kg"] == ["1"]
     table = tmp_path / "p.parquet"
-    pl.DataFrame({"id": ["b1"], "tags": [[1, 2]]}).write_parquet(table)
+    pl.DataFrame({"id": ["b1"], "tags": [[1, 2]], "mass": [1.0]}).write_parquet(table)
     look = sniff(table, "p.parquet", 100)
-    assert look is not None and look.samples == {"id": ["b1"], "tags": ["[1, 2]"]}
+    assert look is not None and look.samples == {"id": ["b1"], "tags": ["[1, 2]"],
+                                                 "mass": ["1.0"]}
 
 
 def test_a_compressed_parquet_file_is_left_to_the_ingest(tmp_path: Path) -> None:

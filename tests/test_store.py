@@ -41,7 +41,9 @@ def test_publish_moves_the_finished_folder_and_drops_the_upload(tmp_path: Path) 
     ready = _publish(store, _upload(store))
     folder = tmp_path / "catalogues" / ready.id
     assert ready.status == "ready" and ready.progress == {"stage": "done", "fraction": 1.0}
-    assert sorted(p.name for p in folder.iterdir()) == ["findings.parquet", MANIFEST]
+    # the uploaded file stays beside the results, for re-runs without a new upload
+    assert sorted(p.name for p in folder.iterdir()) == ["findings.parquet", MANIFEST,
+                                                        "source.csv"]
     assert list((tmp_path / "incoming").iterdir()) == []
     assert store.get(ready.id) == ready and store.ready_dir(ready.id) == folder
     assert [m.id for m in store.list()] == [ready.id]

@@ -6,6 +6,7 @@
      |    +-- InputError       422 bad_input (a file, column, unit or family that cannot be used;
      |                                        also a ValueError: IngestError, SchemaError, ...)
      +-- Conflict              409 conflict  (e.g. a catalogue that is not ready yet)
+     |    +-- NotReady         409 conflict  (a page of it opens its mapping step or progress)
      +-- TooLarge              413 too_large
      +-- StorageError          507 storage   (the data directory cannot be written)
 
@@ -63,6 +64,15 @@ class Conflict(BodycensusError):
     """
 
     status, code = 409, "conflict"
+
+
+class NotReady(Conflict):
+    """A catalogue that is being mapped, checked or has failed: the API answers 409, a page
+    sends the person to the catalogue's own page (its mapping step, progress or failure)."""
+
+    def __init__(self, detail: str, catalogue: str) -> None:
+        super().__init__(detail)
+        self.catalogue = catalogue
 
 
 class TooLarge(BodycensusError):

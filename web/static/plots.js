@@ -17,6 +17,7 @@ function draw(div) {
   const layout = { ...spec.layout, modebar: { ...TOOLBAR, ...spec.layout.modebar } };
   // No "share chart" button: it would send the data to a plotly server, and this tool is offline.
   const config = { responsive: true, displaylogo: false, showSendToCloud: false };
+  if (div.dataset.selection) config.modeBarButtonsToAdd = ["select2d", "lasso2d"];
   return Plotly.newPlot(div, spec.data, layout, config).then(() => {
     div.on("plotly_click", (event) => {
       const point = event.points && event.points[0];
@@ -24,8 +25,60 @@ function draw(div) {
         window.location.href = bodyUrl(point.customdata);
       }
     });
+    div.on("plotly_selected", (event) => selected(div, event));
     div.dataset.drawn = "true";
   });
+}
+
+// A box or lasso drawn on the diagram: links to the Findings and Bodies lists of the region,
+// which stays in their address (region=x0,x1[,y0,y1] or lasso=x y;x y;... in the diagram's
+// own coordinates, region_of=<diagram>, and the label or field it shows).
+function regionQuery(div, event) {
+  if (!div.dataset.selection || !event) return null;
+  const chosen = JSON.parse(div.dataset.selection);
+  const query = new URLSearchParams({ region_of: chosen.diagram });
+  if (chosen.label) query.set("label", chosen.label);
+  const panels = (div.layout.meta && div.layout.meta.panels) || {};
+  const round = (v) => Number(v.toPrecision(6));
+  const twoD = div.layout.meta && div.layout.meta.plane;
+  if (event.range) {
+    const xKey = Object.keys(event.range).find((k) => k.startsWith("x"));
+    const yKey = Object.keys(event.range).find((k) => k.startsWith("y"));
+    const numbers = [...event.range[xKey]];
+    if (twoD && yKey) numbers.push(...event.range[yKey]);
+    query.set("region", numbers.map(round).join(","));
+    if (panels[xKey]) query.set("field", panels[xKey]);
+  } else if (event.lassoPoints) {
+    const xKey = Object.keys(event.lassoPoints).find((k) => k.startsWith("x"));
+    const yKey = Object.keys(event.lassoPoints).find((k) => k.startsWith("y"));
+    const xs = event.lassoPoints[xKey];
+    const ys = twoD && yKey ? event.lassoPoints[yKey] : xs.map(() => 0);
+    const step = Math.max(1, Math.ceil(xs.length / 90)); // at most ~90 corners in a link
+    const points = xs.map((x, i) => `${round(x)} ${round(ys[i])}`).filter((_, i) => i % step === 0);
+    query.set("lasso", points.join(";"));
+    if (panels[xKey]) query.set("field", panels[xKey]);
+  } else {
+    return null;
+  }
+  if (chosen.field && !query.has("field")) query.set("field", chosen.field);
+  return query.toString();
+}
+
+function selected(div, event) {
+  const query = regionQuery(div, event);
+  const box = document.getElementById("selection-links");
+  if (!box || !query) return;
+  const chosen = JSON.parse(div.dataset.selection);
+  const findings = document.createElement("a");
+  findings.href = `${chosen.findings}?${query}`;
+  findings.id = "region-findings";
+  findings.textContent = "Open the findings inside this region";
+  const bodies = document.createElement("a");
+  bodies.href = `${chosen.bodies}?${query}`;
+  bodies.id = "region-bodies";
+  bodies.textContent = "the bodies inside it";
+  box.replaceChildren("Region drawn: ", findings, " · ", bodies);
+  box.hidden = false;
 }
 
 function scaleToggle() {

@@ -99,9 +99,19 @@ function ingestPanel() {
 
 function mappingForm() {
   const form = $("mapping-form");
+  const idColumn = $("id-column");
+  const missing = $("id-missing");
+  // The id is said missing at once, and again as soon as the choice is emptied.
+  idColumn.addEventListener("change", () => { missing.hidden = idColumn.value !== ""; });
   form.addEventListener("submit", async (event) => {
     event.preventDefault();
-    const choice = { map: {}, units: {}, families: {} };
+    if (!idColumn.value) {
+      missing.hidden = false;
+      idColumn.focus();
+      return;
+    }
+    const choice = { map: { id: idColumn.value }, units: {}, families: {},
+                     save_preset: $("save-preset").checked };
     for (const row of form.querySelectorAll("tr[data-column]")) {
       const field = row.querySelector("select[name=field]").value;
       const unit = row.querySelector("select[name=unit]").value;
@@ -116,7 +126,7 @@ function mappingForm() {
       headers: { "Content-Type": "application/json" },
       body: JSON.stringify(choice),
     });
-    if (response.ok) window.location.reload();
+    if (response.ok) window.location.href = `/catalogues/${encodeURIComponent(document.body.dataset.catalogue)}`;
     else showError($("mapping-error"), detailOf(response, await response.text()));
   });
 }

@@ -5,9 +5,18 @@ const form = document.getElementById("save-form");
 const linkBox = document.getElementById("saved-link");
 const catalogue = document.body.dataset.catalogue;
 
+// Screens whose address alone does not say which screen it is (a saved view of the Bodies list
+// with no filter would open the Findings list): their query carries screen=.
+const NAMED_SCREENS = ["bodies", "groups", "search"];
+
 function currentQuery() {
   const search = window.location.search.replace(/^\?/, "");
-  return search || document.body.dataset.defaultQuery || "";
+  const query = search || document.body.dataset.defaultQuery || "";
+  const screen = document.body.dataset.screen;
+  if (NAMED_SCREENS.includes(screen) && !new URLSearchParams(query).has("screen")) {
+    return query ? `${query}&screen=${screen}` : `screen=${screen}`;
+  }
+  return query;
 }
 
 async function save(event) {

@@ -21,12 +21,13 @@ from fastapi.staticfiles import StaticFiles
 from bodycensus import __version__
 from bodycensus.dashboard.error_pages import install_error_handlers
 from bodycensus.dashboard.intake.jobs import Jobs, add_catalogue
-from bodycensus.dashboard.routes import api, compare, pages, triage
+from bodycensus.dashboard.routes import api, compare, lists, manage, pages, triage
 from bodycensus.dashboard.security import auth
 from bodycensus.dashboard.security.guard import Guard
 from bodycensus.dashboard.settings import Settings
 from bodycensus.errors import BadInput
 from bodycensus.input.formats import catalogue_suffix
+from bodycensus.storage.presets import Presets
 from bodycensus.storage.store import Store
 
 DEMO_NAME = "Demo catalogue"
@@ -78,6 +79,7 @@ async def _lifespan(app: FastAPI) -> AsyncIterator[None]:
     executor = ThreadPoolExecutor(max_workers=settings.workers, thread_name_prefix="ingest")
     jobs = Jobs(store, settings, executor)
     app.state.store, app.state.jobs = store, jobs
+    app.state.presets = Presets(store.db_path)
     try:
         if settings.demo:
             ensure_demo(store, jobs)
@@ -102,9 +104,12 @@ def create_app(settings: Settings) -> FastAPI:
     app.include_router(api.router)
     app.include_router(triage.api)
     app.include_router(compare.api)
+    app.include_router(manage.api)
     app.include_router(pages.router)
     app.include_router(triage.router)
     app.include_router(compare.router)
+    app.include_router(lists.router)
+    app.include_router(manage.router)
 
     @app.get("/static/vendor/plotly.min.js", include_in_schema=False)
     def plotly() -> FileResponse:

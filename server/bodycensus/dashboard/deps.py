@@ -9,6 +9,7 @@ from fastapi import Depends, Request
 
 from bodycensus.dashboard.intake.jobs import Jobs
 from bodycensus.dashboard.settings import Settings
+from bodycensus.storage.presets import Presets
 from bodycensus.storage.store import Store
 
 
@@ -27,7 +28,13 @@ def get_jobs(request: Request) -> Jobs:
     return request.app.state.jobs
 
 
+def get_presets(request: Request) -> Presets:
+    """The mapping presets (SQLite, beside the saved views)."""
+    return request.app.state.presets
+
+
 SettingsDep = Annotated[Settings, Depends(get_settings)]
+PresetsDep = Annotated[Presets, Depends(get_presets)]
 StoreDep = Annotated[Store, Depends(get_store)]
 JobsDep = Annotated[Jobs, Depends(get_jobs)]
 

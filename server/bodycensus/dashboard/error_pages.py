@@ -9,13 +9,14 @@ and FastAPI's request-validation errors get the same shape; anything else is log
 from __future__ import annotations
 
 import logging
+from urllib.parse import quote
 
 from fastapi import FastAPI, Request
 from fastapi.exceptions import RequestValidationError
-from fastapi.responses import JSONResponse, PlainTextResponse, Response
+from fastapi.responses import JSONResponse, PlainTextResponse, RedirectResponse, Response
 from starlette.exceptions import HTTPException
 
-from bodycensus.errors import BodycensusError, one_line
+from bodycensus.errors import BodycensusError, NotReady, one_line
 
 log = logging.getLogger(__name__)
 _HTTP_CODES = {400: "bad_input", 401: "unauthorised", 403: "forbidden", 404: "not_found",
@@ -46,8 +47,11 @@ def _error_page(request: Request, status: int, code: str, detail: str) -> Respon
 
 
 async def _domain_handler(request: Request, exc: Exception) -> Response:
-    """The domain's errors, input errors included."""
+    """The domain's errors, input errors included; a page of a catalogue that is not ready
+    opens the catalogue's own page (its mapping step, progress or failure) instead."""
     err = exc if isinstance(exc, BodycensusError) else BodycensusError("unexpected error")
+    if isinstance(err, NotReady) and not request.url.path.startswith("/api"):
+        return RedirectResponse(f"/catalogues/{quote(err.catalogue, safe='')}", status_code=303)
     return error_response(request, err.status, err.code, err.detail)
 
 

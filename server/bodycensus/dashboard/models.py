@@ -66,6 +66,8 @@ class MappingIn(BaseModel):
                                   examples=[{"radius": "km"}])
     families: dict[str, str] = Field(default_factory=dict, description="label -> family",
                                      examples=[{"Frost world": "ice"}])
+    save_preset: bool = Field(False, description="keep these choices for the next upload with "
+                                                 "the same header")
 
 
 class Finding(BaseModel):
@@ -91,6 +93,9 @@ class Finding(BaseModel):
     decision_note: str | None = None
     decided_by: str | None = None
     decided_at: str | None = None
+    name: str | None = Field(None, description="the body's name")
+    system: str | None = Field(None, description="the body's system")
+    parent: str | None = Field(None, description="the id of the body it orbits")
 
 
 class FindingsPage(BaseModel):

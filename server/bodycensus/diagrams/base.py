@@ -135,10 +135,16 @@ class Diagram(Generic[A]):
     figure: Callable[[A | None, Choice], Figure]
     choices: Callable[[A | None, Choice], Choices] | None = None
     per_label: bool = False
+    selects: Callable[[Choice], tuple[Axis, ...]] | None = None
 
     def resolve(self, aggregate: A | None, choice: Choice) -> Choices:
         """The choice resolved against this diagram's aggregate (no choices by default)."""
         return self.choices(aggregate, choice) if self.choices else Choices()
+
+    def region_axes(self, choice: Choice) -> tuple[Axis, ...]:
+        """The axes a box or lasso drawn on the figure spans (x, then y on a plane): its
+        ``axes`` unless the figure shows one of several (a chosen field, one panel of two)."""
+        return self.selects(choice) if self.selects else self.axes
 
 
 def records(frame: pl.DataFrame | None) -> list[dict[str, Any]]:

@@ -41,6 +41,12 @@ def field_axis(field: str) -> Axis:
 
 
 AXES = tuple(field_axis(f) for f in dict.fromkeys([*FIELDS, *ARTEFACT_FIELDS]))
+
+
+def field_axes(choice: Choice) -> tuple[Axis, ...]:
+    """The axis of the chosen field (the first field offered when none is chosen)."""
+    return (field_axis(choice.field if choice.field in dict.fromkeys([*FIELDS, *ARTEFACT_FIELDS])
+                       else next(iter(FIELDS))),)
 RULES: tuple[str, ...] = ()  # artefacts, not findings, are drawn on top
 
 

@@ -36,6 +36,12 @@ KEPLER_RULES = ("kepler-mismatch",)
 RULES = HILL_RULES + KEPLER_RULES
 
 
+def panel_axes(choice: Choice) -> tuple[Axis, ...]:
+    """The axis of the panel a region was drawn on: ``field`` names its column (the Hill panel
+    unless it names the Kepler one)."""
+    return (KEPLER,) if choice.field == KEPLER.column else (HILL,)
+
+
 class ReferenceLine(TypedDict):
     """A vertical reference line at ``at`` (axis units)."""
 
@@ -134,4 +140,5 @@ def figure(diagram: OrbitsAggregate | None, choice: Choice) -> Figure:
     look["yaxis2"] = {"anchor": "x2", "gridcolor": "#e3e3e3", "title": {"text": "bodies"}}
     if hill_panel:
         look["xaxis"].update(log_ticks(hill_panel["edges"][0], hill_panel["edges"][-1]))
+    look["meta"] = {"panels": {"x": HILL.column, "x2": KEPLER.column}}
     return {"data": hill + kepler, "layout": look}

@@ -167,7 +167,9 @@ def proportional_lines(lines: Sequence[ProportionalLine], x0: float, x1: float) 
 
 
 def log_axes(look: dict[str, Any], diagram: Heatmap) -> dict[str, Any]:
-    """``look`` with log ticks on both axes of a heatmap."""
+    """``look`` with log ticks on both axes of a heatmap, marked as a plane (a region drawn on
+    it spans x and y)."""
     look["xaxis"].update(log_ticks(diagram["x_edges"][0], diagram["x_edges"][-1]))
     look["yaxis"].update(log_ticks(diagram["y_edges"][0], diagram["y_edges"][-1]))
+    look["meta"] = {"plane": True}
     return look

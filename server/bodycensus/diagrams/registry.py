@@ -51,7 +51,8 @@ DIAGRAMS: tuple[Diagram[Any], ...] = (
                 "0.49 (Domingos, Winter & Yokoyama 2006). Right: how far each period is from "
                 "Kepler's third law, in per cent, with the tolerance of kepler-mismatch this "
                 "catalogue was checked with; bodies beyond +-10 % sit at the ends.",
-        axes=orbits.AXES, rules=orbits.RULES, aggregate=orbits.aggregate, figure=orbits.figure),
+        axes=orbits.AXES, rules=orbits.RULES, aggregate=orbits.aggregate, figure=orbits.figure,
+        selects=orbits.panel_axes),
     Diagram(
         key="tidal-locking", title="Tidal locking",
         caption="Orbiting bodies by age and by the time tides need to despin them (Gladman et "
@@ -90,7 +91,7 @@ DIAGRAMS: tuple[Diagram[Any], ...] = (
                 "line at a cutoff, a shaded band for a gap, a star for a spike.",
         axes=distributions.AXES, rules=distributions.RULES,
         aggregate=distributions.aggregate, figure=distributions.figure,
-        choices=distributions.choices),
+        choices=distributions.choices, selects=distributions.field_axes),
 )
 BY_KEY: Mapping[str, Diagram[Any]] = {d.key: d for d in DIAGRAMS}
 KEYS: tuple[str, ...] = tuple(BY_KEY)

@@ -44,6 +44,7 @@ from bodycensus.input.schema import (
     CANONICAL_FIELDS,
     FIELD_TYPES,
     NUMERIC_FIELDS,
+    ROW_NUMBERS,
     Mapping,
     MappingRecord,
     SchemaError,
@@ -179,6 +180,10 @@ def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping) -> pl.L
     parsed, mapped = [], [f for f in CANONICAL_FIELDS if f in mapping.choices]
     for name in mapped:
         choice = mapping.choices[name]
+        if choice.column == ROW_NUMBERS:  # ids made from row numbers: "row 17"
+            parsed += [pl.format("row {}", pl.col(_ROW)).alias(name),
+                       pl.lit(True).alias(_PRESENT + name)]
+            continue
         value, present = _parse(name, pl.col(choice.column), schema[choice.column],
                                 choice.factor())
         parsed += [value.cast(FIELD_TYPES[name]).alias(name), present.alias(_PRESENT + name)]
@@ -225,6 +230,7 @@ def _count_bad(dest: Path, mapping: Mapping) -> dict[str, int]:
               .group_by("_bad").len().collect())
     found = dict(zip(counts["_bad"], counts["len"], strict=True))
     return {mapping.choices[f].column: found[f] for f in CANONICAL_FIELDS if f in found}
+
 
 
 def _map(source: Path, columns: list[str], map_overrides: dict[str, str] | None,

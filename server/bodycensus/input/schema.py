@@ -85,6 +85,10 @@ _YEAR_S = UNITS["yr"].to_si
 _BRACKETED = re.compile(r"^(?P<base>.*?)\s*[\(\[](?P<unit>[^\)\]]*)[\)\]]\s*$")
 
 UnitSource = Literal["header", "override", "default"]
+# The column an id comes from when the file has none: each body is named by its row number.
+ROW_NUMBERS = "<row number>"
+# Fields that may share one column with another (a name column that is also the id).
+SHAREABLE_FIELDS = frozenset({"id", "name"})
 
 
 class ChoiceRecord(TypedDict):
@@ -316,16 +320,26 @@ def describe_columns(columns: list[str], most: int = 20) -> str:
 
 
 def _apply_map_overrides(found: Found, columns: list[str], overrides: dict[str, str]) -> None:
-    """Point each overridden field at its named column (checked against the file's columns)."""
+    """Point each overridden field at its named column (checked against the file's columns);
+    ``id`` may also come from the row numbers, and ``id`` and ``name`` may share a column."""
     for raw_field, column in overrides.items():
         name = _check_field(raw_field)
+        if name == "id" and column == ROW_NUMBERS:
+            found[name] = (column, None)
+            continue
         if column not in columns:
             raise SchemaError(f"--map {name}={column}: no column '{column}' in the file; "
                               f"its columns are {describe_columns(columns)}")
         for other, (taken, _) in list(found.items()):
-            if taken == column and other != name:
+            shared = {name, other} <= SHAREABLE_FIELDS and overrides.get(other) == column
+            if taken == column and other != name and not shared:
                 del found[other]
         found[name] = (column, _hint_for(name, column))
+
+
+def physical_fields(mapping: Mapping) -> list[str]:
+    """The numeric fields a mapping feeds (mass, radius, orbit, ...): a catalogue needs one."""
+    return [f for f in NUMERIC_FIELDS if f in mapping.choices]
 
 
 def guess_mapping(

@@ -17,7 +17,13 @@ from typing import TypedDict
 from bodycensus.errors import BadInput, TooLarge
 from bodycensus.input.formats import MAGIC_BYTES, detect_format
 from bodycensus.input.readers import detect_compression, head
-from bodycensus.input.schema import Mapping, MappingRecord, guess_mapping
+from bodycensus.input.schema import (
+    NUMERIC_FIELDS,
+    Mapping,
+    MappingRecord,
+    guess_mapping,
+    physical_fields,
+)
 from bodycensus.science.families import guess_family
 
 SAMPLE_ROWS = 20
@@ -49,8 +55,12 @@ class Sniff:
         """Why the person should confirm the mapping (empty: the run can start at once)."""
         out = [f"the unit of '{c.column}' ({c.field}) is not in its header; {c.unit} assumed"
                for c in self.mapping.choices.values() if c.ambiguous]
+        if not physical_fields(self.mapping):
+            out.insert(0, "no column was recognised as a physical field; choose what the "
+                          "numeric columns hold")
         if "id" not in self.mapping.choices:
-            out.insert(0, "no column was recognised as the body id")
+            out.insert(0, "no column was recognised as the body id; choose it, or number the "
+                          "rows")
         return out
 
     def to_json(self) -> ProposalRecord:
@@ -58,6 +68,17 @@ class Sniff:
         return {"columns": self.columns, "samples": self.samples,
                 "mapping": self.mapping.to_json(), "families": self.families,
                 "reasons": self.reasons}
+
+
+def _numeric(values: list[str]) -> bool:
+    """Whether a column's sample values are numbers (so it could be mapped to a quantity)."""
+    def number(text: str) -> bool:
+        try:
+            float(text)
+        except ValueError:
+            return False
+        return True
+    return bool(values) and all(number(v) for v in values)
 
 
 def sniff(path: Path, name: str, max_columns: int) -> Sniff | None:
@@ -79,6 +100,11 @@ def sniff(path: Path, name: str, max_columns: int) -> Sniff | None:
     mapping = guess_mapping(columns)
     samples = {c: list(dict.fromkeys(v for r in rows[:SAMPLE_ROWS] if (v := r.get(c, "").strip())
                                      ))[:SAMPLES_PER_COLUMN] for c in columns}
+    if not physical_fields(mapping) and not any(_numeric(v) for v in samples.values()):
+        fields = ", ".join(f.replace("_", " ") for f in NUMERIC_FIELDS[:4])
+        raise BadInput(f"{name}: no column holds a physical quantity ({fields}, ...): nothing to "
+                       "check; upload a table of bodies with at least a mass or a radius column",
+                       422)
     label = mapping.choices.get("label")
     labels = sorted({r.get(label.column, "").strip() for r in rows} - {""}) if label else []
     return Sniff(columns, samples, mapping, {lab: guess_family(lab) for lab in labels[:500]})

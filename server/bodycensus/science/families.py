@@ -107,19 +107,27 @@ _SPECTRAL_CLASS = re.compile(r"^[obafgkm]\d?(\.\d)?\s*(v|iv)?$")
 
 def guess_family(label: str | None) -> str:
     """Our family for a catalogue label, by keywords; ``unknown`` when nothing matches."""
+    return explain_family(label)[0]
+
+
+def explain_family(label: str | None) -> tuple[str, str]:
+    """Our family for a catalogue label and why, in words: the keyword that matched, or that
+    none did (a label such as 'moon' says where a body is, not what it is made of)."""
     if not label:
-        return "unknown"
+        return "unknown", "the label is blank"
     text = label.strip().lower().replace("_", " ")
     if text.replace(" ", "_") in FAMILIES:
-        return text.replace(" ", "_")
+        return text.replace(" ", "_"), "the label is the family's own name"
     if _SPECTRAL_CLASS.match(text):
-        return "star"
-    if _RING.search(text):
-        return "ring"
+        return "star", "a main-sequence spectral class"
+    if (ring := _RING.search(text)) is not None:
+        return "ring", f"the label names a ring ('{ring[0]}')"
     for family, words in _KEYWORDS:
-        if any(word in text for word in words):
-            return family
-    return "unknown"
+        word = next((w for w in words if w in text), None)
+        if word is not None:
+            return family, f"the label contains '{word}'"
+    return "unknown", ("no word of composition or kind in the label (such as rocky, icy, iron, "
+                       "gas giant, star)")
 
 
 class FamilyMappingError(InputError):

@@ -61,6 +61,7 @@ class ManifestChanges(TypedDict, total=False):
     proposal: ProposalRecord | None
     summary: RunSummary | None
     options: OverridesRecord | None
+    preset: str | None
 
 
 def _default_progress() -> ProgressRecord:
@@ -84,6 +85,8 @@ class Manifest:
     summary: RunSummary | None = None
     options: OverridesRecord | None = None  # the overrides the run used (map, units, families)
     demo: bool = False
+    preset: str | None = None  # the mapping preset the run used: when and from which file
+    run: int = 1  # 1 for the upload's first run; each re-run (same file, new mapping) adds one
 
     def to_json(self) -> dict[str, Any]:
         """A plain dict, as written to manifest.json."""

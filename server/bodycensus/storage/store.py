@@ -5,12 +5,17 @@ Layout under ``data_dir``::
     incoming/<id>/source<suffix>   an upload being mapped or ingested, with its manifest.json
     incoming/<id>/work/            the engine's output while it is written
     catalogues/<id>/               a finished catalogue: manifest.json, Parquet, aggregates.json
+                                   and the uploaded file (source<suffix>, kept for re-runs)
     tmp/                           exports and deletions in progress (emptied at start-up)
-    bodycensus.sqlite              saved views and triage decisions (WAL; storage/decisions.py)
+    bodycensus.sqlite              saved views, triage decisions (storage/decisions.py) and
+                                   mapping presets (storage/presets.py) (WAL)
 
 A catalogue appears under ``catalogues/`` only by renaming a complete work folder; every JSON
 file is written to a temporary name, fsynced and renamed, so a killed server leaves either the
-old or the new file, never half of one.
+old or the new file, never half of one. A re-run opens ``incoming/<id>/`` again beside the
+ready catalogue (its manifest, one ``run`` number higher, is the one shown) with a hard link to
+the kept file; its publish swaps the folders, and until then the previous results stay on disk
+(``discard_rerun`` brings them back).
 """
 
 from __future__ import annotations
@@ -32,9 +37,10 @@ from pathlib import Path
 from typing import Any, Unpack
 
 from bodycensus.durable import fsync_path
-from bodycensus.errors import Conflict, NotFound, StorageError, storage_error
+from bodycensus.errors import Conflict, NotFound, NotReady, StorageError, storage_error
 from bodycensus.input.ingest import IngestRecord
 from bodycensus.storage.decisions import DecisionBook
+from bodycensus.input.sniff import ProposalRecord
 from bodycensus.storage.manifest import Manifest, ManifestChanges, RunSummary, Status
 
 MANIFEST = "manifest.json"
@@ -132,6 +138,13 @@ class Store:
         manifest = self.get(cat_id)
         return self.incoming / cat_id / f"source{manifest.source}"
 
+    def kept_source(self, cat_id: str) -> Path | None:
+        """The uploaded file a ready catalogue keeps for re-runs (None for one checked before
+        files were kept)."""
+        manifest = self.get(cat_id)
+        path = self.catalogues / cat_id / f"source{manifest.source}"
+        return path if path.is_file() else None
+
     def open_upload(self, manifest: Manifest) -> Manifest:
         """Write the first manifest of a finished upload."""
         self._write_manifest(self.incoming / manifest.id / MANIFEST, manifest)
@@ -152,15 +165,15 @@ class Store:
         return Manifest.from_json(json.loads(path.read_text(encoding="utf-8")))
 
     def list(self) -> list[Manifest]:
-        """Every catalogue, newest first."""
-        found = []
+        """Every catalogue, newest first (a catalogue being re-run once, as its re-run)."""
+        found: dict[str, Manifest] = {}
         for root in (self.catalogues, self.incoming):
             for folder in root.iterdir():
                 try:
-                    found.append(self.get(folder.name))
+                    found[folder.name] = self.get(folder.name)
                 except (NotFound, ValueError, OSError):
                     continue  # an upload still streaming, or a folder that is not ours
-        return sorted(found, key=lambda m: (m.created, m.id), reverse=True)
+        return sorted(found.values(), key=lambda m: (m.created, m.id), reverse=True)
 
     def update(self, cat_id: str, **changes: Unpack[ManifestChanges]) -> Manifest:
         """Change fields of a manifest that is still in ``incoming/`` and write it atomically."""
@@ -195,17 +208,73 @@ class Store:
 
     def publish(self, cat_id: str, rows: int, summary: RunSummary,
                 mapping: IngestRecord | None = None) -> Manifest:
-        """Mark the catalogue ready and rename its work folder into ``catalogues/``."""
+        """Mark the catalogue ready and rename its work folder, with the uploaded file kept for
+        re-runs, into ``catalogues/`` (in place of the previous run's folder, if any)."""
         with self._lock:
             manifest = replace(self.get(cat_id), status="ready", error=None, proposal=None,
                                progress={"stage": "done", "fraction": 1.0}, rows=rows,
                                summary=summary, mapping=mapping)
             work = self.incoming / cat_id / "work"
+            source = self.incoming / cat_id / f"source{manifest.source}"
+            if source.is_file():
+                os.replace(source, work / source.name)
             write_json_atomic(work / MANIFEST, manifest.to_json())
-            os.replace(work, self.catalogues / cat_id)
+            previous = self.catalogues / cat_id
+            if previous.exists():  # a re-run: the old results go only once the new are in
+                doomed = self.tmp / f"{cat_id}.{secrets.token_hex(4)}.previous"
+                os.replace(previous, doomed)
+                os.replace(work, previous)
+                shutil.rmtree(doomed, ignore_errors=True)
+            else:
+                os.replace(work, previous)
             fsync_path(self.catalogues)
             self._remove(self.incoming / cat_id)
             return manifest
+
+    def rename(self, cat_id: str, name: str) -> Manifest:
+        """Give a catalogue another name (any status but ingesting)."""
+        with self._lock:
+            manifest = self.get(cat_id)
+            if manifest.status == "ingesting":
+                raise Conflict(f"catalogue '{cat_id}' is being checked; rename it when it ends")
+            renamed = replace(manifest, name=name)
+            path = self._manifest_path(cat_id)
+            assert path is not None
+            self._write_manifest(path, renamed)
+            return renamed
+
+    def begin_rerun(self, cat_id: str, proposal: ProposalRecord | None) -> Manifest:
+        """Open a ready catalogue's mapping step again on its kept file, without a new upload:
+        ``incoming/<id>/`` with a hard link to the file (a copy where links are refused) and a
+        manifest one run higher; the previous results stay until the new run is published."""
+        with self._lock:
+            manifest = self.get(cat_id)
+            kept = self.kept_source(cat_id) if manifest.status == "ready" else None
+            if kept is None:
+                raise Conflict(f"catalogue '{cat_id}' is {manifest.status} or keeps no uploaded "
+                               "file; only a ready catalogue with its file can be re-run")
+            folder = self.incoming / cat_id
+            folder.mkdir()
+            try:
+                os.link(kept, folder / kept.name)
+            except OSError:
+                shutil.copyfile(kept, folder / kept.name)
+            rerun = replace(manifest, status="mapping", proposal=proposal, error=None,
+                            progress={"stage": "mapping", "fraction": 0.0}, run=manifest.run + 1)
+            self._write_manifest(folder / MANIFEST, rerun)
+            return rerun
+
+    def discard_rerun(self, cat_id: str) -> Manifest:
+        """Drop a re-run that is being mapped or has failed: the previous results show again."""
+        with self._lock:
+            manifest = self.get(cat_id)
+            if not (self.catalogues / cat_id / MANIFEST).is_file() or \
+                    not (self.incoming / cat_id).exists():
+                raise Conflict(f"catalogue '{cat_id}' has no re-run to discard")
+            if manifest.status == "ingesting":
+                raise Conflict(f"catalogue '{cat_id}' is being checked; wait until it ends")
+            self._remove(self.incoming / cat_id)
+            return self.get(cat_id)
 
     def fail(self, cat_id: str, error: str) -> Manifest:
         """Mark the catalogue failed with a one-line reason; drop its upload and partial output.
@@ -225,22 +294,34 @@ class Store:
                 return failed
 
     def delete(self, cat_id: str) -> None:
-        """Remove a catalogue and its saved views; Conflict while it is being ingested."""
+        """Remove a catalogue (a re-run in progress too) and its saved views; Conflict while it
+        is being ingested."""
         with self._lock:
             manifest = self.get(cat_id)
             if manifest.status == "ingesting":
                 raise Conflict(f"catalogue '{cat_id}' is being ingested; delete it when it ends")
-            root = self.catalogues if manifest.status == "ready" else self.incoming
-            self._remove(root / cat_id)
+            for root in (self.incoming, self.catalogues):
+                if (root / cat_id).exists():
+                    self._remove(root / cat_id)
         self.delete_views(cat_id)
         self.decisions.forget_catalogue(cat_id)
 
+    def disk_bytes(self, cat_id: str) -> dict[str, int]:
+        """Bytes on disk of a catalogue: its checked files and the uploaded file it keeps."""
+        folder = self.catalogues / cat_id
+        kept = self.kept_source(cat_id) if folder.is_dir() else None
+        total = sum(p.stat().st_size for p in folder.rglob("*") if p.is_file()) \
+            if folder.is_dir() else 0
+        source = kept.stat().st_size if kept else 0
+        return {"results": total - source, "source": source}
+
     def ready_dir(self, cat_id: str) -> Path:
-        """The folder of a ready catalogue; NotFound or Conflict otherwise."""
+        """The folder of a ready catalogue; NotFound, or NotReady while it is mapped, checked
+        (a re-run too) or after it failed."""
         manifest = self.get(cat_id)
         if manifest.status != "ready":
             hint = manifest.error or f"it is {manifest.status}; poll GET /api/catalogues/{cat_id}"
-            raise Conflict(f"catalogue '{cat_id}' is not ready: {hint}")
+            raise NotReady(f"catalogue '{cat_id}' is not ready: {hint}", cat_id)
         return self.catalogues / cat_id
 
     def recover(self) -> None:
@@ -252,7 +333,7 @@ class Store:
 
     def _recover_one(self, folder: Path) -> None:
         """Bring one ``incoming/`` folder to a consistent state."""
-        if not (folder / MANIFEST).is_file() or (self.catalogues / folder.name).exists():
+        if not (folder / MANIFEST).is_file() or self._published(folder):
             self._remove(folder)  # an upload cut off, or a publish cut off after its rename
             return
         try:
@@ -262,6 +343,19 @@ class Store:
             return
         if manifest.status == "ingesting":
             self.fail(manifest.id, KILLED)
+
+    def _published(self, folder: Path) -> bool:
+        """Whether ``catalogues/`` already holds the run ``folder`` (in ``incoming/``) was for:
+        a re-run's folder has a higher run number than the catalogue it re-runs."""
+        ready = self.catalogues / folder.name / MANIFEST
+        if not ready.is_file():
+            return False
+        try:
+            runs = [json.loads(p.read_text(encoding="utf-8")).get("run", 1)
+                    for p in (folder / MANIFEST, ready)]
+        except (ValueError, OSError):
+            return True
+        return bool(runs[0] <= runs[1])
 
     @staticmethod
     def _write_manifest(path: Path, manifest: Manifest) -> None:
@@ -275,7 +369,7 @@ class Store:
         """Where the manifest of ``cat_id`` is, or None."""
         if not _ID.match(cat_id):
             return None
-        for root in (self.catalogues, self.incoming):
+        for root in (self.incoming, self.catalogues):  # a re-run shadows the ready catalogue
             path = root / cat_id / MANIFEST
             if path.is_file():
                 return path

@@ -5,14 +5,14 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from dataclasses import asdict
 from pathlib import Path
-from typing import Annotated, Any, Literal
+from typing import Annotated, Any, Literal, cast
 
 from fastapi import APIRouter, Depends, Query, Request, Response
 from fastapi.responses import FileResponse
 from starlette.background import BackgroundTask
 from starlette.concurrency import run_in_threadpool
 
-from bodycensus.dashboard.deps import JobsDep, ReadyDir, SettingsDep, StoreDep
+from bodycensus.dashboard.deps import JobsDep, PresetsDep, ReadyDir, SettingsDep, StoreDep
 from bodycensus.dashboard.intake.jobs import Overrides
 from bodycensus.dashboard.intake.uploads import FIELD, Upload, receive_upload
 from bodycensus.dashboard.models import (
@@ -29,7 +29,9 @@ from bodycensus.dashboard.models import (
     ViewList,
     ViewOut,
 )
-from bodycensus.dashboard.screens import queries, shapes
+from bodycensus.dashboard.screens import groups, queries, shapes
+from bodycensus.dashboard.screens.bodies import bodies_page, export_bodies
+from bodycensus.dashboard.screens.search import search_bodies
 from bodycensus.dashboard.screens.triage import decisions_of
 from bodycensus.dashboard.screens.viewstate import MAX_LIMIT, ViewState
 from bodycensus.diagrams import registry
@@ -78,14 +80,34 @@ async def _open_upload(store: Store, up: Upload, max_columns: int, auto: bool) -
 @router.post("/catalogues", status_code=202, response_model=UploadAccepted,
              openapi_extra=_UPLOAD_BODY)
 async def upload_catalogue(request: Request, store: StoreDep, jobs: JobsDep,
-                           settings: SettingsDep, auto: bool = False) -> UploadAccepted:
+                           settings: SettingsDep, presets: PresetsDep,
+                           auto: bool = False) -> UploadAccepted:
     """Upload a catalogue (multipart field ``file``), streamed to disk. The run starts at once
-    unless the mapping is unsure (status ``mapping``); ``auto=1`` skips the mapping step."""
+    with the mapping preset saved for the file's header, if any, else unless the mapping is
+    unsure (status ``mapping``); ``auto=1`` skips the mapping step."""
     up = await receive_upload(request, store, settings.max_upload_bytes)
     manifest = await _open_upload(store, up, settings.max_columns, auto)
-    if auto or not (manifest.proposal and manifest.proposal["reasons"]):
+    preset = presets.find(manifest.proposal["columns"]) if manifest.proposal else None
+    overrides = _preset_overrides(preset, manifest)
+    if overrides is not None and preset is not None:
+        store.update(up.id, preset=f"saved {preset.saved} from {preset.source}")
+        manifest = await run_in_threadpool(jobs.start, up.id, overrides)
+    elif auto or not (manifest.proposal and manifest.proposal["reasons"]):
         manifest = await run_in_threadpool(jobs.start, up.id, Overrides())
     return UploadAccepted(id=up.id, status=manifest.status, url=f"/catalogues/{up.id}")
+
+
+def _preset_overrides(preset: Any, manifest: Manifest) -> Overrides | None:
+    """The preset's choices as overrides, when they still fit the file (else None: the person
+    maps it)."""
+    if preset is None or manifest.proposal is None:
+        return None
+    choices = preset.choices
+    try:
+        return Overrides(dict(choices["map"]), dict(choices["units"]),
+                         dict(choices["families"])).checked(manifest.proposal["columns"])
+    except BadInput:
+        return None
 
 
 @router.get("/catalogues", response_model=CatalogueList)
@@ -103,8 +125,9 @@ def get_catalogue(catalogue_id: str, store: StoreDep) -> CatalogueOut:
 
 @router.post("/catalogues/{catalogue_id}/mapping", status_code=202, response_model=CatalogueOut)
 def confirm_mapping(catalogue_id: str, choice: MappingIn, store: StoreDep,
-                    jobs: JobsDep) -> CatalogueOut:
-    """Confirm or correct the mapping of a catalogue in status ``mapping`` and start its run."""
+                    jobs: JobsDep, presets: PresetsDep) -> CatalogueOut:
+    """Confirm or correct the mapping of a catalogue in status ``mapping`` and start its run;
+    with ``save_preset``, keep the choices for the next file with the same header."""
     manifest = store.get(catalogue_id)
     if manifest.status != "mapping":
         raise Conflict(f"catalogue '{catalogue_id}' is {manifest.status}; only a catalogue in "
@@ -113,7 +136,10 @@ def confirm_mapping(catalogue_id: str, choice: MappingIn, store: StoreDep,
     overrides = Overrides(choice.map, choice.units, choice.families)
     if columns:
         overrides = overrides.checked(columns)
-    return _out(jobs.start(catalogue_id, overrides))
+    started = jobs.start(catalogue_id, overrides)
+    if choice.save_preset and columns:
+        presets.save(columns, overrides.to_record(), manifest.name)
+    return _out(started)
 
 
 @router.delete("/catalogues/{catalogue_id}", status_code=204)
@@ -161,18 +187,23 @@ def list_findings(catalogue_id: str, cat_dir: ReadyDir, view: FindingsView, stor
                                  decisions_of(store, catalogue_id)[1])
 
 
-def _export(request: Request, store: Store, cat_dir: Path, fmt: Literal["csv", "parquet"]
-            ) -> FileResponse:
-    """Write the filtered findings to a scratch file and send it, removing it afterwards."""
+def _export(request: Request, store: Store, cat_dir: Path, fmt: Literal["csv", "parquet"],
+            what: Literal["findings", "bodies"] = "findings") -> FileResponse:
+    """Write the filtered findings (or bodies) to a scratch file and send it, removing it
+    afterwards."""
     dest = store.scratch(f".{fmt}")
+    write = queries.export_findings if what == "findings" else export_bodies
     try:
-        queries.export_findings(cat_dir, _state(request), fmt, dest,
-                                decisions_of(store, cat_dir.name)[1])
+        if what == "findings":
+            queries.export_findings(cat_dir, _state(request), fmt, dest,
+                                    decisions_of(store, cat_dir.name)[1])
+        else:
+            export_bodies(cat_dir, _state(request), fmt, dest)
     except BaseException:
         dest.unlink(missing_ok=True)
         raise
     media = "text/csv; charset=utf-8" if fmt == "csv" else "application/vnd.apache.parquet"
-    return FileResponse(dest, media_type=media, filename=f"{cat_dir.name}-findings.{fmt}",
+    return FileResponse(dest, media_type=media, filename=f"{cat_dir.name}-{what}.{fmt}",
                         background=BackgroundTask(dest.unlink, missing_ok=True))
 
 
@@ -186,6 +217,49 @@ def export_csv(request: Request, cat_dir: ReadyDir, store: StoreDep) -> FileResp
 def export_parquet(request: Request, cat_dir: ReadyDir, store: StoreDep) -> FileResponse:
     """Every filtered finding as Parquet."""
     return _export(request, store, cat_dir, "parquet")
+
+
+@router.get("/catalogues/{catalogue_id}/bodies")
+def list_bodies(cat_dir: ReadyDir, request: Request) -> Mapping[str, Any]:
+    """Every body (not only flagged ones), filtered like the findings: a body is listed when one
+    of its findings passes ``severity``, ``rule`` and the value and margin ranges, and by its
+    own ``label``, ``family`` and a diagram's region; ordered by ``order`` (a column, '-' for
+    descending; the file's order by default), with its worst severity and findings counted."""
+    return cast(Mapping[str, Any], bodies_page(cat_dir, _state(request)))
+
+
+@router.get("/catalogues/{catalogue_id}/bodies.csv", response_class=FileResponse)
+def export_bodies_csv(request: Request, cat_dir: ReadyDir, store: StoreDep) -> FileResponse:
+    """Every filtered body as CSV (SI values; id, name, system and parent; worst severity)."""
+    return _export(request, store, cat_dir, "csv", "bodies")
+
+
+@router.get("/catalogues/{catalogue_id}/bodies.parquet", response_class=FileResponse)
+def export_bodies_parquet(request: Request, cat_dir: ReadyDir, store: StoreDep) -> FileResponse:
+    """Every filtered body as Parquet."""
+    return _export(request, store, cat_dir, "parquet", "bodies")
+
+
+@router.get("/catalogues/{catalogue_id}/findings/groups")
+def list_groups(cat_dir: ReadyDir, request: Request) -> Sequence[Mapping[str, Any]]:
+    """Findings grouped by rule and label, most serious first: counts per severity, bodies,
+    the worst margin and three example bodies (filtered by severity, rule, label, family)."""
+    return cast(Sequence[Mapping[str, Any]], groups.groups(cat_dir, _state(request)))
+
+
+@router.get("/catalogues/{catalogue_id}/search")
+def search(cat_dir: ReadyDir, q: Annotated[str, Query(min_length=1, max_length=200)]
+           ) -> Mapping[str, Any]:
+    """Bodies whose id, name or a later word of the name starts with ``q`` (any case), exact
+    ids first, each with label, system, parent and worst severity; at most 50."""
+    return cast(Mapping[str, Any], search_bodies(cat_dir, q))
+
+
+@router.get("/catalogues/{catalogue_id}/systems/{system:path}")
+def get_system(cat_dir: ReadyDir, system: str) -> Mapping[str, Any]:
+    """One system's bodies in tree order (each with depth, children and worst severity): the
+    System page's data."""
+    return cast(Mapping[str, Any], queries.system_detail(cat_dir, system))
 
 
 @router.get("/catalogues/{catalogue_id}/bodies/{body_id:path}", response_model=BodyOut)

@@ -11,11 +11,11 @@ from typing import Any
 from urllib.parse import quote, unquote
 
 from fastapi import APIRouter, Request
-from fastapi.responses import HTMLResponse
+from fastapi.responses import HTMLResponse, RedirectResponse, Response
 from fastapi.templating import Jinja2Templates
 
 from bodycensus.dashboard.deps import StoreDep
-from bodycensus.dashboard.screens import queries, report
+from bodycensus.dashboard.screens import groups, queries, report
 from bodycensus.dashboard.screens.figure_text import drawn_marks
 from bodycensus.dashboard.screens.page_context import (
     artefact_rows,
@@ -23,12 +23,17 @@ from bodycensus.dashboard.screens.page_context import (
     diagram_context,
     diagram_links,
     format_number,
-    mapping_context,
+    rules_summary,
 )
 from bodycensus.dashboard.screens.triage import decisions_of, system_groups, triage_counts
+from bodycensus.dashboard.screens.regions import describe
+from bodycensus.dashboard.screens.search import names_for
+from bodycensus.dashboard.screens.shown import finding_shown, row_shown
 from bodycensus.dashboard.screens.viewstate import SORT_KEYS, ViewState
 from bodycensus.input.formats import accepted
+from bodycensus.science.display_units import DISPLAY_UNITS, symbol
 from bodycensus.science.families import FAMILIES
+from bodycensus.science.rules import RULES_BY_ID
 from bodycensus.science.severity import SEVERITIES
 from bodycensus.storage.manifest import Manifest
 from bodycensus.storage.store import SavedView, Store
@@ -39,6 +44,10 @@ templates.env.filters["num"] = format_number
 router = APIRouter(include_in_schema=False)
 LABELS_SHOWN = 40
 NAME_COOKIE = "bodycensus_name"  # who decides: the name typed in a decide form (triage.js)
+GROUPS_ON_OVERVIEW = 12
+# Units a person may pin per dimension in the Units menu (the rest stay by family or SI).
+PINNABLE = {"mass": ("kg", "earth_mass", "jupiter_mass", "solar_mass"),
+            "length": ("m", "km", "earth_radius", "jupiter_radius", "solar_radius", "au")}
 
 
 def cat_url(cat_id: str, *parts: str, state: ViewState | None = None) -> str:
@@ -58,7 +67,29 @@ def _render(request: Request, template: str, **context: Any) -> HTMLResponse:
     context.setdefault("catalogue", None)
     context.setdefault("query", "")
     context.setdefault("severities", SEVERITIES)
+    if "state" in context and context.get("units_menu", True):
+        context["units_menu"] = units_menu(context["state"], request)
     return templates.TemplateResponse(request, template, context)
+
+
+def units_menu(state: ViewState, request: Request) -> dict[str, Any]:
+    """The Units menu of a screen: the current choice, the pins offered per dimension, and the
+    rest of the address kept as hidden fields so a change keeps every other choice."""
+    keep = [(k, v) for k, v in request.query_params.multi_items()
+            if k not in ("units", "unit", "offset") and v != ""]
+    pins = {dim: [(u, symbol(u)) for u in units if u in DISPLAY_UNITS]
+            for dim, units in PINNABLE.items()}
+    return {"keep": keep, "system": state.units, "pinned": state.pinned_units, "pins": pins}
+
+
+def blanks_dropped(request: Request) -> Response | None:
+    """A redirect to the same address without its empty parameters (a form submits every
+    field; an address keeps only the choices made), or None when there are none."""
+    pairs = request.query_params.multi_items()
+    if not any(v == "" for _, v in pairs):
+        return None
+    kept = "&".join(f"{quote(k, safe='')}={quote(v, safe='')}" for k, v in pairs if v != "")
+    return RedirectResponse(f"{request.url.path}{'?' + kept if kept else ''}", status_code=303)
 
 
 @router.get("/", response_class=HTMLResponse)
@@ -69,13 +100,15 @@ def catalogues_page(request: Request, store: StoreDep) -> HTMLResponse:
                    json_url="/api/catalogues", accepted=accepted())
 
 
-def overview_context(store: Store, manifest: Manifest) -> dict[str, Any]:
-    """Overview: counts, findings by severity and rule (as links), coverage, ingest problems."""
-    cat_id = manifest.id
+def overview_context(store: Store, manifest: Manifest, state: ViewState | None = None
+                     ) -> dict[str, Any]:
+    """Overview: findings grouped by rule and label first, counts by severity and rule (one
+    entry per rule), labels, families, coverage, ingest problems, artefacts, saved views."""
+    cat_id, state = manifest.id, state or ViewState()
     context: dict[str, Any] = {"screen": "overview", "catalogue": manifest.to_json(),
-                               "json_url": f"/api/catalogues/{quote(cat_id, safe='')}"}
-    if manifest.status == "mapping" and manifest.proposal:
-        return {**context, **mapping_context(manifest.proposal)}
+                               "json_url": f"/api/catalogues/{quote(cat_id, safe='')}",
+                               "kept": store.kept_source(cat_id) is not None
+                               if manifest.status == "ready" else False}
     if manifest.status != "ready":
         return context
     cat_dir = store.ready_dir(cat_id)
@@ -85,12 +118,19 @@ def overview_context(store: Store, manifest: Manifest) -> dict[str, Any]:
     def findings(**filters: Any) -> str:
         return cat_url(cat_id, "findings", state=ViewState(**filters))
 
-    labels = aggs["labels"]
+    labels, grouped = aggs["labels"], groups.groups(cat_dir, ViewState())
     return {
-        **context, "json_url": context["json_url"] + "/overview",
+        **context, "json_url": context["json_url"] + "/overview", "state": state,
+        "groups": group_rows(cat_id, grouped[:GROUPS_ON_OVERVIEW]),
+        "more_groups": max(0, len(grouped) - GROUPS_ON_OVERVIEW),
+        "groups_href": cat_url(cat_id, "findings", "groups"),
         "severity": [{**s, "href": findings(severity=(s["severity"],))} for s in aggs["severity"]],
-        "rules": [{**r, "href": findings(rule=(r["rule"],))} for r in aggs["rules"]],
+        "rules": [{**r, "href": findings(rule=(r["rule"],)),
+                   "links": {s: findings(rule=(r["rule"],), severity=(s,)) for s in r["counts"]}}
+                  for r in rules_summary(aggs["rules"])],
         "labels": [{**lb, "findings_href": findings(label=(lb["label"],)),
+                    "bodies_href": cat_url(cat_id, "bodies", state=ViewState(
+                        label=(lb["label"],))),
                     "density_href": cat_url(cat_id, "diagrams", state=ViewState(
                         diagram="density", label=(lb["label"],)))}
                    for lb in labels[:LABELS_SHOWN] if lb["label"] is not None],
@@ -98,64 +138,113 @@ def overview_context(store: Store, manifest: Manifest) -> dict[str, Any]:
         "families": [{**f, "href": findings(family=(f["family"],))} for f in aggs["families"]
                      if f["family"] is not None],
         "unmapped_labels": summary.get("unmapped_labels", []),
-        "coverage": overview["coverage"],
+        "coverage": [{**c, "severities": RULES_BY_ID[c["rule"]].severities
+                      if c["rule"] in RULES_BY_ID else (c["severity"],)}
+                     for c in overview["coverage"]],
         "bad_cells": sorted((summary.get("bad_cells") or {}).items()),
-        "artefacts": artefact_rows(cat_id, overview["artefacts"], cat_url),
+        "artefacts": artefact_rows(cat_id, overview["artefacts"], cat_url,
+                                   summary.get("label_families"), state.display),
         "diagrams": diagram_links(cat_id, cat_url),
         "views": [{**v.__dict__, "url": v.url} for v in store.list_views(cat_id)],
         "triage": triage_counts(cat_dir, decisions_of(store, cat_id)[1]),
         "triage_href": cat_url(cat_id, "triage"),
         "undecided_href": findings(undecided=True),
+        "disk": store.disk_bytes(cat_id),
     }
 
 
+def group_rows(cat_id: str, found: list[groups.Group]) -> list[dict[str, Any]]:
+    """Groups of findings with the link of each cell: the group's list, each severity's part of
+    it, and each example body."""
+    rows = []
+    for g in found:
+        state = ViewState(rule=(g["rule"],), label=(g["label"],) if g["label"] else ())
+        rows.append({**g, "href": cat_url(cat_id, "findings", state=state),
+                     "links": {s: cat_url(cat_id, "findings", state=state.with_(severity=(s,)))
+                               for s in g["counts"]},
+                     "examples": [{**e, "href": cat_url(cat_id, "bodies", e["body"])}
+                                  for e in g["examples"]]})
+    return rows
+
+
 @router.get("/catalogues/{catalogue_id}", response_class=HTMLResponse)
-def overview_page(request: Request, catalogue_id: str, store: StoreDep) -> HTMLResponse:
-    """Overview of a ready catalogue; its progress while ingesting; the mapping step."""
-    context = overview_context(store, store.get(catalogue_id))
+def overview_page(request: Request, catalogue_id: str, store: StoreDep) -> Response:
+    """Overview of a ready catalogue; its progress while ingesting; its mapping step's page."""
+    manifest = store.get(catalogue_id)
+    if manifest.status == "mapping":
+        return RedirectResponse(cat_url(catalogue_id, "mapping"), status_code=303)
+    state = ViewState.from_query(request.query_params)
+    context = overview_context(store, manifest, state)
     context["families_all"] = FAMILIES
     return _render(request, "overview.html", **context)
 
 
+def sort_groups() -> list[tuple[str, list[tuple[str, str]]]]:
+    """The Findings list's orders, grouped: by seriousness, then by a column either way."""
+    columns = [k for k in SORT_KEYS if k != "severity"]
+    words = {"_row": "row in the file", "body": "body id"}
+    return [("Seriousness", [("severity", "most serious first, largest margin first"),
+                             ("-severity", "least serious first")]),
+            ("A column, smallest or A first", [(k, words.get(k, k)) for k in columns]),
+            ("A column, largest or Z first", [(f"-{k}", words.get(k, k)) for k in columns])]
+
+
 def findings_context(store: Store, cat_id: str, state: ViewState) -> dict[str, Any]:
-    """Findings: one server-side page of the filtered, sorted list, with its filter form."""
+    """Findings: one server-side page of the filtered, sorted list, with its filter form; each
+    value, limit and message in the view's units."""
     cat_dir = store.ready_dir(cat_id)
     page = queries.findings_page(cat_dir, state, decisions_of(store, cat_id)[1])
     aggs = queries.aggregates(cat_dir)
     query = state.to_query()
     prev_state = state.with_(offset=max(0, state.offset - state.limit))
     next_state = state.with_(offset=state.offset + state.limit)
+    items = [finding_shown(f, state.display) for f in page["items"]]
     return {
         "screen": "findings", "catalogue": store.get(cat_id).to_json(), "state": state,
-        "page": page, "query": query, "default_query": "sort=severity",
+        "page": {**page, "items": items}, "query": query, "default_query": "sort=severity",
         "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/findings" + (f"?{query}" if query
                                                                           else ""),
-        "rule_options": sorted(r["rule"] for r in aggs["rules"]),
+        "rule_options": [(r["rule"], _rule_option(r)) for r in
+                         sorted(rules_summary(aggs["rules"]), key=lambda r: r["rule"])],
         "label_options": sorted(lb["label"] for lb in aggs["labels"] if lb["label"] is not None),
         "family_options": sorted(f["family"] for f in aggs["families"] if f["family"]),
-        "sort_options": [(k, k.lstrip("_")) for k in SORT_KEYS] +
-                        [(f"-{k}", f"{k.lstrip('_')} (descending)") for k in SORT_KEYS],
+        "sort_groups": sort_groups(), "region": describe(state),
         "prev_href": cat_url(cat_id, "findings", state=prev_state) if state.offset else None,
         "next_href": (cat_url(cat_id, "findings", state=next_state)
                       if state.offset + state.limit < page["total"] else None),
-        "export_csv": _export_url(cat_id, "csv", state),
-        "export_parquet": _export_url(cat_id, "parquet", state),
+        "export_csv": _export_url(cat_id, "findings", "csv", state),
+        "export_parquet": _export_url(cat_id, "findings", "parquet", state),
+        "groups_href": cat_url(cat_id, "findings", "groups", state=_group_state(state)),
         "decide_url": f"/api/catalogues/{quote(cat_id, safe='')}/decisions",
         "undecided_toggle": cat_url(cat_id, "findings", state=state.with_(
             undecided=not state.undecided, offset=0)),
     }
 
 
-def _export_url(cat_id: str, fmt: str, state: ViewState) -> str:
-    """The API export of every filtered finding (no paging)."""
+def _group_state(state: ViewState) -> ViewState:
+    """The filters that carry over between the list and its groups."""
+    return ViewState(severity=state.severity, rule=state.rule, label=state.label,
+                     family=state.family, units=state.units, unit=state.unit)
+
+
+def _rule_option(rule: dict[str, Any]) -> str:
+    """A rule in the filter's drop-down: its id and its findings at each severity."""
+    counts = ", ".join(f"{n:,} {s}" for s, n in rule["counts"].items())
+    return f"{rule['rule']} ({counts})"
+
+
+def _export_url(cat_id: str, what: str, fmt: str, state: ViewState) -> str:
+    """The API export of every filtered finding or body (no paging)."""
     query = state.with_(offset=0, limit=ViewState.limit).to_query()
-    path = f"/api/catalogues/{quote(cat_id, safe='')}/findings.{fmt}"
+    path = f"/api/catalogues/{quote(cat_id, safe='')}/{what}.{fmt}"
     return f"{path}?{query}" if query else path
 
 
 @router.get("/catalogues/{catalogue_id}/findings", response_class=HTMLResponse)
-def findings_screen(request: Request, catalogue_id: str, store: StoreDep) -> HTMLResponse:
+def findings_screen(request: Request, catalogue_id: str, store: StoreDep) -> Response:
     """Findings list: filters, sort, pages, exports."""
+    if (clean := blanks_dropped(request)) is not None:
+        return clean
     state = ViewState.from_query(request.query_params)
     return _render(request, "findings.html", **findings_context(store, catalogue_id, state),
                    who=who(request))
@@ -165,7 +254,11 @@ def diagrams_context(store: Store, cat_id: str, state: ViewState) -> dict[str, A
     """Distributions and the other diagrams: one plotly figure from the stored aggregates."""
     cat_dir = store.ready_dir(cat_id)
     context = diagram_context(cat_id, queries.aggregates(cat_dir), state, cat_url)
+    selection = {"diagram": context["diagram"], "label": context["label"],
+                 "field": context["field"], "findings": cat_url(cat_id, "findings"),
+                 "bodies": cat_url(cat_id, "bodies")}
     return {**context, "screen": "diagrams", "catalogue": store.get(cat_id).to_json(),
+            "selection": selection, "state": state, "units_menu": False,
             "drawn": drawn_marks(context["figure"]),
             "query": state.to_query(), "default_query": f"diagram={context['diagram']}",
             "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/aggregates"}
@@ -178,17 +271,24 @@ def diagrams_screen(request: Request, catalogue_id: str, store: StoreDep) -> HTM
     return _render(request, "diagrams.html", **diagrams_context(store, catalogue_id, state))
 
 
-def body_context(store: Store, cat_id: str, body_id: str) -> dict[str, Any]:
-    """Body: every field (original and SI), derived quantities, findings, its system drawn."""
+def body_context(store: Store, cat_id: str, body_id: str, asked: ViewState | None = None
+                 ) -> dict[str, Any]:
+    """Body: every field (in display units, SI on hover, and as given), derived quantities that
+    apply, findings, its system drawn."""
     cat_dir = store.ready_dir(cat_id)
     manifest = store.get(cat_id)
     detail = queries.body_detail(cat_dir, body_id, manifest.mapping,
                                  decisions_of(store, cat_id)[1])
-    state = ViewState(body=body_id)
-    return {"screen": "body", "catalogue": manifest.to_json(), "body": detail,
+    state = (asked or ViewState()).with_(body=body_id)
+    findings = [finding_shown(dict(f), state.display) for f in detail["findings"]]
+    extras = body_extras(detail, manifest.mapping, state.display)
+    parent = next((f["value"] for f in detail["fields"] if f["field"] == "parent"), None)
+    parent_name = (detail["system"]["parent"] or {}).get("name") if parent else None
+    return {"screen": "body", "catalogue": manifest.to_json(), "state": state,
+            "body": {**detail, "findings": findings}, "parent_name": parent_name,
             "query": state.to_query(), "default_query": state.to_query(),
             "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/bodies/"
-                        f"{quote(body_id, safe='')}", **body_extras(detail, manifest.mapping),
+                        f"{quote(body_id, safe='')}", **extras,
             "decide_url": f"/api/catalogues/{quote(cat_id, safe='')}/decisions"}
 
 
@@ -196,7 +296,8 @@ def body_context(store: Store, cat_id: str, body_id: str) -> dict[str, Any]:
 def body_screen(request: Request, catalogue_id: str, body_id: str,
                 store: StoreDep) -> HTMLResponse:
     """One body and its system."""
-    return _render(request, "body.html", **body_context(store, catalogue_id, body_id),
+    state = ViewState.from_query(request.query_params)
+    return _render(request, "body.html", **body_context(store, catalogue_id, body_id, state),
                    who=who(request))
 
 
@@ -206,16 +307,24 @@ def _view_context(store: Store, view: SavedView) -> tuple[str, dict[str, Any], s
     state = ViewState.from_query(view.query)
     cat_id, query = view.catalogue, view.query.lstrip("?")
     if state.body:
-        return ("body.html", body_context(store, cat_id, state.body),
+        return ("body.html", body_context(store, cat_id, state.body, state),
                 cat_url(cat_id, "bodies", state.body))
+    if state.screen in SCREENS:
+        template, build, parts = SCREENS[state.screen]
+        return template, build(store, cat_id, state), f"{cat_url(cat_id, *parts)}?{query}"
     if state.diagram:
         return ("diagrams.html", diagrams_context(store, cat_id, state),
                 f"{cat_url(cat_id, 'diagrams')}?{query}")
     if query:
         return ("findings.html", findings_context(store, cat_id, state),
                 f"{cat_url(cat_id, 'findings')}?{query}")
-    context = {**overview_context(store, store.get(cat_id)), "families_all": FAMILIES}
+    context = {**overview_context(store, store.get(cat_id), state), "families_all": FAMILIES}
     return "overview.html", context, cat_url(cat_id)
+
+
+# Screens a saved view opens by its ``screen=`` (set when it was saved there): the template,
+# the context builder (store, catalogue, state) and the screen's path below the catalogue.
+SCREENS: dict[str, tuple[str, Any, tuple[str, ...]]] = {}
 
 
 @router.get("/v/{slug}", response_class=HTMLResponse)
@@ -238,7 +347,9 @@ def report_download(request: Request, catalogue_id: str, store: StoreDep) -> HTM
     decisions = decisions_of(store, catalogue_id)[1]
     page = queries.findings_page(cat_dir, state.with_(limit=min(state.limit * 10, 500)),
                                  decisions)
-    body = report.build_report(templates.env, manifest.to_json(), state, aggs, figures, page,
+    page = {**page, "items": [finding_shown(f, state.display) for f in page["items"]]}
+    body = report.build_report(templates.env, manifest.to_json(), state,
+                               {**aggs, "rules": rules_summary(aggs["rules"])}, figures, page,
                                triage_counts(cat_dir, decisions))
     name = f"bodycensus-{catalogue_id}-report.html"
     return HTMLResponse(body, headers={"Content-Disposition": f'attachment; filename="{name}"'})
@@ -247,11 +358,16 @@ def report_download(request: Request, catalogue_id: str, store: StoreDep) -> HTM
 
 def systems_context(store: Store, cat_id: str, state: ViewState) -> dict[str, Any]:
     """Systems: one server-side page of the systems, most serious first, filtered by worst."""
-    page = queries.systems_page(store.ready_dir(cat_id), state)
+    cat_dir = store.ready_dir(cat_id)
+    page = queries.systems_page(cat_dir, state)
+    names = names_for(cat_dir, [i for item in page["items"]
+                                for i in (item["primary"], item["worst_body"]) if i])
     query = state.with_(sort=ViewState.sort).to_query()
     prev_state = state.with_(offset=max(0, state.offset - state.limit))
     next_state = state.with_(offset=state.offset + state.limit)
     items = [{**item, "href": cat_url(cat_id, "systems", item["system"]),
+              "primary_name": names.get(item["primary"] or ""),
+              "worst_name": names.get(item["worst_body"] or ""),
               "worst_href": (cat_url(cat_id, "bodies", item["worst_body"])
                              if item["worst_body"] is not None else None),
               "primary_href": (cat_url(cat_id, "bodies", item["primary"])
@@ -267,8 +383,10 @@ def systems_context(store: Store, cat_id: str, state: ViewState) -> dict[str, An
 
 
 @router.get("/catalogues/{catalogue_id}/systems", response_class=HTMLResponse)
-def systems_screen(request: Request, catalogue_id: str, store: StoreDep) -> HTMLResponse:
+def systems_screen(request: Request, catalogue_id: str, store: StoreDep) -> Response:
     """Systems list: worst severity first, with a filter by worst severity and pages."""
+    if (clean := blanks_dropped(request)) is not None:
+        return clean
     state = ViewState.from_query(request.query_params)
     return _render(request, "systems.html", **systems_context(store, catalogue_id, state))
 
@@ -276,13 +394,19 @@ def systems_screen(request: Request, catalogue_id: str, store: StoreDep) -> HTML
 @router.get("/catalogues/{catalogue_id}/systems/{system:path}", response_class=HTMLResponse)
 def system_screen(request: Request, catalogue_id: str, system: str,
                   store: StoreDep) -> HTMLResponse:
-    """One system: its bodies as an indented tree, each with its worst severity, and its
-    findings per rule, each group with its triage decision."""
+    """One system: its bodies as an indented tree, each with its worst severity, masses,
+    radii and orbits in display units (SI on hover), and its findings per rule, each group
+    with its triage decision; its JSON twin is linked."""
+    state = ViewState.from_query(request.query_params)
     cat_dir = store.ready_dir(catalogue_id)
     detail = queries.system_detail(cat_dir, system)
-    bodies = [{**row, "href": cat_url(catalogue_id, "bodies", row["id"])}
-              for row in detail["bodies"]]
-    groups = system_groups(cat_dir, decisions_of(store, catalogue_id)[1], system)
+    bodies = [{**row_shown(dict(row), ("mass", "radius", "semi_major_axis"), state.display),
+               "href": cat_url(catalogue_id, "bodies", row["id"])} for row in detail["bodies"]]
+    by_rule = system_groups(cat_dir, decisions_of(store, catalogue_id)[1], system)
+    query = state.to_query()
     return _render(request, "system.html", screen="systems", system={**detail, "bodies": bodies},
-                   catalogue=store.get(catalogue_id).to_json(), groups=groups, who=who(request),
-                   decide_url=f"/api/catalogues/{quote(catalogue_id, safe='')}/decisions")
+                   catalogue=store.get(catalogue_id).to_json(), groups=by_rule, who=who(request),
+                   decide_url=f"/api/catalogues/{quote(catalogue_id, safe='')}/decisions",
+                   state=state, query=query,
+                   json_url=f"/api/catalogues/{quote(catalogue_id, safe='')}/systems/"
+                            f"{quote(system, safe='')}")

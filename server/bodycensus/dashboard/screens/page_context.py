@@ -24,13 +24,17 @@ from bodycensus.dashboard.screens.shapes import (
     SystemAround,
     column_mapping,
 )
+from bodycensus.dashboard.screens.shown import field_shown, quantity_shown
 from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.diagrams import registry
 from bodycensus.diagrams.shapes import Artefact, Choice
 from bodycensus.diagrams.system_plot import system_figures
-from bodycensus.input.schema import CANONICAL_FIELDS
+from bodycensus.input.schema import CANONICAL_FIELDS, ROW_NUMBERS
 from bodycensus.input.sniff import ProposalRecord
-from bodycensus.science.families import FAMILIES
+from bodycensus.science.display_units import FAMILY_UNITS, FIELD_QUANTITIES, DisplayChoice
+from bodycensus.science.families import FAMILIES, explain_family
+from bodycensus.science.rules import all_rules
+from bodycensus.science.severity import SEVERITIES
 from bodycensus.science.units import UNITS
 
 CatUrl = Callable[..., str]
@@ -84,33 +88,102 @@ def diagram_context(cat_id: str, aggs: Mapping[str, Any], state: ViewState,
     }
 
 
-def mapping_context(proposal: ProposalRecord) -> MappingContext:
-    """The mapping step: each column with samples and its guessed field and unit."""
+def mapping_context(proposal: ProposalRecord, preset: Mapping[str, Any] | None = None
+                    ) -> MappingContext:
+    """The mapping step: each column with samples and its guessed (or preset) field and unit,
+    the id's column (or the row numbers), and each label's family with why it was guessed and
+    what the family ``unknown`` turns off."""
     by_column = {c["column"]: c for c in proposal["mapping"]["choices"].values()}
+    chosen = dict((preset or {}).get("map") or {})
+    units = dict((preset or {}).get("units") or {})
+    field_of = {column: field for field, column in chosen.items() if field != "id"} if preset \
+        else {c: by_column[c]["field"] for c in by_column if by_column[c]["field"] != "id"}
     rows: list[MappingRow] = [
         {"column": column, "samples": proposal["samples"].get(column, []),
-         "field": by_column[column]["field"] if column in by_column else None,
-         "unit": by_column[column]["unit"] if column in by_column else None,
-         "ambiguous": column in by_column and by_column[column]["ambiguous"]}
+         "field": field_of.get(column),
+         "unit": units.get(field_of.get(column) or "") if preset else
+         (by_column[column]["unit"] if column in by_column else None),
+         "ambiguous": not preset and column in by_column and by_column[column]["ambiguous"]}
         for column in proposal["columns"]]
-    return {"proposal": proposal, "mapping_rows": rows, "fields": CANONICAL_FIELDS,
-            "units": list(UNITS), "families_all": FAMILIES,
-            "label_families": sorted(proposal["families"].items())}
+    id_choice = proposal["mapping"]["choices"].get("id")
+    id_column = chosen.get("id") if preset else (id_choice["column"] if id_choice else None)
+    families = dict((preset or {}).get("families") or {})
+    labels = [{"label": label, "family": families.get(label, family),
+               "why": explain_family(label)[1] if label not in families else "saved preset"}
+              for label, family in sorted(proposal["families"].items())]
+    return {"proposal": proposal, "mapping_rows": rows,
+            "fields": tuple(f for f in CANONICAL_FIELDS if f != "id"), "units": list(UNITS),
+            "families_all": FAMILIES, "label_families": [(r["label"], r["family"])
+                                                         for r in labels],
+            "label_rows": labels, "id_column": id_column, "row_numbers": ROW_NUMBERS,
+            "unknown_turns_off": unknown_turns_off()}
 
 
-def artefact_rows(cat_id: str, artefacts: list[Artefact], cat_url: CatUrl
-                  ) -> list[ArtefactRow]:
-    """Artefacts with where they are, in words, and a link to their distribution diagram."""
+def unknown_turns_off() -> list[str]:
+    """The rules a body of family ``unknown`` is not checked by (they need a composition)."""
+    banded = {"family-density", "unit-slip"}  # need the family's density band
+    return sorted({r.id for r in all_rules() if r.families is not None and
+                   "unknown" not in r.families} | banded)
+
+
+def rules_summary(rules: list[Mapping[str, Any]]) -> list[dict[str, Any]]:
+    """One entry per rule from the aggregates' (rule, severity, count) rows: its count at each
+    severity, its total and its most serious severity; most serious first, then most findings."""
+    merged: dict[str, dict[str, Any]] = {}
+    for r in rules:
+        entry = merged.setdefault(r["rule"], {"rule": r["rule"], "counts": {}, "total": 0})
+        entry["counts"][r["severity"]] = entry["counts"].get(r["severity"], 0) + r["count"]
+        entry["total"] += r["count"]
+    for entry in merged.values():
+        entry["counts"] = {s: entry["counts"][s] for s in SEVERITIES if s in entry["counts"]}
+        entry["worst"] = next(iter(entry["counts"]))
+    return sorted(merged.values(), key=lambda e: (SEVERITIES.index(e["worst"]), -e["total"],
+                                                  e["rule"]))
+
+
+def artefact_rows(cat_id: str, artefacts: list[Artefact], cat_url: CatUrl,
+                  label_families: Mapping[str, str] | None = None,
+                  choice: DisplayChoice = FAMILY_UNITS) -> list[ArtefactRow]:
+    """Artefacts with where they are, in words and in the unit of their family (SI on hover),
+    and a link to their distribution diagram. An artefact found in a family that is also found,
+    at the same place, in the family's one label is listed once, saying it was found in both."""
+    families = dict(label_families or {})
     rows: list[ArtefactRow] = []
-    for a in artefacts:
-        n = format_number
-        where = (f"{n(a.get('low'))} – {n(a.get('high'))}" if a.get("kind") == "gap"
-                 else f"at {n(a.get('at'))}")
-        label = a.get("label")
+    for a in _merge_family_twins(artefacts, families):
+        label, family = a.get("label"), a.get("label")
+        if a.get("scope") == "label":
+            family = families.get(label or "")
+        quantity = FIELD_QUANTITIES.get(a.get("field") or "")
+        ends = [quantity_shown(a.get(k), quantity, family, choice) for k in ("low", "high", "at")]
+        low, high, at = ends
+        where = (f"{low['text']} – {high['text']} {high['unit']}" if a.get("kind") == "gap"
+                 else f"at {at['text']} {at['unit']}").strip()
         state = ViewState(diagram="distributions", field=a.get("field"),
                           label=(label,) if a.get("scope") == "label" and label else ())
-        rows.append({**a, "where": where, "href": cat_url(cat_id, "diagrams", state=state)})
+        rows.append({**a, "where": where, "si": " – ".join(e["si"] for e in ends if e["si"]),
+                     "href": cat_url(cat_id, "diagrams", state=state)})
     return rows
+
+
+def _merge_family_twins(artefacts: list[Artefact], families: Mapping[str, str]
+                        ) -> list[Artefact]:
+    """Artefacts with each family-wide twin of a label's artefact folded into the label's row:
+    the detector scans every label and every family, so a family with one label finds the same
+    edge twice; ``also`` says so instead of a second row."""
+    def place(a: Artefact) -> tuple[Any, ...]:
+        return a.get("field"), a.get("kind"), *(None if a.get(k) is None else
+                                                 float(f"{a.get(k):.6g}")
+                                                 for k in ("at", "low", "high"))
+    by_label = {(families.get(a.get("label") or ""), *place(a)): a for a in artefacts
+                if a.get("scope") == "label"}
+    out: list[Artefact] = []
+    for a in artefacts:
+        twin = by_label.get((a.get("label"), *place(a))) if a.get("scope") == "family" else None
+        if twin is None:
+            out.append(a)
+            continue
+        cast(ArtefactRow, twin)["also"] = f"also found across family {a.get('label')}"
+    return out
 
 
 def _relatives(system: SystemAround) -> list[RelativeRow]:
@@ -128,18 +201,68 @@ def file_columns(detail: BodyDetail, mapping: Mapping[str, Any] | None) -> dict[
     return {k: v for k, v in (detail.get("extra") or {}).items() if k in unknown}
 
 
-def body_extras(detail: BodyDetail, mapping: Mapping[str, Any] | None) -> BodyExtras:
-    """Body screen extras: name, label, worst severity, derived rows, relatives, drawings."""
+# Derived quantities of an orbit: they apply only to a body with a parent.
+ORBIT_DERIVED = frozenset({
+    "periapsis", "apoapsis", "parent_mass", "parent_radius", "parent_density", "parent_family",
+    "roche_rigid", "roche_fluid", "hill_radius", "parent_hill_radius", "stable_hill_limit",
+    "kepler_period", "period_ratio", "barycentre_offset", "tidal_lock_time", "roche_x",
+    "roche_y", "hill_ratio"})
+_PARENT_SIDE = ("parent_mass", "parent_radius", "parent_density")
+
+
+def derived_rows(derived: Mapping[str, Any], family: str | None, has_parent: bool,
+                 choice: DisplayChoice, orbit: float | None = None
+                 ) -> tuple[list[dict[str, Any]], list[str]]:
+    """The derived quantities a body has, in display units (its distances in the unit of its
+    ``orbit``, the semi-major axis), and one sentence per group of those hidden: the orbit's
+    when it has no parent, the others' when their inputs are missing."""
+    parent_family = derived.get("parent_family")
+    rows, missing = [], []
+    for name, value in derived.items():
+        if name in ORBIT_DERIVED and not has_parent:
+            continue
+        if value is None:
+            missing.append(name)
+            continue
+        whose = parent_family if name in _PARENT_SIDE else family
+        size = orbit if FIELD_QUANTITIES.get(name) == "distance" else None
+        shown = field_shown(name, value, whose, choice, size)
+        unit = shown["unit"] or DERIVED_UNITS.get(name, "")
+        rows.append({"name": name, "value": value, "text": shown["text"],
+                     "unit": "" if unit == "1" else unit, "si": shown["si"]})
+    notes = []
+    if not has_parent:
+        notes.append("It orbits no body in this catalogue (no parent), so the quantities of an "
+                     "orbit (periapsis, Roche limits, Hill radius, Kepler period, ...) do not "
+                     "apply and are not listed.")
+    if missing:
+        notes.append("Not computed for want of the values they need (see the fields above): "
+                     + ", ".join(missing) + ".")
+    return rows, notes
+
+
+def body_extras(detail: BodyDetail, mapping: Mapping[str, Any] | None,
+                choice: DisplayChoice = FAMILY_UNITS) -> BodyExtras:
+    """Body screen extras: name, label, worst severity, fields and derived rows in display
+    units, relatives, drawings."""
     fields = {f["field"]: f["value"] for f in detail["fields"]}
+    family = fields.get("family")
     figures, default, caption = system_figures(detail)
     system: SystemAround = detail.get("system") or {"parent": None, "siblings": [],
                                                       "children": []}
+    derived, notes = derived_rows(detail["derived"], family, fields.get("parent") is not None,
+                                  choice, fields.get("semi_major_axis"))
+    relatives = [{**r, "shown": field_shown("semi_major_axis", r.get("semi_major_axis"),
+                                             r.get("family"), choice)}
+                 for r in _relatives(system)]
     return {
-        "name": fields.get("name"), "label": fields.get("label"), "family": fields.get("family"),
+        "name": fields.get("name"), "label": fields.get("label"), "family": family,
         "worst": detail["findings"][0]["severity"] if detail["findings"] else None,
-        "derived": [{"name": k, "value": v, "unit": DERIVED_UNITS.get(k, "")}
-                    for k, v in detail["derived"].items()],
-        "relatives": _relatives(system), "file_columns": file_columns(detail, mapping),
+        "derived": derived, "derived_notes": notes,
+        "fields_shown": {f["field"]: field_shown(f["field"], f["value"], family, choice)
+                         for f in detail["fields"]},
+        "relatives": cast(list[RelativeRow], relatives),
+        "file_columns": file_columns(detail, mapping),
         "relatives_capped": max(len(system["siblings"]), len(system["children"]))
                             >= MAX_RELATIVES,
         "system_figures": figures, "system_default": default, "system_caption": caption,

@@ -14,6 +14,8 @@ from typing import Any, Literal, cast
 
 import polars as pl
 
+from bodycensus.dashboard.screens import tables
+from bodycensus.dashboard.screens.regions import region_filter
 from bodycensus.dashboard.screens.shapes import (
     MAX_RELATIVES,
     BodyDetail,
@@ -46,6 +48,8 @@ from bodycensus.storage.triage import undecided, with_decisions
 __all__ = ["ViewState", "aggregates", "artefacts", "body_detail", "coverage", "export_findings",
            "findings_page", "overview", "system_detail", "systems_page"]
 
+EXPORT_ORDER = ("body", "name", "system", "parent", "rule", "severity", "value", "limit", "unit",
+                "margin", "message", "source", "label", "family", "_row")
 _SYSTEM_COLUMNS = ("id", "name", "label", "family", "parent", "mass", "radius",
                    "semi_major_axis", "eccentricity", "periapsis", "apoapsis", "roche_rigid",
                    "roche_fluid", "hill_radius", "ring_inner_edge", "ring_outer_edge",
@@ -74,10 +78,15 @@ def _filters(state: ViewState) -> list[pl.Expr]:
 def filtered_findings(cat_dir: Path, state: ViewState, decisions: Sequence[Decision] = ()
                       ) -> pl.LazyFrame:
     """The findings that pass the view's filters, in the view's order, with the triage decision
-    that covers each (lazy); only the undecided ones when the view asks."""
+    that covers each (lazy); only the undecided ones when the view asks; a diagram's region
+    keeps the findings of the bodies drawn inside it."""
     lf = _scan(cat_dir, "findings")
     for expr in _filters(state):
         lf = lf.filter(expr)
+    region = region_filter(state)
+    if region is not None:
+        inside = tables.bodies(cat_dir).filter(region).select(pl.col("id").alias("body"))
+        lf = lf.join(inside, on="body", how="semi", maintain_order="left")
     lf = with_decisions(lf, decisions, lambda: scan_bodies(cat_dir))
     if state.undecided:
         lf = undecided(lf)
@@ -101,8 +110,12 @@ def findings_page(cat_dir: Path, state: ViewState, decisions: Sequence[Decision]
 def export_findings(cat_dir: Path, state: ViewState, fmt: Literal["csv", "parquet"],
                     dest: Path, decisions: Sequence[Decision] = ()) -> Path:
     """Write every filtered finding (no paging) to ``dest`` as CSV or Parquet, streaming, with
-    the columns of the decision that covers each."""
+    the columns of the decision that covers each, and each body's name, system and parent
+    beside its id."""
     lf = filtered_findings(cat_dir, state, decisions)
+    have = lf.collect_schema().names()
+    lf = lf.select([c for c in EXPORT_ORDER if c in have] +
+                   [c for c in have if c not in EXPORT_ORDER])
     if fmt == "csv":
         neutralise_formulas(lf).sink_csv(dest)
     else:

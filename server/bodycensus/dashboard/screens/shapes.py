@@ -5,7 +5,7 @@
 from __future__ import annotations
 
 from collections.abc import Mapping
-from typing import Any, TypedDict
+from typing import Any, NotRequired, TypedDict
 
 from bodycensus.diagrams.shapes import Artefact, CoverageRow, Figure
 from bodycensus.input.sniff import ProposalRecord
@@ -31,6 +31,9 @@ class Finding(TypedDict):
     decision_note: str | None
     decided_by: str | None
     decided_at: str | None
+    name: NotRequired[str | None]
+    system: NotRequired[str | None]
+    parent: NotRequired[str | None]
 
 
 class FindingsPage(TypedDict):
@@ -206,7 +209,8 @@ class MappingRow(TypedDict):
 
 
 class MappingContext(TypedDict):
-    """The mapping step: the proposal, a row per column and the choices offered."""
+    """The mapping step: the proposal, a row per column, the id's column, each label's family
+    with why, and the choices offered."""
 
     proposal: ProposalRecord
     mapping_rows: list[MappingRow]
@@ -214,13 +218,20 @@ class MappingContext(TypedDict):
     units: list[str]
     families_all: tuple[str, ...]
     label_families: list[tuple[str, str]]
+    label_rows: list[dict[str, str]]
+    id_column: str | None
+    row_numbers: str
+    unknown_turns_off: list[str]
 
 
 class ArtefactRow(Artefact):
-    """An artefact with where it is in words and a link to its distribution diagram."""
+    """An artefact with where it is in words (display units; SI on hover), a link to its
+    distribution diagram, and ``also`` when its family-wide twin was folded into it."""
 
     where: str
+    si: str
     href: str
+    also: NotRequired[str]
 
 
 class RelativeRow(Relative, total=False):
@@ -230,11 +241,13 @@ class RelativeRow(Relative, total=False):
 
 
 class DerivedRow(TypedDict):
-    """A derived quantity of a body with its unit."""
+    """A derived quantity of a body: its value (SI), as shown, its unit, and SI for hover."""
 
     name: str
     value: Any
+    text: str
     unit: str
+    si: str
 
 
 class BodyExtras(TypedDict):
@@ -246,6 +259,8 @@ class BodyExtras(TypedDict):
     family: Any
     worst: str | None
     derived: list[DerivedRow]
+    derived_notes: list[str]
+    fields_shown: dict[str, Any]
     relatives: list[RelativeRow]
     file_columns: dict[str, Any]
     relatives_capped: bool

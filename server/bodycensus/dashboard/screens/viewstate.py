@@ -15,17 +15,28 @@ from typing import Any, cast
 from urllib.parse import parse_qsl, urlencode
 
 from bodycensus.errors import BadInput
+from bodycensus.science.display_units import DISPLAY_UNITS, DisplayChoice
 from bodycensus.science.severity import SEVERITIES
 
-SORT_KEYS: tuple[str, ...] = ("severity", "rule", "body", "label", "family", "value", "limit",
-                              "margin", "_row")
+SORT_KEYS: tuple[str, ...] = ("severity", "rule", "body", "name", "label", "family", "value",
+                              "limit", "margin", "_row")
+# The Bodies list's orders: the file's own by default, then body columns and the worst finding.
+ORDER_KEYS: tuple[str, ...] = ("_row", "id", "name", "label", "family", "system", "mass",
+                               "radius", "semi_major_axis", "worst", "findings")
+UNIT_SYSTEMS = ("family", "si")
 MAX_LIMIT = 1000
 _MAX_TEXT = 200
 _MAX_VALUES = 200
-_LISTS = ("severity", "rule", "label", "family")
+_LISTS = ("severity", "rule", "label", "family", "unit")
+_FILTER_LISTS = ("severity", "rule", "label", "family")
 _FLOATS = ("min_value", "max_value", "min_margin", "max_margin")
-_DIAGRAM = re.compile(r"^[a-z0-9_-]{1,64}$")
+_SLUGS = ("diagram", "region_of", "screen")
+_SLUG = re.compile(r"^[a-z0-9_-]{1,64}$")
 GROUPINGS = ("label", "system")  # the Triage screen's groups: a rule within a label or system
+_UNIT_PIN = re.compile(r"^(?P<dimension>[a-z]+):(?P<unit>[A-Za-z0-9_/]+)$")
+_NUMBER = r"-?\d+(?:\.\d+)?(?:[eE][+-]?\d+)?"
+_REGION = re.compile(rf"^{_NUMBER}(,{_NUMBER}){{1,3}}$")
+_LASSO = re.compile(rf"^{_NUMBER} {_NUMBER}(;{_NUMBER} {_NUMBER}){{2,99}}$")
 
 
 @dataclass(frozen=True)
@@ -48,6 +59,14 @@ class ViewState:
     field: str | None = None  # the field of the distribution diagram
     body: str | None = None  # the selected body
     by: str | None = None  # how the Triage screen groups findings: "label" (default), "system"
+    units: str = "family"  # family: each quantity in its family's unit; si: SI throughout
+    unit: tuple[str, ...] = ()  # one unit pinned per dimension, e.g. "mass:jupiter_mass"
+    q: str | None = None  # a search by id or name
+    region_of: str | None = None  # the diagram a selected region was drawn on
+    region: str | None = None  # its box in the diagram's coordinates: "x0,x1" or "x0,x1,y0,y1"
+    lasso: str | None = None  # or its lasso, "x y;x y;..." in the same coordinates
+    order: str = "_row"  # the Bodies list's order; a leading '-' sorts descending
+    screen: str | None = None  # the screen a saved view opens when its query alone cannot say
 
     @classmethod
     def from_query(cls, query: str | Mapping[str, Any] | Any) -> ViewState:
@@ -82,11 +101,32 @@ class ViewState:
         return self.sort.removeprefix("-"), self.sort.startswith("-")
 
     @property
+    def display(self) -> DisplayChoice:
+        """The units chosen for showing values (``units`` and ``unit`` in the URL)."""
+        return DisplayChoice(self.units, self.pinned_units)
+
+    def order_key(self) -> tuple[str, bool]:
+        """The Bodies list's column to sort by and whether descending."""
+        return self.order.removeprefix("-"), self.order.startswith("-")
+
+    @property
     def filters(self) -> dict[str, Any]:
         """The active filters only (for showing them as removable chips)."""
-        chosen = {k: getattr(self, k) for k in _LISTS + _FLOATS
+        chosen = {k: getattr(self, k) for k in _FILTER_LISTS + _FLOATS
                   if getattr(self, k) not in ((), None)}
         return {**chosen, "undecided": True} if self.undecided else chosen
+
+    @property
+    def finding_filters(self) -> bool:
+        """Whether any filter is on a finding (severity, rule, value, margin, undecided) rather
+        than a body's label, family or region."""
+        return bool(self.severity or self.rule or self.undecided) or any(
+            getattr(self, k) is not None for k in _FLOATS)
+
+    @property
+    def pinned_units(self) -> dict[str, str]:
+        """The units pinned per dimension (``unit=mass:jupiter_mass``)."""
+        return dict(pin.split(":", 1) for pin in self.unit)
 
 
 def _pairs(query: str | Mapping[str, Any] | Any) -> Iterable[tuple[str, str]]:
@@ -114,11 +154,18 @@ def _parse(key: str, raw: list[str]) -> Any:
     if key in ("limit", "offset"):
         return _parse_int(key, text, 1 if key == "limit" else 0, MAX_LIMIT if key == "limit"
                           else 10**12)
-    if key == "sort":
-        if text.removeprefix("-") not in SORT_KEYS:
-            raise BadInput(f"sort={text[:40]!r} is unknown; use one of {', '.join(SORT_KEYS)} "
+    if key in ("sort", "order"):
+        keys = SORT_KEYS if key == "sort" else ORDER_KEYS
+        if text.removeprefix("-") not in keys:
+            raise BadInput(f"{key}={text[:40]!r} is unknown; use one of {', '.join(keys)} "
                            "(prefix '-' for descending)")
         return text
+    if key == "units" and text not in UNIT_SYSTEMS:
+        raise BadInput(f"units={text[:40]!r} is unknown; use one of {', '.join(UNIT_SYSTEMS)}")
+    for name, pattern, example in (("region", _REGION, "region=0.1,2.5,-1,3"),
+                                   ("lasso", _LASSO, "lasso=0 0;1 0;1 1")):
+        if key == name and not pattern.match(text):
+            raise BadInput(f"{key}={text[:40]!r} must be numbers as in {example}")
     return _parse_text(key, text)
 
 
@@ -127,6 +174,9 @@ def _parse_list(key: str, raw: list[str]) -> tuple[str, ...]:
     if len(raw) > _MAX_VALUES:
         raise BadInput(f"{key}: at most {_MAX_VALUES} values")
     values = tuple(dict.fromkeys(_parse_text(key, v) for v in raw))
+    if key == "unit":
+        for pin in values:
+            _check_pin(pin)
     if key == "severity":
         unknown = [v for v in values if v not in SEVERITIES]
         if unknown:
@@ -162,11 +212,21 @@ def _parse_int(key: str, text: str, low: int, high: int) -> int:
 
 
 def _parse_text(key: str, text: str) -> str:
-    """A short string; diagram names are restricted to a slug."""
-    if len(text) > _MAX_TEXT:
-        raise BadInput(f"{key}: at most {_MAX_TEXT} characters")
-    if key == "diagram" and not _DIAGRAM.match(text):
-        raise BadInput(f"diagram={text[:40]!r} must be lower-case letters, digits, '-' or '_'")
+    """A short string; diagram and screen names are restricted to a slug."""
+    limit = 4000 if key == "lasso" else _MAX_TEXT
+    if len(text) > limit:
+        raise BadInput(f"{key}: at most {limit} characters")
+    if key in _SLUGS and not _SLUG.match(text):
+        raise BadInput(f"{key}={text[:40]!r} must be lower-case letters, digits, '-' or '_'")
     if key == "by" and text not in GROUPINGS:
         raise BadInput(f"by={text[:40]!r} is unknown; use one of {', '.join(GROUPINGS)}")
     return text
+
+
+def _check_pin(pin: str) -> None:
+    """A unit pinned to a dimension must be a unit of that dimension."""
+    match = _UNIT_PIN.match(pin)
+    unit = DISPLAY_UNITS.get(match["unit"]) if match else None
+    if match is None or unit is None or unit.dimension != match["dimension"]:
+        raise BadInput(f"unit={pin[:40]!r} must be dimension:unit of that dimension, e.g. "
+                       "unit=mass:jupiter_mass or unit=length:au")

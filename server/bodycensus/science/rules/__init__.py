@@ -22,3 +22,4 @@ def all_rules(orbit_settings: OrbitSettings | None = None) -> tuple[Rule, ...]:
 
 
 RULE_IDS: tuple[str, ...] = tuple(rule.id for rule in all_rules())
+RULES_BY_ID: dict[str, Rule] = {rule.id: rule for rule in all_rules()}

@@ -74,8 +74,8 @@ def _duplicate_id() -> Rule:
 def _orphan_parent() -> Rule:
     return Rule(
         id="orphan-parent", title="The parent named is not in the catalogue", severity="error",
-        source=_DATA, needs=("parent",), value=_NONE, limit=_NONE, unit="", direction="none",
-        fires=pl.col("_parent_exists").is_null(),
+        source=_DATA, needs=(), value=_NONE, limit=_NONE, unit="", direction="none",
+        fires=pl.col("parent").is_not_null() & pl.col("_parent_exists").is_null(),
         message=pl.format("parent '{}' is not in the catalogue", pl.col("parent")), scope="error",
     )
 
@@ -83,8 +83,8 @@ def _orphan_parent() -> Rule:
 def _parent_cycle() -> Rule:
     return Rule(
         id="parent-cycle", title="The chain of parents loops", severity="error", source=_DATA,
-        needs=("parent",), value=_NONE, limit=_NONE, unit="", direction="none",
-        fires=pl.col("_in_cycle"),
+        needs=(), value=_NONE, limit=_NONE, unit="", direction="none",
+        fires=pl.col("parent").is_not_null() & pl.col("_in_cycle"),
         message=pl.format("following parents from '{}' never reaches a root (loop via '{}')",
                           pl.col("id"), pl.col("parent")),
         scope="error",

@@ -1,0 +1,97 @@
+"""The Bodies list: every body of a catalogue, flagged or not, with the Findings list's filters
+(a body is listed when one of its findings passes the severity, rule, value and margin filters;
+its label, family and a diagram's region filter the body itself), an order and exports.
+
+Pages are slices of the table in the file's order (the engine stores bodies in its own order,
+so that is a sort on the row number too) or another order asked for; the worst severity and
+number of findings are looked up for the page's bodies only.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any, Literal, TypedDict
+
+import polars as pl
+
+from bodycensus.dashboard.screens import tables
+from bodycensus.dashboard.screens.regions import region_filter
+from bodycensus.dashboard.screens.viewstate import ViewState
+from bodycensus.science.severity import UNRANKED, name_expr
+from bodycensus.storage.csvsafe import neutralise_formulas
+from bodycensus.storage.store import json_ready
+
+LISTED = ("id", "name", "label", "family", "system", "parent", "mass", "radius",
+          "semi_major_axis", "eccentricity", "period", "_row")
+_FINDING_FILTERS = ("severity", "rule", "min_value", "max_value", "min_margin", "max_margin")
+
+
+class BodiesPage(TypedDict):
+    """One page of the filtered bodies."""
+
+    total: int
+    offset: int
+    limit: int
+    items: list[dict[str, Any]]
+
+
+def _flagged_by(cat_dir: Path, state: ViewState) -> pl.LazyFrame:
+    """The ids of bodies with a finding that passes the view's finding filters."""
+    lf = tables.findings(cat_dir)
+    exprs = [pl.col(col).is_in(list(values)) for col, values in
+             (("severity", state.severity), ("rule", state.rule)) if values]
+    for col, low, high in (("value", state.min_value, state.max_value),
+                           ("margin", state.min_margin, state.max_margin)):
+        exprs += [pl.col(col) >= low] if low is not None else []
+        exprs += [pl.col(col) <= high] if high is not None else []
+    return lf.filter(*exprs).select(pl.col("body").alias("id")).unique()
+
+
+def filtered_bodies(cat_dir: Path, state: ViewState, with_worst: bool = False
+                    ) -> pl.LazyFrame:
+    """The bodies passing the view's filters, in its order (lazy); with each body's worst
+    severity and number of findings when asked, or when the order needs them."""
+    lf = tables.bodies(cat_dir)
+    keep = [c for c in LISTED if c in lf.collect_schema()]
+    filters = [pl.col(c).is_in(list(v)) for c, v in (("label", state.label),
+                                                     ("family", state.family)) if v]
+    region = region_filter(state)
+    lf = lf.filter(*filters, *([region] if region is not None else [])) if filters or \
+        region is not None else lf
+    lf = lf.select(keep)
+    if state.finding_filters:
+        lf = lf.join(_flagged_by(cat_dir, state), on="id", how="semi", maintain_order="left")
+    key, descending = state.order_key()
+    if with_worst or key in ("worst", "findings"):
+        worst = tables.body_worst(cat_dir).select(pl.col("body").alias("id"), "_rank",
+                                                   "findings")
+        lf = (lf.join(worst, on="id", how="left", maintain_order="left")
+              .with_columns(pl.col("findings").fill_null(0),
+                            pl.col("_rank").fill_null(UNRANKED)))
+    by = "_rank" if key == "worst" else key
+    return lf.sort([by, "_row"], descending=[descending, False], nulls_last=True)
+
+
+def bodies_page(cat_dir: Path, state: ViewState) -> BodiesPage:
+    """One page of the filtered bodies, each with its worst severity and findings counted."""
+    lf = filtered_bodies(cat_dir, state)
+    total = int(lf.select(pl.len()).collect().item())
+    rows = lf.slice(state.offset, state.limit).collect()
+    worst = tables.worst_of(cat_dir, rows["id"].drop_nulls().to_list()) if rows.height else {}
+    items = [{**r, "worst": worst.get(r["id"], (None, 0))[0],
+              "findings": worst.get(r["id"], (None, 0))[1]} for r in rows.to_dicts()]
+    return {"total": total, "offset": state.offset, "limit": state.limit,
+            "items": json_ready(items)}
+
+
+def export_bodies(cat_dir: Path, state: ViewState, fmt: Literal["csv", "parquet"],
+                  dest: Path) -> Path:
+    """Write every filtered body (no paging), with its worst severity and number of findings,
+    to ``dest`` as CSV or Parquet, streaming; values in SI as stored."""
+    lf = (filtered_bodies(cat_dir, state, with_worst=True)
+          .with_columns(worst=name_expr("_rank")).drop("_rank"))
+    if fmt == "csv":
+        neutralise_formulas(lf).sink_csv(dest)
+    else:
+        lf.sink_parquet(dest)
+    return dest

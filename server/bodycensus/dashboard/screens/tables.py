@@ -1,0 +1,58 @@
+"""The tables of a checked catalogue as lazy frames, for the screens that filter bodies (the
+Bodies list, a diagram's selected region, search results): the one place on this side that
+knows where the engine put its bodies and findings, and where the name index lives.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import polars as pl
+
+from bodycensus.science.severity import SEVERITIES, rank_expr
+from bodycensus.storage.names import has_index, write_name_index
+
+
+def bodies(cat_dir: Path) -> pl.LazyFrame:
+    """Every body of the catalogue with the columns the run derived (lazy; filter it first)."""
+    return pl.scan_parquet(cat_dir / "bodies.parquet")
+
+
+def findings(cat_dir: Path) -> pl.LazyFrame:
+    """Every finding, in the list's stored order (lazy)."""
+    return pl.scan_parquet(cat_dir / "findings.parquet")
+
+
+def rows_of(cat_dir: Path, ids: list[str], columns: list[str]) -> pl.DataFrame:
+    """The first row of each of ``ids`` (a handful), with those of ``columns`` the table has."""
+    lf = bodies(cat_dir)
+    have = [c for c in columns if c in lf.collect_schema()]
+    if not ids:
+        return pl.DataFrame(schema={c: pl.String for c in have})
+    return (lf.filter(pl.col("id").is_in(ids)).select(have)
+            .unique("id", keep="first", maintain_order=True).collect())
+
+
+def worst_of(cat_dir: Path, ids: list[str]) -> dict[str, tuple[str, int]]:
+    """For each of ``ids`` with findings: its most serious severity and how many it has."""
+    if not ids:
+        return {}
+    found = (findings(cat_dir).filter(pl.col("body").is_in(ids)).group_by("body")
+             .agg(pl.col("severity").sort_by(rank_expr()).first(), pl.len().alias("n"))
+             .collect())
+    return {b: (s, n) for b, s, n in found.iter_rows()}
+
+
+def body_worst(cat_dir: Path) -> pl.LazyFrame:
+    """Per body with findings: its worst severity's rank (``_rank``) and its number of findings
+    (``findings``), a count per severity too (a pass over the findings, not the bodies)."""
+    return (findings(cat_dir).with_columns(_rank=rank_expr()).group_by("body")
+            .agg(pl.len().alias("findings"), pl.col("_rank").min(),
+                 *[(pl.col("severity") == s).sum().alias(s) for s in SEVERITIES]))
+
+
+def name_index(cat_dir: Path) -> Path:
+    """The folder holding the catalogue's name index, written now if an older run lacks it."""
+    if not has_index(cat_dir):
+        write_name_index(bodies(cat_dir), cat_dir)
+    return cat_dir
