@@ -117,6 +117,8 @@ TESTED_THROUGH: dict[str, str] = {
     "bodycensus.dashboard.routes.compare": "test_triage_api.py: the Compare screen and its JSON",
     "bodycensus.dashboard.routes.triage": "test_triage_api.py, test_security.py through the app",
     "bodycensus.dashboard.deps": "test_api.py: every route receives its store and settings",
+    "bodycensus.dashboard.routes.lists": "test_manage.py, test_pages.py and the browser tests",
+    "bodycensus.dashboard.routes.manage": "test_manage.py: rename, re-run, delete, presets",
     "bodycensus.dashboard.intake.uploads": "test_api_lifecycle.py, test_hostile_input.py upload",
     "bodycensus.dashboard.security.guard": "test_security.py, test_auth.py through the app",
     "bodycensus.demo.defects_body": "test_demo_planted.py checks every planted defect",
@@ -132,6 +134,7 @@ TESTED_THROUGH: dict[str, str] = {
     "bodycensus.progress": "a Protocol; test_ingest.py and test_local.py record progress calls",
     "bodycensus.science.rules.body": "test_rules.py through the rule registry (all_rules)",
     "bodycensus.science.rules.errors": "test_rules.py through the rule registry (all_rules)",
+    "bodycensus.science.rules.needs": "test_base.py and test_rules.py: coverage's why-skipped",
     "bodycensus.science.rules.statistics": "test_rules.py through the rule registry (all_rules)",
 }
 

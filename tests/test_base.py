@@ -80,7 +80,7 @@ def test_coverage_counts_judged_and_skipped_bodies_and_says_why() -> None:
     assert table.columns == ["rule", "title", "severity", "evaluated", "skipped", "why"]
     rows = {r["rule"]: r for r in table.iter_rows(named=True)}
     assert (rows["x-limit"]["evaluated"], rows["x-limit"]["skipped"]) == (3, 1)
-    assert rows["x-limit"]["why"] == "no x"
+    assert rows["x-limit"]["why"] == "1 without x"  # how many, and what they lack
     assert rows["giants"]["why"] == "no body of the families it applies to"
     assert (rows["all-y"]["evaluated"], rows["all-y"]["why"]) == (4, "")
 
@@ -88,7 +88,15 @@ def test_coverage_counts_judged_and_skipped_bodies_and_says_why() -> None:
 def test_why_names_columns_without_their_working_prefix() -> None:
     rule = _rule(needs=("_x",), value=pl.col("_x"))
     table = coverage(_context().with_columns(_x=pl.col("x")), [rule])
-    assert table["why"].to_list() == ["no x"]
+    assert table["why"].to_list() == ["1 without x"]
+
+
+def test_why_says_a_working_column_in_the_catalogues_terms() -> None:
+    """The engine's columns (``_a``, ``inner_apoapsis``) become what the catalogue lacks."""
+    context = _context().with_columns(_a=pl.col("x"), inner_apoapsis=pl.col("x"))
+    table = coverage(context, [_rule(needs=("_a", "inner_apoapsis"), value=pl.col("_a"))])
+    assert table["why"].to_list() == ["1 without a sibling further in; "
+                                      "1 without an orbit (semi-major axis)"]
 
 
 @pytest.mark.parametrize(("value", "text"), [

@@ -151,8 +151,32 @@ def test_over_neutron_star_max(tmp_path: Path) -> None:
     # Heaviest measured 2.35 M_sun (Romani et al. 2022); causal bound ~3 M_sun (memory).
     rows = [_remnant(i, "neutron_star", m * M_SUN, 12e3)
             for i, m in (("over3", 3.2), ("over23", 2.5), ("ok", 2.2))]
-    assert fired(run(rows, tmp_path), "over-neutron-star-max") == {
-        "over3": "impossible", "over23": "suspect"}
+    result = run(rows, tmp_path)
+    assert fired(result, "over-neutron-star-max") == {"over3": "impossible", "over23": "suspect"}
+    # each finding quotes, and measures its margin from, the limit of its own severity
+    found = {r["body"]: r for r in result.findings.filter(
+        pl.col("rule") == "over-neutron-star-max").to_dicts()}
+    assert found["over3"]["limit"] == pytest.approx(3.0) and found["over23"]["limit"] == \
+        pytest.approx(2.3)
+    assert found["over3"]["margin"] == pytest.approx((3.2 - 3.0) / 3.0)
+    assert found["over3"]["message"] == "mass 3.2 M_sun is above the limit 3 M_sun"
+    assert found["over23"]["message"] == "mass 2.5 M_sun is above the limit 2.3 M_sun"
+    rule = next(r for r in all_rules() if r.id == "over-neutron-star-max")
+    assert rule.severities == ("impossible", "suspect")
+    assert "memory" not in rule.source  # a citation only; provenance stays in the code
+
+
+def test_every_rule_names_each_severity_it_can_give(tmp_path: Path) -> None:
+    """A rule with a severity expression declares its other severities, so coverage and the
+    rule list show each; a finding never has a severity its rule does not declare."""
+    rows = [_remnant(i, "neutron_star", m * M_SUN, 12e3) for i, m in (("a", 3.2), ("b", 2.5))]
+    result = run(rows, tmp_path)
+    declared = {r.id: set(r.severities) for r in all_rules()}
+    for rule_id, severity in result.findings.select("rule", "severity").iter_rows():
+        assert severity in declared[rule_id], (rule_id, severity)
+    for rule in all_rules():
+        assert (rule.severity_expr is not None) == (len(rule.severities) > 1), rule.id
+        assert "from memory" not in rule.source and "memory)" not in rule.source, rule.id
 
 
 def test_under_hydrogen_burning(tmp_path: Path) -> None:
@@ -355,3 +379,18 @@ def test_a_parent_with_a_broken_eccentricity_gives_its_moons_no_hill_verdict(
     assert not result.findings.filter(pl.col("body") == "m").height
     hill = pl.read_parquet(result.bodies).filter(pl.col("id") == "m")["parent_hill_radius"]
     assert hill.to_list() == [None]  # not a negative radius
+
+
+def test_coverage_says_why_in_the_catalogues_terms(tmp_path: Path) -> None:
+    """Why-skipped names what a body lacks as the catalogue would say it, with how many; a
+    data-integrity check judges every row (a row without a bad cell or a parent passes)."""
+    rows = [SUN_LIKE, EARTH_LIKE, {**EARTH_LIKE, "id": "Q", "semi_major_axis": None},
+            {**EARTH_LIKE, "id": "R", "period": None, "_bad": "temperature"}]
+    coverage = {r["rule"]: r for r in run(rows, tmp_path).coverage.to_dicts()}
+    for rule in ("bad-cell", "orphan-parent", "parent-cycle"):
+        assert (coverage[rule]["evaluated"], coverage[rule]["skipped"]) == (4, 0), rule
+    assert coverage["kepler-mismatch"]["why"] == \
+        "2 without an orbital period and the parent's mass"
+    assert "1 without an orbit (semi-major axis)" in coverage["periapsis-inside-parent"]["why"]
+    assert not any("_" in (r["why"] or "").replace("black_hole", "")
+                   for r in coverage.values())  # no working column's name

@@ -87,6 +87,9 @@ class SyncClient:
     def delete(self, url: str, **kwargs: Any) -> httpx.Response:
         return self.request("DELETE", url, **kwargs)
 
+    def patch(self, url: str, **kwargs: Any) -> httpx.Response:
+        return self.request("PATCH", url, **kwargs)
+
 
 @contextmanager
 def asgi_client(app: FastAPI) -> Iterator[SyncClient]:

@@ -46,6 +46,8 @@ class CatalogueOut(BaseModel):
     summary: dict[str, Any] | None = None
     options: dict[str, Any] | None = None
     demo: bool = False
+    run: int = Field(1, description="1 for the upload's first run; each re-run adds one")
+    preset: str | None = Field(None, description="the mapping preset the run used, if any")
     url: str
 
 

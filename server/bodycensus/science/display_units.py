@@ -194,7 +194,9 @@ def resay(message: str | None, choice: DisplayChoice) -> str | None:
         target = choice.unit(quantity, None, value)
         return f"{short(to_unit(value, target))} {symbol(target)}".rstrip()
 
-    return _QUANTITY_TEXT.sub(swap, message)
+    # quoted text (a body's id or label) is the catalogue's own and stays as it is
+    parts = re.split(r"('[^']*')", message)
+    return "".join(p if p.startswith("'") else _QUANTITY_TEXT.sub(swap, p) for p in parts)
 
 
 def short(value: float | None) -> str:

@@ -88,7 +88,10 @@ class Rule:
         return (self.value - self.limit).abs() / self.limit.abs()  # two-sided: distance past
 
 
-def _findings_of(rule: Rule, context: pl.LazyFrame) -> pl.LazyFrame:
+_NAMING = ("name", "system", "parent")  # who a body is, carried into each of its findings
+
+
+def _findings_of(rule: Rule, context: pl.LazyFrame, naming: Sequence[pl.Expr]) -> pl.LazyFrame:
     severity = rule.severity_expr if rule.severity_expr is not None else pl.lit(rule.severity)
     body = pl.coalesce(pl.col("id"), pl.format("row {}", pl.col("_row")))
     return context.filter(rule.judged() & rule.firing().fill_null(False)).select(
@@ -104,9 +107,7 @@ def _findings_of(rule: Rule, context: pl.LazyFrame) -> pl.LazyFrame:
         pl.col("label"),
         pl.col("family"),
         pl.col("_row"),
-        pl.col("name"),
-        pl.col("system"),
-        pl.col("parent"),
+        *naming,
     )
 
 
@@ -114,7 +115,9 @@ def evaluate(context: pl.LazyFrame, rules: Sequence[Rule]) -> pl.LazyFrame:
     """All findings of all rules over the derived context, as one lazy frame."""
     if not rules:
         return pl.LazyFrame(schema=FINDING_SCHEMA)
-    return pl.concat([_findings_of(rule, context) for rule in rules], how="vertical")
+    have = context.collect_schema()
+    naming = [pl.col(c) if c in have else pl.lit(None, pl.String).alias(c) for c in _NAMING]
+    return pl.concat([_findings_of(rule, context, naming) for rule in rules], how="vertical")
 
 
 def coverage(context: pl.LazyFrame, rules: Sequence[Rule]) -> pl.DataFrame:
