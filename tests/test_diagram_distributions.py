@@ -53,7 +53,34 @@ def test_an_artefact_of_a_family_shows_for_its_labels(diagram: Any) -> None:
 
 def test_unknown_field_falls_back_to_the_first(diagram: Any) -> None:
     fig = distributions.figure(diagram, Choice(field="no-such-field"))
-    assert fig["layout"]["xaxis"]["title"]["text"].startswith("mass")
+    titles = [v["title"]["text"] for k, v in fig["layout"].items()
+              if k.startswith("xaxis") and v.get("title", {}).get("text")]
+    assert len(titles) == 1 and titles[0].startswith("mass")  # named once, bottom left
+
+
+def test_every_label_gets_a_panel_of_its_own_on_a_shared_axis(diagram: Any) -> None:
+    fig = distributions.figure(diagram, Choice(field="mass"))
+    series = diagram["fields"]["mass"]["series"]
+    steps = [t for t in fig["data"] if t.get("meta") is None]
+    assert len(steps) == len(series) > 1
+    assert len({t["xaxis"] for t in steps}) == len(series)  # one panel each
+    titles = {a["text"] for a in fig["layout"]["annotations"]}
+    assert {s["label"] for s in series} <= {t.replace("&lt;", "<").replace("&gt;", ">")
+                                             .replace("&amp;", "&") for t in titles}
+    axes = [v for k, v in fig["layout"].items() if k.startswith("xaxis")]
+    assert all(a.get("matches") == "x" for a in axes[1:])  # shared x
+    assert len({tuple(a["range"]) for a in axes}) == 1
+    # each mark says where it was found: the cutoff of Rocky world sits in that panel only
+    cutoffs = [s for s in fig["layout"]["shapes"] if s["name"] == "cutoff"]
+    rocky = next(i for i, s in enumerate(series) if s["label"] == "Rocky world")
+    assert [c["xref"] for c in cutoffs] == ["x" if rocky == 0 else f"x{rocky + 1}"]
+    assert cutoffs[0]["label"]["text"] == "cutoff (Rocky world)"
+
+
+def test_a_spike_is_named_with_its_label(diagram: Any) -> None:
+    fig = distributions.figure(diagram, Choice(field="radius"))
+    spike = _meta(fig, "artefact")[0]
+    assert spike["name"].startswith("spike in ") and spike["text"][0].startswith("spike (")
 
 
 def test_choices_offer_every_field_and_every_label(diagram: Any) -> None:

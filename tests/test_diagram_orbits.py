@@ -7,6 +7,7 @@ from typing import Any
 import pytest
 
 from bodycensus.diagrams import orbits
+from bodycensus.diagrams.plots import LIMIT_STYLE
 from bodycensus.diagrams.shapes import Choice
 
 
@@ -30,12 +31,28 @@ def test_orbit_histograms_include_their_reference_values(diagram: Any) -> None:
 
 def test_orbit_margins_have_hill_and_kepler_lines(diagram: Any) -> None:
     fig = orbits.figure(diagram, Choice())
-    refs = {t["name"]: t for t in fig["data"] if t.get("meta") == "reference"}
-    assert set(refs) == {"Hill radius", "stable prograde limit (circular)", "Kepler's third law",
-                         "kepler-mismatch tolerance (-5 %)", "kepler-mismatch tolerance (+5 %)"}
-    assert refs["kepler-mismatch tolerance (+5 %)"]["x"] == [5.0, 5.0]
+    lines = [t for t in fig["data"] if t.get("meta") == "reference"]
+    refs = {t["name"]: t for t in lines}
+    assert set(refs) == {"Hill radius (outside-hill-sphere beyond)",
+                         "stable prograde limit, circular (beyond-stable-hill beyond)",
+                         "Kepler's third law", "kepler-mismatch tolerance (+-5 %)"}
+    tolerance = [t["x"] for t in lines if t["name"].startswith("kepler-mismatch")]
+    assert sorted(tolerance) == [[-5.0, -5.0], [5.0, 5.0]]
+    assert [t["showlegend"] for t in lines if t["name"].startswith("kepler")] == [True, False]
     assert refs["Kepler's third law"]["xaxis"] == "x2"
-    assert refs["Hill radius"]["x"] == [0.0, 0.0]
+    assert refs["Hill radius (outside-hill-sphere beyond)"]["x"] == [0.0, 0.0]
+
+
+def test_one_line_style_means_one_thing_in_both_panels(diagram: Any) -> None:
+    """A law is thin solid grey; a rule's limit has its severity's colour and dash, the same
+    in either panel; no two meanings share a style."""
+    fig = orbits.figure(diagram, Choice())
+    style = {(t["line"]["color"], t["line"]["dash"]) for t in fig["data"]
+             if t.get("meta") == "reference"}
+    meanings = {line["meaning"] for panel in (diagram["hill"], diagram["kepler"])
+                for line in panel["lines"]}
+    assert meanings == {"reference", "impossible", "unstable", "suspect"}
+    assert style == {LIMIT_STYLE[m] for m in meanings} and len(style) == len(meanings)
 
 
 def test_the_tolerance_line_is_the_runs() -> None:

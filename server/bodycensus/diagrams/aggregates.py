@@ -23,8 +23,8 @@ from bodycensus.science.rules.base import FINDING_SCHEMA
 from bodycensus.science.rules.orbit import OrbitSettings
 from bodycensus.science.severity import SEVERITIES, rank
 
-VERSION = 3  # the shape of aggregates.json; 1 had no "version" and a key per panel; 2 lacked the
-# tidal-heating, remaining-life and rings diagrams
+VERSION = 4  # the shape of aggregates.json; 1 had no "version" and a key per panel; 2 lacked the
+# tidal-heating, remaining-life and rings diagrams; 3 drew density as a histogram per label
 
 
 class LabelCount(TypedDict):

@@ -1,5 +1,7 @@
-"""The density diagram: a histogram of bulk density per label, on bins of the label's own, with
-its family's plausible band (the rules' band at the label's median mass) shaded behind it.
+"""The density diagram: the bodies of one label by mass and bulk density (log-log), on bins of
+the label's own, under the two edges of its family's plausible band drawn at every mass (the
+band the ``family-density`` rule applies at each body's own mass, from the composition curves):
+what lies outside the edges is what the rule flags.
 """
 
 from __future__ import annotations
@@ -8,96 +10,132 @@ import math
 from collections.abc import Sequence
 from typing import Any, TypedDict
 
+import numpy as np
 import polars as pl
 
-from bodycensus.diagrams import binning
-from bodycensus.diagrams.base import BINS, BODY_RULES, Axis, Pending, Run, flagged_rows
+from bodycensus.diagrams.base import BODY_RULES, Axis, Pending, Run, flagged_rows
 from bodycensus.diagrams.plots import (
-    ACCENT,
-    bars,
+    LIMIT_STYLE,
     empty,
     flagged_traces,
+    heatmap,
     layout,
     log_ticks,
-    on_bars,
     text,
 )
 from bodycensus.diagrams.shapes import Choice, Choices, Figure, Flagged
+from bodycensus.science.display_units import DISPLAY_UNITS, FAMILY_UNITS, symbol
 from bodycensus.science.families import FAMILY_PARAMETERS
 from bodycensus.science.rules.bands import band_density
 
-DENSITY = Axis("density")
-AXES = (DENSITY,)
+MASS, DENSITY = Axis("mass"), Axis("density")
+AXES = (MASS, DENSITY)
 RULES = BODY_RULES
-BAND_REACH = 2.0  # decades of density beyond a label's data that its histogram may show
+BINS = 40  # per axis, per label
+BAND_REACH = 1.0  # decades of density beyond a label's data that its plane may show for the band
+GRID = 80  # masses at which the band's edges are drawn
 
 
-class DensitySeries(TypedDict):
-    """One label's histogram: its bins (log10 kg m-3), counts and its family's band there."""
+class BandEdges(TypedDict):
+    """A family's band at masses across the plane (log10 kg; log10 kg m-3, None past a curve)."""
+
+    x: list[float]
+    low: list[float | None]
+    high: list[float | None]
+
+
+class DensityPlane(TypedDict):
+    """One label's bodies on its mass-density plane: sparse counts [x bin, y bin, n]."""
 
     label: str
     family: str | None
-    median_mass: float | None
-    edges: list[float]
-    counts: list[int]
-    band: list[float] | None
+    x_edges: list[float]
+    y_edges: list[float]
+    cells: list[list[int]]
+    band: BandEdges | None
 
 
 class DensityAggregate(TypedDict):
-    """Every drawn label's histogram and the flagged bodies."""
+    """Every drawn label's plane and the flagged bodies."""
 
     flagged: list[Flagged]
-    series: list[DensitySeries]
+    series: list[DensityPlane]
 
 
-def label_band(family: str | None, median_mass: float | None) -> list[float] | None:
-    """The log10 plausible density band of a family at a label's median mass (None without)."""
+def band_edges(family: str | None, x_edges: Sequence[float]) -> BandEdges | None:
+    """The family's plausible band at ``GRID`` masses across ``x_edges`` (None without a band)."""
     params = FAMILY_PARAMETERS.get(family or "unknown")
-    if params is None or params.density_band is None:
+    if params is None or params.density_band is None or not x_edges:
         return None
-    band = band_density(params.density_band, median_mass)
-    return [math.log10(b) for b in band] if band else None
+    xs = np.linspace(x_edges[0], x_edges[-1], GRID).tolist()
+    low, high = [], []
+    for x in xs:
+        band = band_density(params.density_band, 10.0 ** x)
+        low.append(math.log10(band[0]) if band else None)
+        high.append(math.log10(band[1]) if band else None)
+    return {"x": xs, "low": low, "high": high}
 
 
-def label_edges(run: Run) -> dict[str, list[float]]:
-    """Log10 density bin edges per drawn label: its own data range, widened to show its
-    family's plausible band (at most ``BAND_REACH`` decades beyond the data)."""
-    ranges, out = run.label_ranges.get(DENSITY, {}), {}
-    info = {r["label"]: r for r in run.labels.iter_rows(named=True)}
+def _edges(run: Run) -> dict[str, tuple[list[float], list[float]]]:
+    """Per drawn label: its mass bins and its density bins, widened to show its band."""
+    out = {}
+    families = {r["label"]: r["family"] for r in run.labels.iter_rows(named=True)}
     for label in run.top:
-        low, high = ranges.get(label, (None, None))
-        if low is None or high is None:
+        x_lo, x_hi = run.label_ranges.get(MASS, {}).get(label, (None, None))
+        y_lo, y_hi = run.label_ranges.get(DENSITY, {}).get(label, (None, None))
+        if None in (x_lo, x_hi, y_lo, y_hi):
             continue
-        band = label_band(info[label]["family"], info[label]["median_mass"])
-        if band:
-            low = min(low, max(band[0], low - BAND_REACH))
-            high = max(high, min(band[1], high + BAND_REACH))
-        out[label] = binning.edges(low, high, BINS)
+        assert x_lo is not None and x_hi is not None and y_lo is not None and y_hi is not None
+        x_edges = _span(x_lo, x_hi)
+        band = band_edges(families.get(label), x_edges)
+        ends = [v for v in (band["low"] + band["high"]) if v is not None] if band else []
+        if ends:
+            y_lo = min(y_lo, max(min(ends), y_lo - BAND_REACH))
+            y_hi = max(y_hi, min(max(ends), y_hi + BAND_REACH))
+        out[label] = (x_edges, _span(y_lo, y_hi))
     return out
 
 
+def _span(low: float, high: float) -> list[float]:
+    """``BINS`` equal bins from ``low`` to ``high`` (a unit-wide window round a single value)."""
+    if high - low < 1e-9:
+        low, high = low - 0.5, high + 0.5
+    width = (high - low) / BINS
+    return [low + i * width for i in range(BINS)] + [high]
+
+
 def aggregate(run: Run) -> Pending[DensityAggregate] | None:
-    """Counts per label on the label's own bins, and the bodies flagged by the body rules."""
-    edges = label_edges(run)
+    """Counts per label on its own mass-density bins, and the bodies flagged by the body rules.
+    """
+    edges = _edges(run)
     if not edges:
         return None
-    per_label = pl.LazyFrame({"label": list(edges), "lo": [e[0] for e in edges.values()],
-                              "width": [(e[-1] - e[0]) / BINS for e in edges.values()]},
-                             schema={"label": pl.String, "lo": pl.Float64, "width": pl.Float64})
-    index = ((DENSITY.expr() - pl.col("lo")) / pl.col("width")).floor().cast(pl.Int64)
+    per_label = pl.LazyFrame(
+        {"label": list(edges), "x0": [e[0][0] for e in edges.values()],
+         "dx": [(e[0][-1] - e[0][0]) / BINS for e in edges.values()],
+         "y0": [e[1][0] for e in edges.values()],
+         "dy": [(e[1][-1] - e[1][0]) / BINS for e in edges.values()]},
+        schema={"label": pl.String, "x0": pl.Float64, "dx": pl.Float64, "y0": pl.Float64,
+                "dy": pl.Float64})
+
+    def index(axis: Axis, start: str, step: str) -> pl.Expr:
+        return ((axis.expr() - pl.col(start)) / pl.col(step)).floor().cast(pl.Int64).clip(
+            0, BINS - 1)
+
     counts = (run.bodies.join(per_label, on="label", how="inner")
-              .select("label", index.clip(0, BINS - 1).alias("bin")).drop_nulls()
-              .group_by("label", "bin").agg(pl.len().alias("n")))
+              .select("label", index(MASS, "x0", "dx").alias("x"),
+                      index(DENSITY, "y0", "dy").alias("y")).drop_nulls()
+              .group_by("label", "x", "y").agg(pl.len().alias("n")))
 
     def finish(frames: Sequence[pl.DataFrame]) -> DensityAggregate:
-        by_label = binning.dense_counts_by(frames[0], "label", BINS)
-        info = {r["label"]: r for r in run.labels.iter_rows(named=True)}
-        series: list[DensitySeries] = [
-            {"label": label, "family": info[label]["family"],
-             "median_mass": info[label]["median_mass"], "edges": bins,
-             "counts": by_label.get(label, [0] * BINS),
-             "band": label_band(info[label]["family"], info[label]["median_mass"])}
-            for label, bins in edges.items()]
+        cells: dict[str, list[list[int]]] = {}
+        for label, x, y, n in frames[0].sort("label", "x", "y").iter_rows():
+            cells.setdefault(label, []).append([x, y, n])
+        families = {r["label"]: r["family"] for r in run.labels.iter_rows(named=True)}
+        series: list[DensityPlane] = [
+            {"label": label, "family": families.get(label), "x_edges": xe, "y_edges": ye,
+             "cells": cells.get(label, []), "band": band_edges(families.get(label), xe)}
+            for label, (xe, ye) in edges.items()]
         return {"flagged": flagged_rows(frames[1]), "series": series}
 
     return Pending([counts, run.flagged_plan(RULES, AXES)], finish)
@@ -111,35 +149,48 @@ def choices(diagram: DensityAggregate | None, choice: Choice) -> Choices:
 
 
 def figure(diagram: DensityAggregate | None, choice: Choice) -> Figure:
-    """Density histogram of one label (log axis) with its family's plausible band shaded."""
+    """One label's mass-density plane with its family's band edges at every mass; the axes
+    in the label's units (ticks in Earth, Jupiter or solar masses, density in g/cm3)."""
     if not diagram or not diagram["series"]:
         return empty("Density", "No body has both a mass and a radius.")
-    series = next((s for s in diagram["series"] if s["label"] == choice.label),
-                  diagram["series"][0])
-    edges = series["edges"]
-    flagged = [r for r in diagram["flagged"] if r.get("label") == series["label"]]
-    data = [bars(edges, series["counts"], series["label"])]
-    data += flagged_traces(flagged, on_bars(flagged, edges, series["counts"]))
-    look = layout(f"Density of {text(series['label'])} (family {text(series['family'])})",
-                  "bulk density (kg m<sup>-3</sup>)", "bodies", bargap=0)
-    look["xaxis"].update(log_ticks(edges[0], edges[-1]))
-    if series["band"]:
-        look["shapes"] = [_band_shape(*series["band"])]
-        look["annotations"] = [_band_note(series)]
+    plane = next((s for s in diagram["series"] if s["label"] == choice.label),
+                 diagram["series"][0])
+    matrix = [[0] * BINS for _ in range(BINS)]
+    for x, y, n in plane["cells"]:
+        matrix[y][x] = n
+    data = [heatmap({"flagged": [], "x_edges": plane["x_edges"], "y_edges": plane["y_edges"],
+                     "z": matrix})]
+    data += _band_traces(plane)
+    data += flagged_traces([r for r in diagram["flagged"] if r.get("label") == plane["label"]])
+    mass_unit = FAMILY_UNITS.unit("mass", plane["family"], 10.0 ** plane["x_edges"][-1])
+    look = layout(f"Density of {text(plane['label'])} (family {text(plane['family'])}) by mass",
+                  f"mass ({symbol(mass_unit)})", "bulk density (g/cm<sup>3</sup>)")
+    look["xaxis"].update(log_ticks(plane["x_edges"][0], plane["x_edges"][-1],
+                                   DISPLAY_UNITS[mass_unit].to_si))
+    look["yaxis"].update(log_ticks(plane["y_edges"][0], plane["y_edges"][-1], 1000.0))
+    look["meta"] = {"plane": True}
+    if plane["band"] is None:
+        look["annotations"] = [_note(f"family {text(plane['family'])} has no density band: "
+                                     "family-density does not judge it")]
     return {"data": data, "layout": look}
 
 
-def _band_shape(low: float, high: float) -> dict[str, Any]:
-    """A shaded vertical band between two x values (data units) across the whole height."""
-    return {"type": "rect", "xref": "x", "yref": "paper", "x0": low, "x1": high, "y0": 0, "y1": 1,
-            "fillcolor": ACCENT, "opacity": 0.12, "line": {"width": 0}, "layer": "below",
-            "name": "plausible band"}
+def _band_traces(plane: DensityPlane) -> list[dict[str, Any]]:
+    """The band's lower and upper edge at each mass, the space between them shaded."""
+    band = plane["band"]
+    if band is None:
+        return []
+    colour, dash = LIMIT_STYLE["suspect"]
+    common = {"type": "scatter", "mode": "lines", "meta": "reference", "x": band["x"],
+              "hoverinfo": "name", "connectgaps": False,
+              "line": {"color": colour, "width": 2, "dash": dash}}
+    return [{**common, "name": "plausible band, lower edge (family-density)", "y": band["low"]},
+            {**common, "name": "plausible band, upper edge (family-density)", "y": band["high"],
+             "fill": "tonexty", "fillcolor": "rgba(29, 95, 138, 0.08)"}]
 
 
-def _band_note(series: DensitySeries) -> dict[str, Any]:
-    """The caption of the plausible band: which family and at which mass it is evaluated."""
-    mass = series.get("median_mass")
-    at = f" at the median mass {mass:.3g} kg" if mass else ""
-    return {"text": f"shaded: plausible density for family {text(series['family'])}{at}",
-            "xref": "paper", "yref": "paper", "x": 1.0, "y": 1.0, "xanchor": "right",
-            "yanchor": "bottom", "showarrow": False, "font": {"size": 11, "color": "#555"}}
+def _note(words: str) -> dict[str, Any]:
+    return {"text": words, "xref": "paper", "yref": "paper", "x": 1.0, "y": 1.0,
+            "xanchor": "right", "yanchor": "bottom", "showarrow": False,
+            "font": {"size": 11, "color": "#555"}, "bgcolor": "#ffffff"}
+

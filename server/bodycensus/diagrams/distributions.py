@@ -23,6 +23,12 @@ from bodycensus.diagrams.plots import (
 )
 from bodycensus.diagrams.shapes import Artefact, Choice, Choices, Figure
 from bodycensus.science.artefacts import ARTEFACT_FIELDS
+from bodycensus.science.display_units import (
+    DISPLAY_UNITS,
+    FAMILY_UNITS,
+    FIELD_QUANTITIES,
+    symbol,
+)
 
 # Numeric fields offered, with their SI unit; fields the artefact detector scans are offered too
 # when it found something in them. Linear ones are listed; every other field is binned on log10.
@@ -120,27 +126,112 @@ def choices(diagram: DistributionsAggregate | None, choice: Choice) -> Choices:
 
 
 def figure(diagram: DistributionsAggregate | None, choice: Choice) -> Figure:
-    """Histogram of one numeric field per label (step lines), with its artefacts marked."""
+    """Histogram of one numeric field: of one label, or one panel per label (small multiples
+    on a shared x axis), each with its artefacts marked and named."""
     if not diagram or not diagram["fields"]:
         return empty("Distributions", "No numeric field has values.")
     field = choice.field if choice.field in diagram["fields"] else next(iter(diagram["fields"]))
     label, spec = choice.label, diagram["fields"][field]
     series = [s for s in spec["series"] if label in (None, "", s["label"])]
-    data = [_step(spec["edges"], s, i) for i, s in enumerate(series)]
-    shown = {s["label"] for s in series}
-    families = {diagram["families"].get(lb) for lb in shown}
-    artefacts = [a for a in diagram["artefacts"] if a["field"] == field and
-                 a["label"] in (families if a["scope"] == "family" else shown)]
-    top = max((max(s["counts"]) for s in series), default=1)
-    shapes, marks = _artefact_marks(artefacts, spec["log"], top)
-    unit = f" ({spec['unit']})" if spec.get("unit") not in (None, "", "1") else ""
-    look = layout(f"Distribution of {field}" + (f" for {text(label)}" if label else ""),
-                  f"{field}{unit}", "bodies", shapes=shapes)
-    low, high = _occupied(spec["edges"], series, artefacts, spec["log"])
-    look["xaxis"]["range"] = [low, high]
+    if not series:
+        return empty(f"Distribution of {field}", "No label has values of this field.")
+    panels = [(s, _artefacts_of(diagram, field, s["label"])) for s in series]
+    low, high = _occupied(spec["edges"], series, [a for _, arts in panels for a in arts],
+                          spec["log"])
+    family = diagram["families"].get(series[0]["label"]) if label else None
+    unit = _axis_unit(field, family, spec, (low + high) / 2)
+    title = f"Distribution of {field}" + (f" for {text(label)}" if label else
+                                          f": {len(panels)} labels, one panel each")
+    look = layout(title, f"{field}{f' ({symbol(unit)})' if symbol(unit) else ''}", "bodies")
+    data: list[dict[str, Any]] = []
+    shapes: list[dict[str, Any]] = []
+    columns = 1 if len(panels) == 1 else PANEL_COLUMNS
+    rows = math.ceil(len(panels) / columns)
+    for i, (one, arts) in enumerate(panels):
+        x, y = ("x", "y") if i == 0 else (f"x{i + 1}", f"y{i + 1}")
+        data.append({**_step(spec["edges"], one, 0), "xaxis": x, "yaxis": y,
+                     "showlegend": i == 0, "legendgroup": "bodies",
+                     "name": "bodies" if len(panels) > 1 else text(one["label"])})
+        top = max(one["counts"]) or 1
+        panel_shapes, marks = _artefact_marks(arts, spec["log"], top, one["label"], (x, y))
+        shapes += panel_shapes
+        data += marks  # each spike in the legend, named with its label
+        _place_axes(look, i, rows, columns, (low, high), spec, unit, one["label"],
+                    len(panels) > 1)
+    if len(panels) > 1:  # the shared x axis is named once, under the bottom-left panel
+        bottom_left = (rows - 1) * columns
+        name = look["xaxis"]["title"]["text"] if "title" in look["xaxis"] else field
+        for i in range(len(panels)):
+            key = "xaxis" if i == 0 else f"xaxis{i + 1}"
+            look[key]["title"] = {"text": name if i == bottom_left else ""}
+    look["shapes"] = shapes
+    if len(panels) > 1:
+        look["height"] = max(560, PANEL_HEIGHT * rows + 170)
+        look["legend"] = {"orientation": "h", "x": 1.0, "xanchor": "right", "y": 1.0,
+                          "yanchor": "bottom"}
+    return {"data": data, "layout": look}
+
+
+PANEL_COLUMNS = 4
+PANEL_HEIGHT = 190  # px per row of panels
+
+
+def _artefacts_of(diagram: DistributionsAggregate, field: str, label: str) -> list[Artefact]:
+    """The artefacts of one label in a field: its own and its family's."""
+    family = diagram["families"].get(label)
+    own = [a for a in diagram["artefacts"] if a["field"] == field and a["scope"] == "label"
+           and a["label"] == label]
+    places = {(a["kind"], a.get("at"), a.get("low"), a.get("high")) for a in own}
+    wide = [a for a in diagram["artefacts"] if a["field"] == field and a["scope"] == "family"
+            and a["label"] == family and _near(a, places) is False]
+    return own + wide
+
+
+def _near(artefact: Artefact, places: set[tuple[Any, ...]]) -> bool:
+    """Whether a family-wide artefact is its label's own at the same place (shown once)."""
+    def same(a: float | None, b: float | None) -> bool:
+        return a == b or (a is not None and b is not None and math.isclose(a, b, rel_tol=1e-6))
+    return any(kind == artefact["kind"] and same(at, artefact.get("at"))
+               and same(low, artefact.get("low")) and same(high, artefact.get("high"))
+               for kind, at, low, high in places)
+
+
+def _axis_unit(field: str, family: str | None, spec: FieldHistogram, middle: float) -> str:
+    """The unit the x axis counts in: the label's family's, else by the size of the values."""
+    quantity = FIELD_QUANTITIES.get(field)
+    if quantity is None:
+        return spec.get("unit") or ""
+    size = 10.0 ** middle if spec["log"] else middle
+    return FAMILY_UNITS.unit(quantity, family, size)
+
+
+def _place_axes(look: dict[str, Any], i: int, rows: int, columns: int,
+                span: tuple[float, float], spec: FieldHistogram, unit: str, label: str,
+                multiple: bool) -> None:
+    """The axes of panel ``i``: its domain in the grid, the shared x range and ticks (in
+    ``unit``), and the label as the panel's title."""
+    suffix = "" if i == 0 else str(i + 1)
+    row, column = divmod(i, columns)
+    gap_x, gap_y = 0.04, 60.0 / (PANEL_HEIGHT * max(rows, 1))  # ~60 px between rows
+    width, height = 1.0 / columns, 1.0 / rows
+    x_domain = [column * width + (gap_x if column else 0.0), (column + 1) * width - gap_x / 2]
+    y_domain = [1.0 - (row + 1) * height + gap_y, 1.0 - row * height - gap_y / 2]
+    factor = DISPLAY_UNITS[unit].to_si if unit in DISPLAY_UNITS else 1.0
+    x_axis: dict[str, Any] = {"range": list(span), "gridcolor": "#e3e3e3", "zeroline": False,
+                              "anchor": f"y{suffix}"}
     if spec["log"]:
-        look["xaxis"].update(log_ticks(low, high))
-    return {"data": data + marks, "layout": look}
+        x_axis.update(log_ticks(*span, factor, most=4 if multiple else 10))
+    if multiple:
+        x_axis["domain"] = x_domain
+        if i:
+            x_axis["matches"] = "x"
+        look[f"yaxis{suffix}"] = {"domain": y_domain, "anchor": f"x{suffix}",
+                                  "gridcolor": "#e3e3e3", "zeroline": False}
+        look.setdefault("annotations", []).append(
+            {"text": text(label), "xref": f"x{suffix} domain", "yref": f"y{suffix} domain",
+             "x": 0.0, "y": 1.0, "xanchor": "left", "yanchor": "bottom", "showarrow": False,
+             "font": {"size": 12}})
+    look[f"xaxis{suffix}"] = {**look.get(f"xaxis{suffix}", {}), **x_axis}
 
 
 def _occupied(edges: list[float], series: list[LabelCounts], artefacts: list[Artefact],
@@ -167,31 +258,44 @@ def _step(edges: list[float], series: LabelCounts, i: int) -> dict[str, Any]:
             "hovertemplate": f"{text(series['label'])}: %{{y}} bodies<extra></extra>"}
 
 
-def _artefact_marks(artefacts: list[Artefact], log: bool,
-                    top: float) -> tuple[list[dict[str, Any]], list[dict[str, Any]]]:
-    """Shapes (a line at a cutoff, a band for a gap) and spike markers for the artefacts."""
+def _artefact_marks(artefacts: list[Artefact], log: bool, top: float, label: str,
+                    axes: tuple[str, str] = ("x", "y")
+                    ) -> tuple[list[dict[str, Any]], list[dict[str, Any]]]:
+    """Shapes (a line at a cutoff, a band for a gap) and spike markers for the artefacts of
+    ``label``'s panel, each named with the label (or family) it was found in."""
     def pos(value: float | None) -> float | None:
         if value is None:
             return None
         return math.log10(value) if log and value > 0 else (None if log else value)
 
     colour = SEVERITY_STYLE["suspect"][0]
+    x_ref, y_ref = axes[0], f"{axes[1]} domain"
     shapes, spikes = [], []
     for a in artefacts:
         at, low, high = pos(a.get("at")), pos(a.get("low")), pos(a.get("high"))
+        where = (f"{text(a['label'])}" if a["scope"] == "label" else
+                 f"family {text(a['label'])}")
         if a["kind"] == "cutoff" and at is not None:
-            shapes.append({"type": "line", "xref": "x", "yref": "paper", "x0": at, "x1": at,
+            shapes.append({"type": "line", "xref": x_ref, "yref": y_ref, "x0": at, "x1": at,
                            "y0": 0, "y1": 1, "name": "cutoff",
+                           "label": {"text": f"cutoff ({where})", "textangle": -90,
+                                     "font": {"size": 10, "color": colour},
+                                     "textposition": "end", "yanchor": "top"},
                            "line": {"color": colour, "width": 2}})
         elif a["kind"] == "gap" and low is not None and high is not None:
-            shapes.append({"type": "rect", "xref": "x", "yref": "paper", "x0": low, "x1": high,
-                           "y0": 0, "y1": 1, "name": "gap", "line": {"width": 0},
-                           "fillcolor": colour, "opacity": 0.15})
+            shapes.append({"type": "rect", "xref": x_ref, "yref": y_ref, "x0": low, "x1": high,
+                           "y0": 0, "y1": 1, "name": "gap",
+                           "label": {"text": f"gap ({where})", "font": {"size": 10},
+                                     "textposition": "top center"},
+                           "line": {"width": 0}, "fillcolor": colour, "opacity": 0.15})
         elif a["kind"] == "spike" and at is not None:
-            spikes.append((at, a))
-    marks = [{"type": "scatter", "mode": "markers", "meta": "artefact", "name": "spike",
-              "x": [s[0] for s in spikes], "y": [top * 1.05] * len(spikes),
-              "hovertext": [f"spike in {text(a['label'])}: {text(a.get('evidence'))}"
-                            for _, a in spikes], "hovertemplate": "%{hovertext}<extra></extra>",
+            spikes.append((at, a, where))
+    marks = [{"type": "scatter", "mode": "markers+text", "meta": "artefact",
+              "name": f"spike in {text(label)}", "xaxis": axes[0], "yaxis": axes[1],
+              "x": [s[0] for s in spikes], "y": [top * 0.9] * len(spikes),
+              "text": [f"spike ({w})" for _, _, w in spikes], "textposition": "middle right",
+              "textfont": {"size": 10, "color": colour},
+              "hovertext": [f"spike in {w}: {text(a.get('evidence'))}" for _, a, w in spikes],
+              "hovertemplate": "%{hovertext}<extra></extra>",
               "marker": {"symbol": "star", "size": 13, "color": colour}}]
     return shapes, marks if spikes else []

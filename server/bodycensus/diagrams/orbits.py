@@ -13,7 +13,7 @@ import polars as pl
 from bodycensus.diagrams import binning
 from bodycensus.diagrams.base import BINS, Axis, Pending, Run, flagged_rows
 from bodycensus.diagrams.plots import (
-    REFERENCE_COLOURS,
+    LIMIT_STYLE,
     bars,
     empty,
     flagged_traces,
@@ -43,10 +43,12 @@ def panel_axes(choice: Choice) -> tuple[Axis, ...]:
 
 
 class ReferenceLine(TypedDict):
-    """A vertical reference line at ``at`` (axis units)."""
+    """A vertical line at ``at`` (axis units) and what it means: ``reference`` for a law or an
+    expected value, else the severity a rule gives beyond it (``plots.LIMIT_STYLE``)."""
 
     name: str
     at: float
+    meaning: str
 
 
 class MarginPanel(TypedDict):
@@ -68,16 +70,20 @@ class OrbitsAggregate(TypedDict):
 def hill_lines() -> list[ReferenceLine]:
     """The Hill radius and the stable prograde limit for circular orbits (log10 of the ratio)."""
     stable = float(stable_hill_fraction(0.0, 0.0))
-    return [{"name": "Hill radius", "at": 0.0},
-            {"name": "stable prograde limit (circular)", "at": math.log10(stable)}]
+    return [{"name": "Hill radius (outside-hill-sphere beyond)", "at": 0.0,
+             "meaning": "impossible"},
+            {"name": "stable prograde limit, circular (beyond-stable-hill beyond)",
+             "at": math.log10(stable), "meaning": "unstable"}]
 
 
 def kepler_lines(tolerance: float) -> list[ReferenceLine]:
     """Kepler's law and the ``kepler-mismatch`` tolerance either side, as a residual in %."""
     percent = 100.0 * tolerance
-    return [{"name": "Kepler's third law", "at": 0.0},
-            {"name": f"kepler-mismatch tolerance (-{percent:g} %)", "at": -percent},
-            {"name": f"kepler-mismatch tolerance (+{percent:g} %)", "at": percent}]
+    return [{"name": "Kepler's third law", "at": 0.0, "meaning": "reference"},
+            {"name": f"kepler-mismatch tolerance (+-{percent:g} %)", "at": -percent,
+             "meaning": "suspect"},
+            {"name": f"kepler-mismatch tolerance (+-{percent:g} %)", "at": percent,
+             "meaning": "suspect"}]
 
 
 class _Panel(NamedTuple):
@@ -116,10 +122,13 @@ def _panel(panel: MarginPanel | None, axes: tuple[str, str], name: str) -> list[
     edges, counts = panel["edges"], panel["counts"]
     data = [bars(edges, counts, name, axes=axes)]
     top = max(counts) if counts else 1
-    for i, ref in enumerate(panel["lines"]):
-        trace = line(ref["name"], [ref["at"], ref["at"]], [0, top * 1.1],
-                     REFERENCE_COLOURS[i + 1], "dash")
-        data.append({**trace, "xaxis": axes[0], "yaxis": axes[1]})
+    named: set[str] = set()
+    for ref in panel["lines"]:
+        colour, dash = LIMIT_STYLE[ref.get("meaning", "reference")]
+        trace = line(ref["name"], [ref["at"], ref["at"]], [0, top * 1.1], colour, dash)
+        data.append({**trace, "xaxis": axes[0], "yaxis": axes[1], "legendgroup": ref["name"],
+                     "showlegend": ref["name"] not in named})
+        named.add(ref["name"])
     data += flagged_traces(panel["flagged"], on_bars(panel["flagged"], edges, counts), axes)
     return data
 

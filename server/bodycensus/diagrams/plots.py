@@ -29,6 +29,14 @@ SEVERITY_STYLE: dict[str, tuple[str, str]] = {
     "note": ("#2976ac", "square"),
 }
 REFERENCE_COLOURS = ("#333333", "#b35806", "#1b7837", "#762a83", "#666666")
+# One line style per meaning on every diagram: a law or expected value is a thin solid grey
+# line; a rule's limit takes the colour of the severity it flags beyond, and a dash of its own.
+LIMIT_STYLE: dict[str, tuple[str, str]] = {
+    "reference": ("#333333", "solid"),
+    "impossible": (SEVERITY_STYLE["impossible"][0], "solid"),
+    "unstable": (SEVERITY_STYLE["unstable"][0], "dash"),
+    "suspect": (SEVERITY_STYLE["suspect"][0], "dot"),
+}
 Trace = dict[str, Any]
 
 
@@ -53,17 +61,22 @@ def layout(title: str, x_title: str, y_title: str, **extra: Any) -> dict[str, An
     }
 
 
-def log_ticks(low: float, high: float) -> dict[str, Any]:
+def log_ticks(low: float, high: float, unit: float = 1.0, most: int = 10) -> dict[str, Any]:
     """Ticks for an axis in log10 units: powers of ten (10^k), plus 2 and 5 x 10^k when the
-    axis spans under three decades, so a narrow axis still has several labels."""
+    axis spans under three decades, so a narrow axis still has several labels. With ``unit``
+    (its size in the axis's own units, e.g. 1000 for g/cm3 on a kg/m3 axis) the labels count
+    that unit while the axis keeps its coordinates (so a region drawn on it stays in them)."""
+    shift = math.log10(unit)
+    low, high = low - shift, high - shift
     powers = list(range(math.floor(low), math.ceil(high) + 1))
     if high - low >= 3:
-        powers = powers[::max(1, len(powers) // 10)]
-        return {"tickvals": powers, "ticktext": [f"10<sup>{k}</sup>" for k in powers]}
+        powers = powers[::max(1, math.ceil(len(powers) / most))]
+        return {"tickvals": [k + shift for k in powers],
+                "ticktext": [f"10<sup>{k}</sup>" for k in powers]}
     vals, texts = [], []
     for k in powers:
         for m in (1, 2, 5):
-            vals.append(k + math.log10(m))
+            vals.append(k + math.log10(m) + shift)
             texts.append(f"10<sup>{k}</sup>" if m == 1 else f"{m}·10<sup>{k}</sup>")
     return {"tickvals": vals, "ticktext": texts}
 

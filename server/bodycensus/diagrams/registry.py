@@ -27,9 +27,11 @@ from bodycensus.diagrams.base import Diagram
 DIAGRAMS: tuple[Diagram[Any], ...] = (
     Diagram(
         key="density", title="Density",
-        caption="Bulk density of the bodies of one label; shaded: the plausible band of its "
-                "family at the label's median mass (composition curves of Seager et al. 2007, "
-                "cold H/He, stellar relations; factors in families.py).",
+        caption="The bodies of one label by mass and bulk density (log-log). The two edges are "
+                "its family's plausible band at each mass, as the family-density rule applies "
+                "it to each body (composition curves of Seager et al. 2007, cold H/He, white-"
+                "dwarf and main-sequence relations, times the family's factors): a body "
+                "outside them is flagged. Axes in the label's units; the counts in SI as JSON.",
         axes=density.AXES, rules=density.RULES, per_label=True,
         aggregate=density.aggregate, figure=density.figure, choices=density.choices),
     Diagram(
