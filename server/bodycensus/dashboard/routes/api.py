@@ -158,18 +158,30 @@ def _state(request: Request) -> ViewState:
 FilterQuery = Annotated[list[str] | None, Query(description="repeat the key for several")]
 
 
+REGION_OF = "the diagram a region was drawn on (a key of GET /api/diagrams)"
+REGION = "a box in the diagram's coordinates: x0,x1 or x0,x1,y0,y1"
+LASSO = "a lasso in the diagram's coordinates: x y;x y;..."
+
+
 def findings_view(severity: FilterQuery = None, rule: FilterQuery = None,
                   label: FilterQuery = None, family: FilterQuery = None,
                   min_value: float | None = None, max_value: float | None = None,
                   min_margin: float | None = None, max_margin: float | None = None,
                   sort: str = "severity", limit: Annotated[int, Query(ge=1, le=MAX_LIMIT)] = 50,
-                  offset: Annotated[int, Query(ge=0)] = 0) -> ViewState:
+                  offset: Annotated[int, Query(ge=0)] = 0,
+                  region_of: Annotated[str | None, Query(description=REGION_OF)] = None,
+                  region: Annotated[str | None, Query(description=REGION)] = None,
+                  lasso: Annotated[str | None, Query(description=LASSO)] = None,
+                  field: Annotated[str | None, Query(description="the field of a "
+                                                     "distributions region")] = None
+                  ) -> ViewState:
     """The findings list's query parameters (declared, so OpenAPI documents them), read by the
     view state's one parser, which checks what the types alone do not (severities, sort keys,
-    finite numbers, lengths)."""
+    finite numbers, lengths, regions)."""
     given = {"severity": severity, "rule": rule, "label": label, "family": family,
              "min_value": min_value, "max_value": max_value, "min_margin": min_margin,
-             "max_margin": max_margin, "sort": sort, "limit": limit, "offset": offset}
+             "max_margin": max_margin, "sort": sort, "limit": limit, "offset": offset,
+             "region_of": region_of, "region": region, "lasso": lasso, "field": field}
     return ViewState.from_query(given)
 
 

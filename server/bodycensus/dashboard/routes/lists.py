@@ -42,9 +42,10 @@ def order_groups() -> list[tuple[str, list[tuple[str, str]]]]:
     worst_first = [("worst", "most serious finding first")]
     return [("The file's order", [("_row", "row in the file"), ("-_row", "last row first")]),
             ("Seriousness", worst_first + [("-findings", "most findings first")]),
-            ("A column, smallest or A first", [(k, word[k]) for k in columns
-                                               if k not in ("worst",)]),
-            ("A column, largest or Z first", [(f"-{k}", word[k]) for k in columns
+            ("A column, smallest or A first", [(k, f"{word[k]}, smallest or A first")
+                                               for k in columns if k not in ("worst",)]),
+            ("A column, largest or Z first", [(f"-{k}", f"{word[k]}, largest or Z first")
+                                              for k in columns
                                               if k not in ("worst", "findings")])]
 
 

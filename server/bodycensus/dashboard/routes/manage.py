@@ -33,7 +33,7 @@ def mapping_screen(request: Request, catalogue_id: str, store: StoreDep,
         return RedirectResponse(cat_url(catalogue_id), status_code=303)
     proposal = manifest.proposal
     preset = presets.find(proposal["columns"])
-    chosen: dict[str, Any] | None = dict(manifest.options) if manifest.options else None
+    chosen = _previous_choices(manifest) if manifest.run > 1 else None
     source = "the previous run" if chosen else None
     if chosen is None and preset is not None:
         chosen, source = dict(preset.choices), f"the preset saved {preset.saved} from " \
@@ -42,6 +42,18 @@ def mapping_screen(request: Request, catalogue_id: str, store: StoreDep,
                    **mapping_context(proposal, chosen), prefilled_from=source,
                    rerun=manifest.run > 1,
                    json_url=f"/api/catalogues/{quote(catalogue_id, safe='')}")
+
+
+def _previous_choices(manifest: Manifest) -> dict[str, Any] | None:
+    """The mapping the last run applied (field -> column and unit) and the families it used,
+    to fill a re-run's mapping step with."""
+    record: dict[str, Any] = dict(manifest.mapping or {})
+    choices = (record.get("mapping") or {}).get("choices") or {}
+    if not choices:
+        return None
+    return {"map": {f: c["column"] for f, c in choices.items()},
+            "units": {f: c["unit"] for f, c in choices.items() if c.get("unit")},
+            "families": dict((manifest.summary or {}).get("label_families") or {})}
 
 
 class RenameIn(BaseModel):

@@ -185,8 +185,10 @@ def sort_groups() -> list[tuple[str, list[tuple[str, str]]]]:
     words = {"_row": "row in the file", "body": "body id"}
     return [("Seriousness", [("severity", "most serious first, largest margin first"),
                              ("-severity", "least serious first")]),
-            ("A column, smallest or A first", [(k, words.get(k, k)) for k in columns]),
-            ("A column, largest or Z first", [(f"-{k}", words.get(k, k)) for k in columns])]
+            ("A column, smallest or A first",
+             [(k, f"{words.get(k, k)}, smallest or A first") for k in columns]),
+            ("A column, largest or Z first",
+             [(f"-{k}", f"{words.get(k, k)}, largest or Z first") for k in columns])]
 
 
 def findings_context(store: Store, cat_id: str, state: ViewState) -> dict[str, Any]:

@@ -108,9 +108,12 @@ def mapping_context(proposal: ProposalRecord, preset: Mapping[str, Any] | None =
     id_choice = proposal["mapping"]["choices"].get("id")
     id_column = chosen.get("id") if preset else (id_choice["column"] if id_choice else None)
     families = dict((preset or {}).get("families") or {})
-    labels = [{"label": label, "family": families.get(label, family),
-               "why": explain_family(label)[1] if label not in families else "saved preset"}
-              for label, family in sorted(proposal["families"].items())]
+    labels = []
+    for label, guessed in sorted(proposal["families"].items()):
+        family, why = families.get(label, guessed), explain_family(label)[1]
+        if family != guessed:
+            why = f"chosen before (the label alone suggests {guessed}: {why})"
+        labels.append({"label": label, "family": family, "why": why})
     return {"proposal": proposal, "mapping_rows": rows,
             "fields": tuple(f for f in CANONICAL_FIELDS if f != "id"), "units": list(UNITS),
             "families_all": FAMILIES, "label_families": [(r["label"], r["family"])

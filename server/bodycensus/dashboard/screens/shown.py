@@ -16,6 +16,7 @@ from bodycensus.science.display_units import (
     FIELD_QUANTITIES,
     DisplayChoice,
     resay,
+    short,
     symbol,
     to_unit,
 )
@@ -40,7 +41,7 @@ def number(value: float | None) -> str:
     if value is None:
         return ""
     if value != 0 and (abs(value) >= 1e7 or abs(value) < 1e-3):
-        return f"{value:.4g}"
+        return short(value)  # as the messages write it: 1.189e7
     return f"{value:,.4g}" if abs(value) < 1e4 else f"{value:,.0f}"
 
 
