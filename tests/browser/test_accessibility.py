@@ -159,7 +159,7 @@ def _upload(page: Page, base: str, path: Path) -> None:
     """Upload ``path`` through the upload box (the audit's set-up, not under test here)."""
     page.goto(f"{base}/")
     page.set_input_files("#file-input", str(path))
-    page.wait_for_url(re.compile(r"/catalogues/[^/?]+$"), timeout=60_000)
+    page.wait_for_url(re.compile(r"/catalogues/[^/?]+(/mapping)?$"), timeout=60_000)
 
 
 @pytest.fixture(scope="module")
@@ -221,6 +221,20 @@ def _open_save_dialog(page: Page, base: str) -> None:
     expect(page.locator("#save-dialog")).to_be_visible()
 
 
+def _open_dialog(page: Page, base: str, dialog: str) -> None:
+    """The Overview with one of its management dialogs open (rename, re-run, delete)."""
+    page.goto(base)
+    page.click(f"button[data-open={dialog}]")
+    expect(page.locator(f"#{dialog}")).to_be_visible()
+
+
+def _units_menu_open(page: Page, base: str) -> None:
+    """The Body screen of a flagged body with the Units menu open."""
+    page.goto(base.rsplit("/catalogues/", 1)[0] + _first_flagged_body(page, base))
+    page.click("#units-menu summary")
+    expect(page.locator("#units-form")).to_be_visible()
+
+
 SCREENS: dict[str, Callable[[Page, str, str], None]] = {
     "Catalogues": lambda page, root, base: page.goto(f"{root}/"),
     "Overview": lambda page, root, base: page.goto(base),
@@ -238,6 +252,15 @@ SCREENS: dict[str, Callable[[Page, str, str], None]] = {
         f"{base}/triage?by=system&undecided=1"),
     "Findings, undecided only": lambda page, root, base: page.goto(f"{base}/findings?undecided=1"),
     "Compare, nothing chosen": lambda page, root, base: page.goto(f"{root}/compare"),
+    "Bodies list": lambda page, root, base: page.goto(f"{base}/bodies?order=worst"),
+    "Findings by rule and label": lambda page, root, base: page.goto(f"{base}/findings/groups"),
+    "Search results": lambda page, root, base: page.goto(f"{base}/search?q=b00001"),
+    "Findings in a region": lambda page, root, base: page.goto(
+        f"{base}/findings?region_of=mass-radius&region=-1,1,-0.5,0.5"),
+    "Rename dialog": lambda page, root, base: _open_dialog(page, base, "rename-dialog"),
+    "Re-run dialog": lambda page, root, base: _open_dialog(page, base, "rerun-dialog"),
+    "Delete dialog": lambda page, root, base: _open_dialog(page, base, "delete-dialog"),
+    "Units menu open": lambda page, root, base: _units_menu_open(page, base),
     "Error page": lambda page, root, base: page.goto(f"{root}/catalogues/no-such-catalogue"),
 }
 

@@ -90,7 +90,7 @@ def test_upload_reaches_the_overview(page: Page, catalogue: str, screenshots: Pa
 
 
 @pytest.mark.parametrize("diagram, references, shapes", [
-    ("density", [], ["plausible band"]),
+    ("density", ["plausible band, lower edge", "plausible band, upper edge"], []),
     ("mass-radius", ["iron", "rock", "water ice", "cold H/He"], []),
     ("roche", ["rigid Roche limit", "fluid Roche limit", "parent surface"], []),
     ("orbits", ["Hill radius", "stable prograde limit", "Kepler's third law"], []),
