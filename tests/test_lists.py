@@ -68,8 +68,14 @@ def test_label_filter_and_orders(checked: Path, bodies: pl.DataFrame) -> None:
     giants = bodies.filter(pl.col("label") == "Gas giant").sort("mass", descending=True)
     assert page["total"] == giants.height
     assert [r["id"] for r in page["items"]] == giants["id"].head(5).to_list()
-    by_worst = bodies_page(checked, ViewState(order="worst", limit=3))["items"]
-    assert by_worst[0]["worst"] == "error"
+    by_worst = bodies_page(checked, ViewState(order="worst", limit=1000))["items"]
+    assert by_worst[0]["worst"] == "error" and len(by_worst) == min(1000, bodies.height)
+    ranks = [SEVERITIES.index(b["worst"]) if b["worst"] else len(SEVERITIES) for b in by_worst]
+    assert ranks == sorted(ranks)  # every flagged body first, then the clean in file order
+    clean = [b["_row"] for b in by_worst if b["worst"] is None]
+    assert clean == sorted(clean) and len({b["id"] for b in by_worst}) == len(by_worst)
+    most = bodies_page(checked, ViewState(order="-findings", limit=2))["items"]
+    assert most[0]["findings"] >= most[1]["findings"]
 
 
 def test_bodies_export_is_every_filtered_body(checked: Path, tmp_path: Path,
@@ -139,11 +145,12 @@ def test_a_lasso_is_a_polygon_in_the_diagrams_coordinates(checked: Path,
 
 def test_a_region_on_a_histogram_spans_x_only_and_bad_regions_are_refused(
         checked: Path, bodies: pl.DataFrame) -> None:
-    state = ViewState(region_of="density", region="3,3.5", label=("Rocky world",), limit=1000)
+    state = ViewState(region_of="distributions", field="density", region="3.5,3.7",
+                      label=("Rocky world",), limit=1000)
     expected = bodies.filter(pl.col("label") == "Rocky world",
-                             pl.col("density").log10().is_between(3, 3.5))
-    assert bodies_page(checked, state)["total"] == expected.height
-    assert regions.describe(state) == "a box drawn on the Density diagram (density)"
+                             pl.col("density").log10().is_between(3.5, 3.7))
+    assert bodies_page(checked, state)["total"] == expected.height > 0
+    assert regions.describe(state) == "a box drawn on the Distributions diagram (density)"
     with pytest.raises(BadInput):
         regions.region_filter(ViewState(region_of="nowhere", region="0,1"))
     with pytest.raises(BadInput):

@@ -72,11 +72,45 @@ def filtered_bodies(cat_dir: Path, state: ViewState, with_worst: bool = False
     return lf.sort([by, "_row"], descending=[descending, False], nulls_last=True)
 
 
+def _flagged_first(cat_dir: Path, state: ViewState) -> tuple[pl.DataFrame, int] | None:
+    """A page in the order of the worst finding (or most findings) without a filter on the
+    bodies themselves: the flagged bodies are ranked from the findings alone (a small table),
+    and only the page's rows are read; unflagged bodies follow in the file's order."""
+    key, descending = state.order_key()
+    if (key, descending) not in (("worst", False), ("findings", True)) or state.label or \
+            state.family or region_filter(state) is not None:
+        return None
+    worst = tables.body_worst(cat_dir).rename({"body": "id"})
+    if state.finding_filters:
+        worst = worst.join(_flagged_by(cat_dir, state), on="id", how="semi")
+    by = ["_rank", "findings", "id"] if key == "worst" else ["findings", "_rank", "id"]
+    ranked = worst.sort(by, descending=[False, True, False] if key == "worst"
+                        else [True, False, False]).select("id").collect()
+    total = ranked.height if state.finding_filters else \
+        int(tables.bodies(cat_dir).select(pl.len()).collect().item())
+    ids = ranked["id"].slice(state.offset, state.limit).to_list()
+    lf = tables.bodies(cat_dir)
+    keep = [c for c in LISTED if c in lf.collect_schema()]
+    found = lf.filter(pl.col("id").is_in(ids)).select(keep).unique("id", keep="first").collect()
+    page = pl.DataFrame({"id": ids}).join(found, on="id", how="left", maintain_order="left")
+    short = state.limit - page.height
+    if short > 0 and not state.finding_filters:  # past the flagged: the rest in file order
+        skip = max(0, state.offset - ranked.height)
+        rest = (lf.join(ranked.lazy(), on="id", how="anti").select(keep).sort("_row")
+                .slice(skip, short).collect())
+        page = pl.concat([page, rest], how="diagonal_relaxed")
+    return page, total
+
+
 def bodies_page(cat_dir: Path, state: ViewState) -> BodiesPage:
     """One page of the filtered bodies, each with its worst severity and findings counted."""
-    lf = filtered_bodies(cat_dir, state)
-    total = int(lf.select(pl.len()).collect().item())
-    rows = lf.slice(state.offset, state.limit).collect()
+    fast = _flagged_first(cat_dir, state)
+    if fast is not None:
+        rows, total = fast
+    else:
+        lf = filtered_bodies(cat_dir, state)
+        total = int(lf.select(pl.len()).collect().item())
+        rows = lf.slice(state.offset, state.limit).collect()
     worst = tables.worst_of(cat_dir, rows["id"].drop_nulls().to_list()) if rows.height else {}
     items = [{**r, "worst": worst.get(r["id"], (None, 0))[0],
               "findings": worst.get(r["id"], (None, 0))[1]} for r in rows.to_dicts()]
