@@ -18,6 +18,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 import polars as pl
+from polars.expr.whenthen import ChainedThen, Then
 
 from bodycensus.science.units import AU, DAY, M_EARTH, M_SUN, UNITS, Unit
 
@@ -144,18 +145,13 @@ def to_unit(value_si: float | None, unit: str) -> float | None:
 def unit_expr(quantity: str, family: pl.Expr, size: pl.Expr) -> pl.Expr:
     """The polars twin of ``family_unit``: the unit name per row, from ``family`` and ``size``."""
     q = QUANTITIES[quantity]
-    chain = None
-    for unit in dict.fromkeys(q.by_family.values()):
-        names = sorted(f for f, u in q.by_family.items() if u == unit)
-        cond = family.is_in(names)
-        chain = pl.when(cond).then(pl.lit(unit)) if chain is None else \
-            chain.when(cond).then(pl.lit(unit))
     magnitude = size.abs().fill_nan(None).fill_null(math.inf)
-    for bound, unit in q.ladder:
-        cond = magnitude < bound
-        chain = pl.when(cond).then(pl.lit(unit)) if chain is None else \
-            chain.when(cond).then(pl.lit(unit))
-    assert chain is not None
+    cases = [(family.is_in(sorted(f for f, u in q.by_family.items() if u == unit)), unit)
+             for unit in dict.fromkeys(q.by_family.values())]
+    cases += [(magnitude < bound, unit) for bound, unit in q.ladder]
+    chain: Then | ChainedThen = pl.when(cases[0][0]).then(pl.lit(cases[0][1]))
+    for cond, unit in cases[1:]:
+        chain = chain.when(cond).then(pl.lit(unit))
     return chain.otherwise(pl.lit(q.ladder[-1][1]))
 
 

@@ -48,12 +48,14 @@ def _previous_choices(manifest: Manifest) -> dict[str, Any] | None:
     """The mapping the last run applied (field -> column and unit) and the families it used,
     to fill a re-run's mapping step with."""
     record: dict[str, Any] = dict(manifest.mapping or {})
-    choices = (record.get("mapping") or {}).get("choices") or {}
+    mapping: dict[str, Any] = dict(record.get("mapping") or {})
+    choices: dict[str, Any] = dict(mapping.get("choices") or {})
     if not choices:
         return None
     return {"map": {f: c["column"] for f, c in choices.items()},
             "units": {f: c["unit"] for f, c in choices.items() if c.get("unit")},
-            "families": dict((manifest.summary or {}).get("label_families") or {})}
+            "families": dict(manifest.summary.get("label_families", {})) if manifest.summary
+            else {}}
 
 
 class RenameIn(BaseModel):

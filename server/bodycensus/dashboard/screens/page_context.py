@@ -8,7 +8,7 @@ routes.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Mapping, Sequence
 from typing import Any, cast
 
 from bodycensus.dashboard.screens.shapes import (
@@ -16,6 +16,7 @@ from bodycensus.dashboard.screens.shapes import (
     ArtefactRow,
     BodyDetail,
     BodyExtras,
+    DerivedRow,
     DiagramContext,
     DiagramLink,
     MappingContext,
@@ -129,7 +130,7 @@ def unknown_turns_off() -> list[str]:
                    "unknown" not in r.families} | banded)
 
 
-def rules_summary(rules: list[Mapping[str, Any]]) -> list[dict[str, Any]]:
+def rules_summary(rules: Sequence[Mapping[str, Any]]) -> list[dict[str, Any]]:
     """One entry per rule from the aggregates' (rule, severity, count) rows: its count at each
     severity, its total and its most serious severity; most serious first, then most findings."""
     merged: dict[str, dict[str, Any]] = {}
@@ -163,8 +164,10 @@ def artefact_rows(cat_id: str, artefacts: list[Artefact], cat_url: CatUrl,
                  else f"at {at['text']} {at['unit']}").strip()
         state = ViewState(diagram="distributions", field=a.get("field"),
                           label=(label,) if a.get("scope") == "label" and label else ())
-        rows.append({**a, "where": where, "si": " – ".join(e["si"] for e in ends if e["si"]),
-                     "href": cat_url(cat_id, "diagrams", state=state)})
+        row = cast(ArtefactRow, {**a, "where": where, "href": cat_url(cat_id, "diagrams",
+                                                                      state=state),
+                                 "si": " – ".join(e["si"] for e in ends if e["si"])})
+        rows.append(row)
     return rows
 
 
@@ -215,12 +218,13 @@ _PARENT_SIDE = ("parent_mass", "parent_radius", "parent_density")
 
 def derived_rows(derived: Mapping[str, Any], family: str | None, has_parent: bool,
                  choice: DisplayChoice, orbit: float | None = None
-                 ) -> tuple[list[dict[str, Any]], list[str]]:
+                 ) -> tuple[list[DerivedRow], list[str]]:
     """The derived quantities a body has, in display units (its distances in the unit of its
     ``orbit``, the semi-major axis), and one sentence per group of those hidden: the orbit's
     when it has no parent, the others' when their inputs are missing."""
     parent_family = derived.get("parent_family")
-    rows, missing = [], []
+    rows: list[DerivedRow] = []
+    missing: list[str] = []
     for name, value in derived.items():
         if name in ORBIT_DERIVED and not has_parent:
             continue

@@ -21,10 +21,10 @@ from bodycensus.errors import BadInput
 
 def region_axes(state: ViewState) -> tuple[Axis, ...]:
     """The axes of the diagram the region was drawn on (BadInput for an unknown diagram)."""
-    if state.region_of not in registry.BY_KEY:
+    diagram = registry.BY_KEY.get(state.region_of or "")
+    if diagram is None:
         raise BadInput(f"region_of={str(state.region_of)[:40]!r} names no diagram; use one of "
                        f"{', '.join(registry.KEYS)}")
-    diagram = registry.BY_KEY[state.region_of]
     return diagram.region_axes(Choice(label=None, field=state.field))
 
 

@@ -8,6 +8,7 @@ Pure functions over the plain rows the queries return; the templates show ``text
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from typing import Any, TypedDict
 
 from bodycensus.science.display_units import (
@@ -62,7 +63,7 @@ def quantity_shown(value: Any, quantity: str | None, family: str | None,
             "si": _si_text(float(value), si_unit)}
 
 
-def finding_shown(finding: dict[str, Any], choice: DisplayChoice) -> dict[str, Any]:
+def finding_shown(finding: Mapping[str, Any], choice: DisplayChoice) -> dict[str, Any]:
     """A finding with ``shown``: value, limit, unit and message in the chosen units. Value and
     limit share the unit the rule's message uses (chosen by the limit's size)."""
     value, limit, family = finding.get("value"), finding.get("limit"), finding.get("family")
