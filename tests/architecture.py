@@ -117,8 +117,6 @@ TESTED_THROUGH: dict[str, str] = {
     "bodycensus.dashboard.routes.compare": "test_triage_api.py: the Compare screen and its JSON",
     "bodycensus.dashboard.routes.triage": "test_triage_api.py, test_security.py through the app",
     "bodycensus.dashboard.deps": "test_api.py: every route receives its store and settings",
-    "bodycensus.dashboard.routes.lists": "test_manage.py, test_pages.py and the browser tests",
-    "bodycensus.dashboard.routes.manage": "test_manage.py: rename, re-run, delete, presets",
     "bodycensus.dashboard.intake.uploads": "test_api_lifecycle.py, test_hostile_input.py upload",
     "bodycensus.dashboard.security.guard": "test_security.py, test_auth.py through the app",
     "bodycensus.demo.defects_body": "test_demo_planted.py checks every planted defect",

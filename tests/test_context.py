@@ -105,5 +105,5 @@ def test_duplicates_loops_and_unit_slips_are_flagged_for_the_rules() -> None:
                     cycle=["a", "b"])
     assert rows["twin"]["_id_count"] == 2 and rows["S"]["_id_count"] == 1
     assert rows["a"]["_in_cycle"] and not rows["S"]["_in_cycle"]
-    assert rows["slip"]["_slip_hint"].startswith("radius looks 0.001x too large")
+    assert rows["slip"]["_slip_hint"].startswith("radius looks 1000x too small")
     assert rows["slip"]["_trusted_density"] is None and rows["slip"]["roche_rigid"] is None

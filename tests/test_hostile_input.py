@@ -134,8 +134,9 @@ def test_names_are_sanitised_and_never_paths(corpus: dict[str, Path],
         assert done["name"] == (shown or done["name"]) and len(done["name"]) <= 120
         assert done["name"].endswith(".csv")
         files = {p.name for p in (data_dir / "catalogues" / cat_id).iterdir()}
-        assert files == {"manifest.json", "aggregates.json", "bodies.parquet",
-                         "findings.parquet", "artefacts.parquet", "coverage.parquet"}
+        assert files == {"manifest.json", "aggregates.json", "bodies.parquet", "names.parquet",
+                         "findings.parquet", "artefacts.parquet", "coverage.parquet",
+                         "source.csv"}  # the upload kept under our name, never the sender's
         assert client.delete(f"/api/catalogues/{cat_id}").status_code == 204
     assert not (data_dir.parent / "x.csv").exists() and not (data_dir / "x.csv").exists()
 

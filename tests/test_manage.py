@@ -138,3 +138,18 @@ def test_system_twin_search_and_clean_addresses(tmp_path: Path, source: bytes) -
                                                        "min_value": ""})
         assert dirty.status_code == 303 and dirty.headers["location"] == \
             f"{base}/findings?severity=error"
+
+
+def test_a_saved_view_of_the_new_screens_opens_them(tmp_path: Path, source: bytes) -> None:
+    """The Bodies list, the groups and a search are saved with ``screen=`` in their query (the
+    address alone would open the Findings list) and open as themselves."""
+    with asgi_client(create_app(api_settings(tmp_path))) as client:
+        cat_id = upload(client, "c.csv", source).json()["id"]
+        wait_done(client, cat_id)
+        for query, marker in (("screen=bodies&label=Gas+giant", 'id="bodies-table"'),
+                              ("screen=groups&severity=impossible", 'id="groups-table"'),
+                              ("screen=search&q=moon", 'id="search-table"')):
+            view = client.post("/api/views", json={"catalogue": cat_id, "query": query,
+                                                   "title": "t", "note": ""}).json()
+            page = client.get(view["url"]).text
+            assert marker in page and 'id="saved-title"' in page, query

@@ -7,7 +7,7 @@ from __future__ import annotations
 
 from importlib.resources import files
 from pathlib import Path
-from typing import Any, cast
+from typing import Any
 from urllib.parse import quote, unquote
 
 from fastapi import APIRouter, Request
@@ -15,7 +15,7 @@ from fastapi.responses import HTMLResponse, RedirectResponse, Response
 from fastapi.templating import Jinja2Templates
 
 from bodycensus.dashboard.deps import StoreDep
-from bodycensus.dashboard.screens import groups, queries, report, shapes
+from bodycensus.dashboard.screens import groups, queries, report
 from bodycensus.dashboard.screens.figure_text import drawn_marks
 from bodycensus.dashboard.screens.page_context import (
     artefact_rows,
@@ -349,10 +349,7 @@ def report_download(request: Request, catalogue_id: str, store: StoreDep) -> HTM
     decisions = decisions_of(store, catalogue_id)[1]
     page = queries.findings_page(cat_dir, state.with_(limit=min(state.limit * 10, 500)),
                                  decisions)
-    shown = cast(shapes.FindingsPage, {**page, "items": [finding_shown(f, state.display)
-                                                          for f in page["items"]]})
-    body = report.build_report(templates.env, manifest.to_json(), state,
-                               {**aggs, "rules": rules_summary(aggs["rules"])}, figures, shown,
+    body = report.build_report(templates.env, manifest.to_json(), state, aggs, figures, page,
                                triage_counts(cat_dir, decisions))
     name = f"bodycensus-{catalogue_id}-report.html"
     return HTMLResponse(body, headers={"Content-Disposition": f'attachment; filename="{name}"'})

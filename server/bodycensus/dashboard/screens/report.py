@@ -13,7 +13,9 @@ from typing import Any, TypedDict
 
 from jinja2 import Environment
 
+from bodycensus.dashboard.screens.page_context import rules_summary
 from bodycensus.dashboard.screens.shapes import FindingsPage
+from bodycensus.dashboard.screens.shown import finding_shown
 from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.diagrams import registry
 from bodycensus.diagrams.shapes import Choice, Figure
@@ -56,12 +58,15 @@ def figures_for_view(aggs: Mapping[str, Any], state: ViewState) -> list[ReportFi
 def build_report(env: Environment, catalogue: Mapping[str, Any], state: ViewState,
                  aggs: Mapping[str, Any], figures: list[ReportFigure],
                  findings: FindingsPage, triage: Mapping[str, object] | None = None) -> str:
-    """The report's HTML: summary counts, triage counts, the view's filters, its figures and
-    findings (each with its decision)."""
+    """The report's HTML: summary counts (one entry per rule), triage counts, the view's
+    filters, its figures and findings (each with its decision; values, limits and messages in
+    the view's units)."""
     template = env.get_template("report.html")
+    shown = {**findings, "items": [finding_shown(f, state.display) for f in findings["items"]]}
     return template.render(
         catalogue=catalogue, state=state, filters=state.filters, query=state.to_query(),
-        severity=aggs.get("severity", []), rules=aggs.get("rules", []), figures=figures,
-        page=findings, created=datetime.now(UTC).isoformat(timespec="seconds"), triage=triage,
+        severity=aggs.get("severity", []), rules=rules_summary(aggs.get("rules", [])),
+        figures=figures, page=shown, created=datetime.now(UTC).isoformat(timespec="seconds"),
+        triage=triage,
         css=stylesheet(), plotly_js=plotly_source(),
     )
