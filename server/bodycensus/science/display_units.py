@@ -36,6 +36,7 @@ SYMBOLS: dict[str, str] = {
 SI_BY_DIMENSION: dict[str, str] = {
     "mass": "kg", "length": "m", "time": "s", "density": "kg/m3", "temperature": "K",
     "power": "W", "age": "years", "speed": "m/s", "acceleration": "m/s2", "dimensionless": "1",
+    "angle": "rad",
 }
 
 
@@ -88,6 +89,7 @@ QUANTITIES: dict[str, Quantity] = {q.name: q for q in (
     Quantity("temperature", "temperature", {}, ((math.inf, "K"),)),
     Quantity("luminosity", "power", {}, ((math.inf, "solar_luminosity"),)),
     Quantity("ratio", "dimensionless", {}, ((math.inf, "1"),)),
+    Quantity("angle", "angle", {}, ((math.inf, "deg"),)),
 )}
 # The quantity of each canonical field and derived column that has a unit.
 FIELD_QUANTITIES: dict[str, str] = {
@@ -101,6 +103,11 @@ FIELD_QUANTITIES: dict[str, str] = {
     "stable_hill_limit": "distance", "kepler_period": "period", "barycentre_offset": "distance",
     "tidal_lock_time": "age", "period_ratio": "ratio", "roche_x": "ratio", "roche_y": "ratio",
     "hill_ratio": "ratio", "gravity_g0": "ratio",
+    "inclination": "angle", "ring_inner": "distance", "ring_outer": "distance",
+    "ring_mass": "mass", "ring_density": "density", "tidal_decay_time": "age",
+    "ring_inner_edge": "distance", "ring_outer_edge": "distance",
+    "ring_planet_radius": "radius", "ring_roche_rigid": "distance",
+    "ring_roche_fluid": "distance", "ring_implied_density": "density",
 }
 
 

@@ -212,7 +212,12 @@ ORBIT_DERIVED = frozenset({
     "periapsis", "apoapsis", "parent_mass", "parent_radius", "parent_density", "parent_family",
     "roche_rigid", "roche_fluid", "hill_radius", "parent_hill_radius", "stable_hill_limit",
     "kepler_period", "period_ratio", "barycentre_offset", "tidal_lock_time", "roche_x",
-    "roche_y", "hill_ratio"})
+    "roche_y", "hill_ratio", "tidal_heating", "tidal_heat_flux", "roche_distance",
+    "tidal_decay_time", "life_to_age"})
+# Derived quantities of a ring: they apply only to a ring, or a planet that carries one.
+RING_DERIVED = frozenset({
+    "ring_inner_edge", "ring_outer_edge", "ring_planet_radius", "ring_roche_rigid",
+    "ring_roche_fluid", "ring_implied_density", "ring_roche_x", "ring_roche_y"})
 _PARENT_SIDE = ("parent_mass", "parent_radius", "parent_density")
 
 
@@ -225,8 +230,9 @@ def derived_rows(derived: Mapping[str, Any], family: str | None, has_parent: boo
     parent_family = derived.get("parent_family")
     rows: list[DerivedRow] = []
     missing: list[str] = []
+    no_ring = all(derived.get(name) is None for name in RING_DERIVED)
     for name, value in derived.items():
-        if name in ORBIT_DERIVED and not has_parent:
+        if (name in ORBIT_DERIVED and not has_parent) or (name in RING_DERIVED and no_ring):
             continue
         if value is None:
             missing.append(name)
@@ -242,6 +248,9 @@ def derived_rows(derived: Mapping[str, Any], family: str | None, has_parent: boo
         notes.append("It orbits no body in this catalogue (no parent), so the quantities of an "
                      "orbit (periapsis, Roche limits, Hill radius, Kepler period, ...) do not "
                      "apply and are not listed.")
+    if no_ring and any(name in derived for name in RING_DERIVED):
+        notes.append("It is no ring and carries none, so the quantities of a ring (its edges, "
+                     "its Roche limits, the density its edge implies) are not listed.")
     if missing:
         notes.append("Not computed for want of the values they need (see the fields above): "
                      + ", ".join(missing) + ".")

@@ -122,9 +122,10 @@ def _ring_edges_reversed() -> Rule:
     return Rule(
         id="ring-edges-reversed", title="A ring's outer edge is not beyond its inner edge",
         severity="error", source=_DATA, needs=("ring_inner_edge", "ring_outer_edge"),
-        value=outer, limit=inner, unit="m", direction="none", fires=outer <= inner,
-        message=pl.format("ring outer edge {} km is not beyond its inner edge {} km",
-                          fmt(outer / 1e3), fmt(inner / 1e3)), scope="ring",
+        value=outer, limit=inner, unit="m", quantity="distance", direction="none",
+        fires=outer <= inner, scope="ring",
+        message=pl.format("ring outer edge {} is not beyond its inner edge {}",
+                          say(outer, "distance", inner), say(inner, "distance", inner)),
     )
 
 

@@ -21,6 +21,14 @@ NEEDS_IN_WORDS: dict[str, str] = {
     "inner_mass": "a sibling further in with a mass",
     "barycentre_offset": "masses of the body and its parent",
     "tidal_lock_time": "a mass, a radius, an orbit and the parent's mass",
+    "tidal_heat_flux": "a mass, a radius, an eccentric orbit and the parent's mass",
+    "life_to_age": "an orbit decaying by tides and an age",
+    "tidal_decay_time": "an orbit decaying by tides",
+    "ring_inner_edge": "a ring's inner edge", "ring_outer_edge": "a ring's outer edge",
+    "ring_planet_radius": "the radius of the ring's planet",
+    "ring_roche_fluid": "the radius and density of the ring's planet",
+    "_ring_planet_hill": "the orbit of the ring's planet around a body with a mass",
+    "ring_around": "a ring around its parent",
 }
 
 

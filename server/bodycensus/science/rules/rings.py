@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import polars as pl
 
-from bodycensus.science.rules.base import Rule, fmt
+from bodycensus.science.rules.base import Rule, fmt, say
 from bodycensus.science.rules.orbit import OrbitSettings
 
 _INNER, _OUTER = pl.col("ring_inner_edge"), pl.col("ring_outer_edge")
@@ -17,8 +17,9 @@ _PLANET_RADIUS = pl.col("ring_planet_radius")
 _ROCHE_SOURCE = "Roche 1849 (fluid, 2.44): inside it ring particles cannot gather into moons"
 
 
-def _km(expr: pl.Expr) -> pl.Expr:
-    return fmt(expr / 1e3)
+def _far(expr: pl.Expr, reference: pl.Expr) -> pl.Expr:
+    """A distance in km or au, by the size of ``reference``."""
+    return say(expr, "distance", reference)
 
 
 def _inside_planet() -> Rule:
@@ -28,26 +29,26 @@ def _inside_planet() -> Rule:
         source="geometry: a ring's inner edge below its planet's radius",
         needs=("ring_inner_edge", "ring_planet_radius"), value=ratio, limit=pl.lit(1.0),
         unit="x planet radius", direction="below", scope="ring",
-        message=pl.format("ring inner edge {} km is inside the planet (radius {} km)",
-                          _km(_INNER), _km(_PLANET_RADIUS)),
+        message=pl.format("ring inner edge {} is inside the planet (radius {})",
+                          _far(_INNER, _PLANET_RADIUS), _far(_PLANET_RADIUS, _PLANET_RADIUS)),
     )
 
 
 def _beyond_roche(settings: OrbitSettings) -> Rule:
     ratio = _OUTER / pl.col("ring_roche_fluid")
     material = pl.when(pl.col("_ring_material_assumed")).then(
-        pl.format("{} kg/m3 (ice, assumed)", fmt(pl.col("_ring_material")))).otherwise(
-        pl.format("{} kg/m3", fmt(pl.col("_ring_material"))))
+        pl.format("{} (ice, assumed)", say(pl.col("_ring_material"), "density"))).otherwise(
+        say(pl.col("_ring_material"), "density"))
     return Rule(
         id="ring-beyond-roche", title="A ring reaches past the fluid Roche limit of its material",
         severity="suspect", source=_ROCHE_SOURCE + "; tolerance for porous particles (see "
                                                    "OrbitSettings.ring_roche_tolerance)",
         needs=("ring_outer_edge", "ring_roche_fluid"), value=ratio,
         limit=pl.lit(settings.ring_roche_tolerance), unit="x fluid Roche limit", scope="ring",
-        message=pl.format("outer edge {} km is {}x the fluid Roche limit {} km for {}; the edge "
-                          "implies {} kg/m3", _km(_OUTER), fmt(ratio),
-                          _km(pl.col("ring_roche_fluid")), material,
-                          fmt(pl.col("ring_implied_density"))),
+        message=pl.format("outer edge {} is {}x the fluid Roche limit {} for {}; the edge "
+                          "implies {}", _far(_OUTER, _OUTER), fmt(ratio),
+                          _far(pl.col("ring_roche_fluid"), _OUTER), material,
+                          say(pl.col("ring_implied_density"), "density")),
     )
 
 
@@ -58,8 +59,9 @@ def _beyond_hill() -> Rule:
         severity="impossible", source="Hill sphere r_H = a(1-e)(m/3M)^(1/3) (Hill 1878)",
         needs=("ring_outer_edge", "_ring_planet_hill"), value=ratio, limit=pl.lit(1.0),
         unit="x planet Hill radius", scope="ring",
-        message=pl.format("ring outer edge {} km is {}x the planet's Hill radius {} km",
-                          _km(_OUTER), fmt(ratio), _km(pl.col("_ring_planet_hill"))),
+        message=pl.format("ring outer edge {} is {}x the planet's Hill radius {}",
+                          _far(_OUTER, _OUTER), fmt(ratio),
+                          _far(pl.col("_ring_planet_hill"), _OUTER)),
     )
 
 
@@ -69,10 +71,10 @@ def _moon_in_ring() -> Rule:
         id="moon-in-ring", title="A moon orbits within a ring's span", severity="note",
         source="ring geometry: the moon's semi-major axis between the ring's edges (a moon there "
                "opens a gap, as Pan and Daphnis do in Saturn's A ring)",
-        needs=("_a", "ring_around"), value=a, limit=high, unit="m", direction="none",
-        fires=pl.lit(True), scope="orbit",
-        message=pl.format("orbits at {} km, within the ring of '{}' ({}-{} km)", _km(a),
-                          pl.col("ring_around"), _km(low), _km(high)),
+        needs=("_a", "ring_around"), value=a, limit=high, unit="m", quantity="distance",
+        direction="none", fires=pl.lit(True), scope="orbit",
+        message=pl.format("orbits at {}, within the ring of '{}' ({} to {})", _far(a, high),
+                          pl.col("ring_around"), _far(low, high), _far(high, high)),
     )
 
 

@@ -10,7 +10,7 @@ import polars as pl
 
 from bodycensus.science.families import NON_STELLAR_FAMILIES
 from bodycensus.science.physics.tides import IO_HEAT_FLUX
-from bodycensus.science.rules.base import Rule, fmt
+from bodycensus.science.rules.base import Rule, fmt, say
 from bodycensus.science.rules.orbit import OrbitSettings
 
 
@@ -39,8 +39,10 @@ def _short_lived_orbit(settings: OrbitSettings) -> Rule:
         limit=pl.when(short).then(pl.lit(fraction)).otherwise(pl.lit(1.0)), unit="x system age",
         direction="below", scope="orbit", families=NON_STELLAR_FAMILIES,
         severity_expr=pl.when(short).then(pl.lit("unstable")).otherwise(pl.lit("note")),
-        message=pl.format("tides bring the orbit to its parent's Roche limit or surface in {} yr, "
-                          "{}x the system's age", fmt(pl.col("tidal_decay_time")), fmt(ratio)),
+        also=("note",),
+        message=pl.format("tides bring the orbit to its parent's Roche limit or surface in {}, "
+                          "{}x the system's age", say(pl.col("tidal_decay_time"), "age"),
+                          fmt(ratio)),
     )
 
 
