@@ -60,8 +60,9 @@ def test_the_polars_form_chooses_as_the_python_form_does() -> None:
                          schema={"family": pl.String, "size": pl.Float64})
     by_quantity: dict[str, list[str]] = {}
     for quantity in {c[0] for c in cases}:
-        column = frame.select(du.unit_expr(quantity, pl.col("family"), pl.col("size")))
-        by_quantity[quantity] = column.to_series().to_list()
+        column = frame.with_columns(unit=du.unit_expr(quantity, pl.col("family"),
+                                                      pl.col("size")))["unit"]
+        by_quantity[quantity] = column.to_list()
     for i, (quantity, family, size) in enumerate(cases):
         assert by_quantity[quantity][i] == FAMILY_UNITS.unit(quantity, family, size), (
             quantity, family, size)

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import math
 import re
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 
 import polars as pl
@@ -149,17 +149,37 @@ def to_unit(value_si: float | None, unit: str) -> float | None:
     return value_si / DISPLAY_UNITS[unit].to_si
 
 
-def unit_expr(quantity: str, family: pl.Expr, size: pl.Expr) -> pl.Expr:
-    """The polars twin of ``family_unit``: the unit name per row, from ``family`` and ``size``."""
+def unit_cases(quantity: str, family: pl.Expr, size: pl.Expr) -> list[tuple[pl.Expr, str]]:
+    """The polars twin of ``family_unit``, as ordered cases (condition, unit): the first whose
+    condition holds gives the unit, the last holds always. Kept short (a quantity without
+    family units has only its ladder; one unit, no condition) because rule messages inline
+    them and polars plans every branch."""
     q = QUANTITIES[quantity]
-    magnitude = size.abs().fill_nan(None).fill_null(math.inf)
     cases = [(family.is_in(sorted(f for f, u in q.by_family.items() if u == unit)), unit)
              for unit in dict.fromkeys(q.by_family.values())]
-    cases += [(magnitude < bound, unit) for bound, unit in q.ladder]
-    chain: Then | ChainedThen = pl.when(cases[0][0]).then(pl.lit(cases[0][1]))
-    for cond, unit in cases[1:]:
-        chain = chain.when(cond).then(pl.lit(unit))
-    return chain.otherwise(pl.lit(q.ladder[-1][1]))
+    magnitude = size.abs().fill_nan(None).fill_null(math.inf)
+    cases += [(magnitude < bound, unit) for bound, unit in q.ladder[:-1]]
+    return [*cases, (pl.lit(True), q.ladder[-1][1])]
+
+
+def when_cases(cases: list[tuple[pl.Expr, str]], then: Callable[[str], pl.Expr]) -> pl.Expr:
+    """``then(unit)`` of the first case that holds (no ``when`` at all for a single case)."""
+    if len(cases) == 1:
+        return then(cases[0][1])
+    chain: Then | ChainedThen = pl.when(cases[0][0]).then(then(cases[0][1]))
+    for cond, unit in cases[1:-1]:
+        chain = chain.when(cond).then(then(unit))
+    return chain.otherwise(then(cases[-1][1]))
+
+
+def unit_expr(quantity: str, family: pl.Expr, size: pl.Expr) -> pl.Expr:
+    """The unit name per row, from ``family`` and ``size`` (``unit_cases`` as one column)."""
+    return when_cases(unit_cases(quantity, family, size), pl.lit)
+
+
+def in_unit(value: pl.Expr, unit: str) -> pl.Expr:
+    """``value`` (SI) divided into ``unit``."""
+    return value / DISPLAY_UNITS[unit].to_si
 
 
 def scaled_expr(value: pl.Expr, unit: pl.Expr) -> tuple[pl.Expr, pl.Expr]:

@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import polars as pl
 
-from bodycensus.science.display_units import scaled_expr, unit_expr
+from bodycensus.science.display_units import in_unit, symbol, unit_cases, when_cases
 from bodycensus.science.families import RING_FAMILIES
 from bodycensus.science.rules.needs import in_words
 from bodycensus.science.severity import SEVERITY_RANK
@@ -161,10 +161,10 @@ def say(value: pl.Expr, quantity: str, reference: pl.Expr | None = None,
     """A quantity (SI) as message text in the unit a curator reads it in, e.g. '0.05 au' or
     '5.5 g/cm3' (``display_units``): the unit of the body's family, or of the size of
     ``reference`` (the rule's limit, so value, limit and message share one unit)."""
-    unit = unit_expr(quantity, pl.col("family") if family is None else family,
-                     value if reference is None else reference)
-    scaled, shown = scaled_expr(value, unit)
-    return pl.concat_str([fmt(scaled), pl.lit(" "), shown])
+    cases = unit_cases(quantity, pl.col("family") if family is None else family,
+                       value if reference is None else reference)
+    return when_cases(cases, lambda unit: pl.concat_str([fmt(in_unit(value, unit)),
+                                                         pl.lit(f" {symbol(unit)}")]))
 
 
 def fmt(expr: pl.Expr) -> pl.Expr:
