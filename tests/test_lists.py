@@ -96,7 +96,8 @@ def test_groups_count_every_finding_once_with_three_examples(checked: Path,
         assert g["findings"] == mine.height and g["bodies"] == mine["body"].n_unique()
         assert g["counts"] == {s: n for s, n in mine["severity"].value_counts().iter_rows()
                                if n} and g["worst"] == min(g["counts"], key=SEVERITIES.index)
-        assert len(g["examples"]) == min(3, mine.height)
+        assert len(g["examples"]) == min(3, g["bodies"])  # distinct bodies
+        assert len({e["body"] for e in g["examples"]}) == len(g["examples"])
         margins = mine["margin"].drop_nulls()
         if margins.len():
             assert g["worst_margin"] == pytest.approx(margins.max())

@@ -19,7 +19,7 @@ from bodycensus.storage.store import json_ready, write_json_atomic
 
 GROUPS_FILE = "groups.json"
 EXAMPLES = 3
-VERSION = 1
+VERSION = 2  # 1 listed a body twice among the examples when it held two findings
 
 
 class Example(TypedDict):
@@ -53,7 +53,8 @@ def _plan(lf: pl.LazyFrame) -> pl.LazyFrame:
                  pl.col("family").mode().first().alias("family"),
                  *[(pl.col("severity") == s).sum().alias(s) for s in SEVERITIES],
                  pl.col("_rank").min(), pl.col("margin").max().alias("worst_margin"),
-                 pl.struct(body="body", name="_name").sort_by(order).head(EXAMPLES)
+                 pl.struct(body="body", name="_name").sort_by(order)
+                 .filter(pl.col("body").sort_by(order).is_first_distinct()).head(EXAMPLES)
                  .alias("examples"))
             .sort(["_rank", "findings", "rule", "label"], descending=[False, True, False, False],
                   nulls_last=True))
