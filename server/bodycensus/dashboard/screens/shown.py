@@ -55,8 +55,10 @@ def quantity_shown(value: Any, quantity: str | None, family: str | None,
                    choice: DisplayChoice, size: float | None = None) -> Shown:
     """A value (SI; years for ages) of ``quantity`` for a body of ``family`` in the chosen
     unit; ``size`` picks the unit where the family does not (the value itself by default)."""
-    if not isinstance(value, int | float) or isinstance(value, bool) or quantity is None:
+    if not isinstance(value, int | float) or isinstance(value, bool):
         return {"text": "" if value is None else str(value), "unit": "", "si": ""}
+    if quantity is None:  # a number in its own unit (W, W/m2, a ratio)
+        return {"text": number(float(value)), "unit": "", "si": ""}
     unit = choice.unit(quantity, family, size if size is not None else float(value))
     si_unit = DisplayChoice("si").unit(quantity, family, None)
     return {"text": number(to_unit(float(value), unit)), "unit": symbol(unit),
