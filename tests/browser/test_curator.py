@@ -24,6 +24,9 @@ from playwright.sync_api import Page, expect
 from bodycensus.demo import write_demo
 
 HEADERS = {"X-Requested-With": "XMLHttpRequest"}
+# Columns of the Findings table: pick, severity, decision, body, name, label, family, rule,
+# value, limit, unit, margin, message, row.
+NAME, RULE, MESSAGE = 4, 7, 12
 
 
 def _wait(base: str, cat_id: str) -> dict:
@@ -106,9 +109,10 @@ def test_02_each_finding_quotes_its_own_limit_and_a_citation(page: Page, base_ur
     first, second = rows.nth(0), rows.nth(1)
     expect(first).to_contain_text("impossible")
     expect(first).to_contain_text("mass 3.2 M_sun is above the limit 3 M_sun")
-    expect(first.locator("td").nth(7)).to_have_text("3")  # the limit of its own severity
+    limit = 9  # pick, severity, decision, body, name, label, family, rule, value, limit
+    expect(first.locator("td").nth(limit)).to_have_text("3")  # its own severity's limit
     expect(second).to_contain_text("suspect")
-    expect(second.locator("td").nth(7)).to_have_text("2.3")
+    expect(second.locator("td").nth(limit)).to_have_text("2.3")
     page.screenshot(path=screenshots / "curator-02-neutron-limits.png", full_page=True)
     page.goto(f"{base_url}/catalogues/{odd}/bodies/Vell-1")
     source = page.locator("#body-findings td.source").first
@@ -145,7 +149,7 @@ def test_04_units_by_family_in_value_limit_and_message(page: Page, base_url: str
     row = page.locator("#findings-table tbody tr").first
     unit = row.locator("td.unit").inner_text()
     assert unit in ("km", "au")
-    message = row.locator("td").nth(10).inner_text()
+    message = row.locator("td").nth(MESSAGE).inner_text()
     assert re.search(rf"\d {unit} is inside the rigid Roche limit [\d.e+-]+ {unit}$", message)
     title = row.locator("td.num").first.get_attribute("title") or ""
     assert re.fullmatch(r"value [\d.e+-]+ m, limit [\d.e+-]+ m", title)  # SI on hover
@@ -158,7 +162,7 @@ def test_04_units_by_family_in_value_limit_and_message(page: Page, base_url: str
     row = page.locator("#findings-table tbody tr").first
     expect(row.locator("td.unit")).to_have_text("m")
     assert re.search(r"\d m is inside the rigid Roche limit [\d.e+-]+ m$",
-                     row.locator("td").nth(10).inner_text())
+                     row.locator("td").nth(MESSAGE).inner_text())
     page.screenshot(path=screenshots / "curator-04-units-si.png", full_page=True)
 
 
@@ -222,8 +226,8 @@ def test_07_search_by_id_or_name_from_any_screen(page: Page, base_url: str, demo
 def test_08_names_beside_ids_on_screens_and_in_exports(page: Page, base_url: str, demo: str,
                                                        screenshots: Path) -> None:
     page.goto(f"{base_url}/catalogues/{demo}/findings?severity=impossible")
-    expect(page.locator("#findings-table thead th").nth(2)).to_have_text("Name")
-    assert any(page.locator("#findings-table tbody td:nth-child(3)").all_inner_texts())
+    expect(page.locator("#findings-table thead th").nth(NAME)).to_have_text("Name")
+    assert any(page.locator(f"#findings-table tbody td:nth-child({NAME + 1})").all_inner_texts())
     href = page.locator("a", has_text="CSV").first.get_attribute("href") or ""
     exported = list(csv.DictReader(io.StringIO(httpx.get(base_url + href).text)))
     assert exported and list(exported[0])[:4] == ["body", "name", "system", "parent"]
@@ -458,7 +462,7 @@ def test_20_findings_grouped_by_rule_and_label_come_first(page: Page, base_url: 
         min(3, int(row.locator("td").nth(4).inner_text().replace(",", ""))))
     row.locator("td").nth(2).locator("a").click()
     page.wait_for_url(re.compile(rf"/findings\?rule={re.escape(rule)}"))
-    shown = set(page.locator("#findings-table tbody td:nth-child(6)").all_inner_texts())
+    shown = set(page.locator(f"#findings-table tbody td:nth-child({RULE + 1})").all_inner_texts())
     assert shown == {rule}
     page.goto(f"{base_url}/catalogues/{demo}/findings/groups?severity=unstable")
     expect(page.locator("#groups-table tbody tr").first).to_contain_text("unstable")

@@ -39,8 +39,8 @@ from typing import Any, Unpack
 from bodycensus.durable import fsync_path
 from bodycensus.errors import Conflict, NotFound, NotReady, StorageError, storage_error
 from bodycensus.input.ingest import IngestRecord
-from bodycensus.storage.decisions import DecisionBook
 from bodycensus.input.sniff import ProposalRecord
+from bodycensus.storage.decisions import DecisionBook
 from bodycensus.storage.manifest import Manifest, ManifestChanges, RunSummary, Status
 
 MANIFEST = "manifest.json"

@@ -204,7 +204,6 @@ def _export(request: Request, store: Store, cat_dir: Path, fmt: Literal["csv", "
     """Write the filtered findings (or bodies) to a scratch file and send it, removing it
     afterwards."""
     dest = store.scratch(f".{fmt}")
-    write = queries.export_findings if what == "findings" else export_bodies
     try:
         if what == "findings":
             queries.export_findings(cat_dir, _state(request), fmt, dest,

@@ -11,13 +11,12 @@ from fastapi import APIRouter, Request
 from fastapi.responses import HTMLResponse, RedirectResponse, Response
 
 from bodycensus.dashboard.deps import StoreDep
+from bodycensus.dashboard.routes.page_tools import blanks_dropped, rule_option
 from bodycensus.dashboard.routes.pages import (
     SCREENS,
     _export_url,
     _group_state,
     _render,
-    _rule_option,
-    blanks_dropped,
     cat_url,
     group_rows,
 )
@@ -67,7 +66,7 @@ def bodies_context(store: Store, cat_id: str, state: ViewState) -> dict[str, Any
         "default_query": "screen=bodies",
         "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/bodies"
                     + (f"?{query}" if query else ""),
-        "rule_options": [(r["rule"], _rule_option(r)) for r in
+        "rule_options": [(r["rule"], rule_option(r)) for r in
                          sorted(rules_summary(aggs["rules"]), key=lambda r: r["rule"])],
         "label_options": sorted(lb["label"] for lb in aggs["labels"] if lb["label"] is not None),
         "family_options": sorted(f["family"] for f in aggs["families"] if f["family"]),
@@ -103,7 +102,7 @@ def groups_context(store: Store, cat_id: str, state: ViewState) -> dict[str, Any
         "screen_name": "groups",
         "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/findings/groups"
                     + (f"?{query}" if query else ""),
-        "rule_options": [(r["rule"], _rule_option(r)) for r in
+        "rule_options": [(r["rule"], rule_option(r)) for r in
                          sorted(rules_summary(aggs["rules"]), key=lambda r: r["rule"])],
         "label_options": sorted(lb["label"] for lb in aggs["labels"] if lb["label"] is not None),
         "family_options": sorted(f["family"] for f in aggs["families"] if f["family"]),

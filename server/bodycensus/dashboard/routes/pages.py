@@ -15,6 +15,12 @@ from fastapi.responses import HTMLResponse, RedirectResponse, Response
 from fastapi.templating import Jinja2Templates
 
 from bodycensus.dashboard.deps import StoreDep
+from bodycensus.dashboard.routes.page_tools import (
+    blanks_dropped,
+    rule_option,
+    sort_groups,
+    units_menu,
+)
 from bodycensus.dashboard.screens import groups, queries, report
 from bodycensus.dashboard.screens.figure_text import drawn_marks
 from bodycensus.dashboard.screens.page_context import (
@@ -25,13 +31,12 @@ from bodycensus.dashboard.screens.page_context import (
     format_number,
     rules_summary,
 )
-from bodycensus.dashboard.screens.triage import decisions_of, system_groups, triage_counts
 from bodycensus.dashboard.screens.regions import describe
 from bodycensus.dashboard.screens.search import names_for
 from bodycensus.dashboard.screens.shown import finding_shown, row_shown
-from bodycensus.dashboard.screens.viewstate import SORT_KEYS, ViewState
+from bodycensus.dashboard.screens.triage import decisions_of, system_groups, triage_counts
+from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.input.formats import accepted
-from bodycensus.science.display_units import DISPLAY_UNITS, symbol
 from bodycensus.science.families import FAMILIES
 from bodycensus.science.rules import RULES_BY_ID
 from bodycensus.science.severity import SEVERITIES
@@ -45,11 +50,6 @@ router = APIRouter(include_in_schema=False)
 LABELS_SHOWN = 40
 NAME_COOKIE = "bodycensus_name"  # who decides: the name typed in a decide form (triage.js)
 GROUPS_ON_OVERVIEW = 12
-# Units a person may pin per dimension in the Units menu (the rest stay by family or SI).
-PINNABLE = {"mass": ("kg", "earth_mass", "jupiter_mass", "solar_mass"),
-            "length": ("m", "km", "earth_radius", "jupiter_radius", "solar_radius", "au")}
-
-
 def cat_url(cat_id: str, *parts: str, state: ViewState | None = None) -> str:
     """The page of a catalogue (or below it), with a view's query when given."""
     path = "/".join([f"/catalogues/{quote(cat_id, safe='')}", *[quote(p, safe='') for p in parts]])
@@ -70,26 +70,6 @@ def _render(request: Request, template: str, **context: Any) -> HTMLResponse:
     if "state" in context and context.get("units_menu", True):
         context["units_menu"] = units_menu(context["state"], request)
     return templates.TemplateResponse(request, template, context)
-
-
-def units_menu(state: ViewState, request: Request) -> dict[str, Any]:
-    """The Units menu of a screen: the current choice, the pins offered per dimension, and the
-    rest of the address kept as hidden fields so a change keeps every other choice."""
-    keep = [(k, v) for k, v in request.query_params.multi_items()
-            if k not in ("units", "unit", "offset") and v != ""]
-    pins = {dim: [(u, symbol(u)) for u in units if u in DISPLAY_UNITS]
-            for dim, units in PINNABLE.items()}
-    return {"keep": keep, "system": state.units, "pinned": state.pinned_units, "pins": pins}
-
-
-def blanks_dropped(request: Request) -> Response | None:
-    """A redirect to the same address without its empty parameters (a form submits every
-    field; an address keeps only the choices made), or None when there are none."""
-    pairs = request.query_params.multi_items()
-    if not any(v == "" for _, v in pairs):
-        return None
-    kept = "&".join(f"{quote(k, safe='')}={quote(v, safe='')}" for k, v in pairs if v != "")
-    return RedirectResponse(f"{request.url.path}{'?' + kept if kept else ''}", status_code=303)
 
 
 @router.get("/", response_class=HTMLResponse)
@@ -179,18 +159,6 @@ def overview_page(request: Request, catalogue_id: str, store: StoreDep) -> Respo
     return _render(request, "overview.html", **context)
 
 
-def sort_groups() -> list[tuple[str, list[tuple[str, str]]]]:
-    """The Findings list's orders, grouped: by seriousness, then by a column either way."""
-    columns = [k for k in SORT_KEYS if k != "severity"]
-    words = {"_row": "row in the file", "body": "body id"}
-    return [("Seriousness", [("severity", "most serious first, largest margin first"),
-                             ("-severity", "least serious first")]),
-            ("A column, smallest or A first",
-             [(k, f"{words.get(k, k)}, smallest or A first") for k in columns]),
-            ("A column, largest or Z first",
-             [(f"-{k}", f"{words.get(k, k)}, largest or Z first") for k in columns])]
-
-
 def findings_context(store: Store, cat_id: str, state: ViewState) -> dict[str, Any]:
     """Findings: one server-side page of the filtered, sorted list, with its filter form; each
     value, limit and message in the view's units."""
@@ -206,7 +174,7 @@ def findings_context(store: Store, cat_id: str, state: ViewState) -> dict[str, A
         "page": {**page, "items": items}, "query": query, "default_query": "sort=severity",
         "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/findings" + (f"?{query}" if query
                                                                           else ""),
-        "rule_options": [(r["rule"], _rule_option(r)) for r in
+        "rule_options": [(r["rule"], rule_option(r)) for r in
                          sorted(rules_summary(aggs["rules"]), key=lambda r: r["rule"])],
         "label_options": sorted(lb["label"] for lb in aggs["labels"] if lb["label"] is not None),
         "family_options": sorted(f["family"] for f in aggs["families"] if f["family"]),
@@ -227,12 +195,6 @@ def _group_state(state: ViewState) -> ViewState:
     """The filters that carry over between the list and its groups."""
     return ViewState(severity=state.severity, rule=state.rule, label=state.label,
                      family=state.family, units=state.units, unit=state.unit)
-
-
-def _rule_option(rule: dict[str, Any]) -> str:
-    """A rule in the filter's drop-down: its id and its findings at each severity."""
-    counts = ", ".join(f"{n:,} {s}" for s, n in rule["counts"].items())
-    return f"{rule['rule']} ({counts})"
 
 
 def _export_url(cat_id: str, what: str, fmt: str, state: ViewState) -> str:
