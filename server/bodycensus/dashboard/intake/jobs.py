@@ -16,8 +16,6 @@ from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 
-import polars as pl
-
 from bodycensus.dashboard.settings import Settings
 from bodycensus.diagrams.aggregates import compute_aggregates
 from bodycensus.engines.local import CheckOptions, check_file
@@ -28,6 +26,7 @@ from bodycensus.input.schema import guess_mapping
 from bodycensus.science.families import FAMILIES
 from bodycensus.storage.manifest import Manifest, OverridesRecord
 from bodycensus.storage.names import write_name_index
+from bodycensus.storage.runs import scan_bodies
 from bodycensus.storage.store import Store, now, write_json_atomic
 
 log = logging.getLogger(__name__)
@@ -109,7 +108,7 @@ def run_check(store: Store, settings: Settings, cat_id: str, overrides: Override
     result = check_file(store.source_path(cat_id), work, options, progress)
     progress("aggregates", 0.0)
     write_json_atomic(work / "aggregates.json", compute_aggregates(work, options.orbit_settings))
-    write_name_index(pl.scan_parquet(result.bodies), work)
+    write_name_index(scan_bodies(work), work)
     report = result.report.to_json() if result.report is not None else None
     return store.publish(cat_id, rows=result.summary["rows"], summary=result.summary,
                          mapping=report)

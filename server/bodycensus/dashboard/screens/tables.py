@@ -1,6 +1,6 @@
 """The tables of a checked catalogue as lazy frames, for the screens that filter bodies (the
-Bodies list, a diagram's selected region, search results): the one place on this side that
-knows where the engine put its bodies and findings, and where the name index lives.
+Bodies list, a diagram's selected region, search results): bodies and findings through
+``storage.runs`` (which knows the engine's layouts), the name index written when missing.
 """
 
 from __future__ import annotations
@@ -11,16 +11,18 @@ import polars as pl
 
 from bodycensus.science.severity import SEVERITIES, rank_expr
 from bodycensus.storage.names import has_index, write_name_index
+from bodycensus.storage.runs import scan_bodies, scan_findings
 
 
 def bodies(cat_dir: Path) -> pl.LazyFrame:
-    """Every body of the catalogue with the columns the run derived (lazy; filter it first)."""
-    return pl.scan_parquet(cat_dir / "bodies.parquet")
+    """Every body of the catalogue with the columns the run derived (lazy; filter it first),
+    in whichever layout the engine wrote (``storage.runs``)."""
+    return scan_bodies(cat_dir)
 
 
 def findings(cat_dir: Path) -> pl.LazyFrame:
     """Every finding, in the list's stored order (lazy)."""
-    return pl.scan_parquet(cat_dir / "findings.parquet")
+    return scan_findings(cat_dir)
 
 
 def rows_of(cat_dir: Path, ids: list[str], columns: list[str]) -> pl.DataFrame:
