@@ -179,3 +179,19 @@ def test_compare_screen_and_its_json_twin(client: SyncClient) -> None:
     assert_error(client.get("/api/compare", params={"old": old, "new": old}), 400,
                  "bad_input")
     assert client.get("/api/compare", params={"old": old, "new": "nosuchcat"}).status_code == 404
+
+
+def test_lists_of_systems_and_marked_points_carry_decision_badges(client: SyncClient) -> None:
+    cat_id = _ready(client, "universe.csv", CATALOGUE)
+    systems = client.get(f"/catalogues/{cat_id}/systems").text
+    assert "3 undecided" in systems and "decision-confirmed" not in systems
+    _decide(client, cat_id, scope="finding", status="confirmed", by="Ana",
+            items=[{"rule": "denser-than-iron", "target": "lead0"}])
+    systems = client.get(f"/catalogues/{cat_id}/systems").text
+    assert "2 undecided" in systems and "decision-confirmed" in systems
+    drawn = client.get(f"/catalogues/{cat_id}/diagrams", params={"diagram": "mass-radius"}).text
+    table = drawn.split('id="drawn-table"')[1]
+    lead0 = table.split(">lead0</a>")[1].split("</tr>")[0]
+    lead1 = table.split(">lead1</a>")[1].split("</tr>")[0]
+    assert "decision-confirmed" in lead0 and "undecided" not in lead0
+    assert "1 undecided" in lead1 and "decision-" not in lead1

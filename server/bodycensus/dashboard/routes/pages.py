@@ -34,7 +34,12 @@ from bodycensus.dashboard.screens.page_context import (
 from bodycensus.dashboard.screens.regions import describe
 from bodycensus.dashboard.screens.search import names_for
 from bodycensus.dashboard.screens.shown import finding_shown, row_shown
-from bodycensus.dashboard.screens.triage import decisions_of, system_groups, triage_counts
+from bodycensus.dashboard.screens.triage import (
+    counts_by,
+    decisions_of,
+    system_groups,
+    triage_counts,
+)
 from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.input.formats import accepted
 from bodycensus.science.families import FAMILIES
@@ -218,12 +223,15 @@ def diagrams_context(store: Store, cat_id: str, state: ViewState) -> dict[str, A
     """Distributions and the other diagrams: one plotly figure from the stored aggregates."""
     cat_dir = store.ready_dir(cat_id)
     context = diagram_context(cat_id, queries.aggregates(cat_dir), state, cat_url)
+    drawn = drawn_marks(context["figure"])
+    decided = counts_by(cat_dir, decisions_of(store, cat_id)[1], "body",
+                        [m["body"] for m in drawn if m["body"] is not None])
     selection = {"diagram": context["diagram"], "label": context["label"],
                  "field": context["field"], "findings": cat_url(cat_id, "findings"),
                  "bodies": cat_url(cat_id, "bodies")}
     return {**context, "screen": "diagrams", "catalogue": store.get(cat_id).to_json(),
             "selection": selection, "state": state, "units_menu": False,
-            "drawn": drawn_marks(context["figure"]),
+            "drawn": [{**m, "decisions": decided.get(m["body"] or "")} for m in drawn],
             "query": state.to_query(), "default_query": f"diagram={context['diagram']}",
             "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/aggregates"}
 
@@ -324,12 +332,15 @@ def systems_context(store: Store, cat_id: str, state: ViewState) -> dict[str, An
     page = queries.systems_page(cat_dir, state)
     names = names_for(cat_dir, [i for item in page["items"]
                                 for i in (item["primary"], item["worst_body"]) if i])
+    decided = counts_by(cat_dir, decisions_of(store, cat_id)[1], "system",
+                        [item["system"] for item in page["items"]])
     query = state.with_(sort=ViewState.sort).to_query()
     prev_state = state.with_(offset=max(0, state.offset - state.limit))
     next_state = state.with_(offset=state.offset + state.limit)
     items = [{**item, "href": cat_url(cat_id, "systems", item["system"]),
               "primary_name": names.get(item["primary"] or ""),
               "worst_name": names.get(item["worst_body"] or ""),
+              "decisions": decided.get(item["system"]),
               "worst_href": (cat_url(cat_id, "bodies", item["worst_body"])
                              if item["worst_body"] is not None else None),
               "primary_href": (cat_url(cat_id, "bodies", item["primary"])

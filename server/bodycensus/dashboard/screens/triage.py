@@ -80,6 +80,28 @@ def triage_counts(cat_dir: Path, decisions: Sequence[Decision]) -> TriageCounts:
     return cast(TriageCounts, row)
 
 
+def counts_by(cat_dir: Path, decisions: Sequence[Decision], by: Literal["body", "system"],
+              targets: Sequence[str]) -> dict[str, TriageCounts]:
+    """Findings, undecided and decided per status of each listed body or system: the decision
+    badges of a list that shows bodies or systems (only the listed ones are read)."""
+    if not targets:
+        return {}
+    if by == "body":
+        own = scan_findings(cat_dir).filter(pl.col("body").is_in(list(targets)))
+        keyed = with_decisions(own, decisions, lambda: scan_bodies(cat_dir)).rename({"body": "key"})
+    else:
+        members = (scan_bodies(cat_dir).filter(pl.col("system").is_in(list(targets)))
+                   .select(pl.col("id").alias("body"), pl.col("system").alias("key"))
+                   .unique(subset=["body"], keep="first"))
+        own = scan_findings(cat_dir).join(members.select("body"), on="body", how="semi")
+        keyed = (with_decisions(own, decisions, lambda: scan_bodies(cat_dir))
+                 .join(members, on="body", how="left"))
+    rows = (keyed.group_by("key").agg(pl.len().alias("findings"), pl.col("decision").is_null()
+                                      .sum().alias("undecided"), *_status_counts())
+            .collect().iter_rows(named=True))
+    return {row.pop("key"): cast(TriageCounts, row) for row in rows}
+
+
 def _with_targets(cat_dir: Path, lf: pl.LazyFrame, by: Grouping) -> pl.LazyFrame:
     """The findings with ``target``: their label, or their body's system."""
     if by == "label":
