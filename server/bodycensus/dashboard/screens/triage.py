@@ -92,7 +92,7 @@ def counts_by(cat_dir: Path, decisions: Sequence[Decision], by: Literal["body", 
     else:
         members = (scan_bodies(cat_dir).filter(pl.col("system").is_in(list(targets)))
                    .select(pl.col("id").alias("body"), pl.col("system").alias("key"))
-                   .unique(subset=["body"], keep="first"))
+                   .unique())  # an id given twice counts in each system that lists it
         own = scan_findings(cat_dir).join(members.select("body"), on="body", how="semi")
         keyed = (with_decisions(own, decisions, lambda: scan_bodies(cat_dir))
                  .join(members, on="body", how="left"))
