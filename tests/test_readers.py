@@ -36,6 +36,7 @@ from bodycensus.input.readers import (
     ndjson_fault,
     sniff_delimiter,
     to_string,
+    unique_columns,
 )
 
 MIB = 2**20
@@ -173,12 +174,23 @@ def test_a_character_cut_by_the_end_of_the_head_is_no_fault() -> None:
     (["1.0", "2", "x"], "1.0,2,x", "line 1 looks like data (1.0, 2, x, ...), not a header"),
     (["id|mass"], "id|mass", "line 1 is one column split by '|'"),
     (["id  mass"], "id  mass", "line 1 is one column split by 'spaces'"),
-    (["id", "m", "id"], "id,m,id", "line 1: column 'id' appears twice (columns 1 and 3)"),
     (['{"id": "b1"', '"m": 1}'], '{"id": "b1", "m": 1}', "line 1 is a JSON object, not a header"),
 ])
 def test_header_faults(columns: list[str], line: str, says: str) -> None:
     fault = header_fault(columns, line)
     assert fault is not None and fault.startswith(says) and "; " in fault
+
+
+def test_repeated_names_are_renamed_after_their_value() -> None:
+    # TEPCat's header (Southworth 2011, MNRAS 417, 2166) repeats err/errup/errdn beside each value
+    columns = ["System", "Teff", "err", "err", "M_A", "errup", "errdn", "R_A", "errup", "errdn"]
+    renamed, said = unique_columns(columns)
+    assert renamed == ["System", "Teff", "Teff_err", "Teff_err_2", "M_A", "M_A_errup",
+                       "M_A_errdn", "R_A", "R_A_errup", "R_A_errdn"]
+    assert said[0] == "column 3 'err' (repeated) read as 'Teff_err'" and len(said) == 6
+    assert unique_columns(["id", "m", "id"]) == (
+        ["id", "m", "m_id"], ["column 3 'id' (repeated) read as 'm_id'"])
+    assert unique_columns(["id", "mass"]) == (["id", "mass"], [])
 
 
 def test_a_good_header_has_no_fault() -> None:

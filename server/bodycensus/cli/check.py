@@ -28,6 +28,7 @@ from bodycensus.cli.gate import (
 )
 from bodycensus.engines.local import CheckOptions, CheckResult, check_file
 from bodycensus.input.formats import accepted
+from bodycensus.input.hosts import HOST_LABEL, HostColumns
 from bodycensus.input.ingest import IngestRecord
 from bodycensus.input.schema import parse_assignment
 from bodycensus.science.families import parse_family_override
@@ -59,6 +60,18 @@ def add_check_parser(commands: Commands) -> None:
                        help="FIELD is given in UNIT (repeatable), e.g. --unit mass=earth_mass")
     check.add_argument("--family", action="append", default=[], metavar="LABEL=FAMILY",
                        help="treat LABEL as FAMILY (repeatable), e.g. --family 'lava world=rock'")
+    hosts = check.add_argument_group(
+        "one row per planet", "build a row per host star from columns of each planet's row")
+    hosts.add_argument("--host-columns", action="append", default=[],
+                       metavar="FIELD=COLUMN[,FIELD=COLUMN...]",
+                       help="the host's FIELD is in COLUMN (repeatable), e.g. "
+                            "--host-columns name=star_name,mass=star_mass")
+    hosts.add_argument("--host-unit", action="append", default=[], metavar="FIELD=UNIT",
+                       help="the host's FIELD is given in UNIT, e.g. --host-unit mass=solar_mass")
+    hosts.add_argument("--host-label", default=HOST_LABEL, metavar="TEXT",
+                       help=f"label of the host rows (default '{HOST_LABEL}')")
+    check.add_argument("--null", action="append", default=[], metavar="VALUE",
+                       help="cells reading VALUE are empty (repeatable), e.g. --null -99")
     check.add_argument("--format", choices=("json", "csv", "table"), default="table",
                        help="output format (default table)")
     check.add_argument("--fail-on", choices=SEVERITIES, default=None,
@@ -82,6 +95,12 @@ def check_options(args: argparse.Namespace) -> CheckOptions:
         unit_overrides=dict(parse_assignment(text) for text in args.unit),
         family_overrides=dict(parse_family_override(text) for text in args.family),
         artefacts=not args.no_artefacts,
+        hosts=HostColumns(
+            dict(parse_assignment(part) for text in args.host_columns
+                 for part in text.split(",") if part.strip()),
+            dict(parse_assignment(text) for text in args.host_unit),
+            args.host_label),
+        nulls=tuple(args.null),
     )
 
 
@@ -160,6 +179,8 @@ def table_text(result: CheckResult, source: Path, findings: pl.DataFrame, limit:
     if summary["unmapped_labels"]:
         lines.append("  labels with no family (use --family LABEL=FAMILY): "
                      + ", ".join(summary["unmapped_labels"]))
+    for note in (result.report.notes if result.report else []):
+        lines.append(f"  note: {note}")
     if summary["bad_cells"]:
         lines.append("  unreadable cells: " + ", ".join(
             f"{col} {n:,}" for col, n in summary["bad_cells"].items()))

@@ -19,6 +19,7 @@ from bodycensus.cli.gate import baseline_run
 from bodycensus.engines.compare import Comparison, compare_runs
 from bodycensus.engines.local import check_file
 from bodycensus.errors import BadInput
+from bodycensus.input.hosts import HOST_LABEL
 from bodycensus.science.shift import FDR
 
 GROUPS_SHOWN = 25  # rule x label rows in the table (all of them in JSON)
@@ -43,7 +44,8 @@ def add_compare_parser(commands: Commands) -> None:
                                 ("--family", "LABEL=FAMILY", "treat LABEL as FAMILY")):
         compare.add_argument(name, action="append", default=[], metavar=metavar,
                              help=f"{what} in both files (repeatable)")
-    compare.set_defaults(no_artefacts=False)
+    compare.set_defaults(no_artefacts=False, host_columns=[], host_unit=[],
+                         host_label=HOST_LABEL, null=[])
 
 
 def run_compare(args: argparse.Namespace) -> int:

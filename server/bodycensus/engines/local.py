@@ -16,6 +16,7 @@ import polars as pl
 
 from bodycensus.durable import fsync_path
 from bodycensus.engines.summary import build_summary
+from bodycensus.input.hosts import HostColumns
 from bodycensus.input.ingest import IngestLimits, IngestReport, ingest
 from bodycensus.progress import Progress, quiet
 from bodycensus.science import artefacts as artefact_detector
@@ -40,6 +41,8 @@ class CheckOptions:
     limits: IngestLimits = field(default_factory=IngestLimits)
     orbit_settings: OrbitSettings = field(default_factory=OrbitSettings)
     artefacts: bool = True
+    hosts: HostColumns = field(default_factory=HostColumns)  # host rows from host columns
+    nulls: tuple[str, ...] = ()  # cell texts that mean "no value" (``--null``)
 
 
 @dataclass
@@ -121,7 +124,8 @@ def check_file(source: Path, workdir: Path, options: CheckOptions = CheckOptions
     started = time.monotonic()
     progress("read", 0.0)
     report = ingest(source, normalised, map_overrides=dict(options.map_overrides),
-                    unit_overrides=dict(options.unit_overrides), limits=options.limits)
+                    unit_overrides=dict(options.unit_overrides), limits=options.limits,
+                    hosts=options.hosts, nulls=options.nulls)
     progress("read", 1.0, rows=report.rows)
     result = check_table(pl.scan_parquet(normalised), workdir, options, progress, report)
     normalised.unlink(missing_ok=True)

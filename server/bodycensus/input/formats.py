@@ -43,6 +43,7 @@ from bodycensus.input.readers import (
     sniff_delimiter,
     text_lines,
     to_string,
+    unique_columns,
 )
 
 ROW_INDEX = "__bodycensus_row__"  # the scans' 1-based row index column
@@ -61,9 +62,12 @@ class Head:
 
 @dataclass(frozen=True)
 class Layout:
-    """What the check of a file's start found that its scan needs (the delimiter of text)."""
+    """What the check of a file's start found that its scan needs: the delimiter of text, and
+    the header made unique (``readers.unique_columns``) with a line per renamed column."""
 
     delimiter: str | None = None
+    columns: tuple[str, ...] | None = None  # None: the file's own names are unique
+    renamed: tuple[str, ...] = ()
 
 
 class Reader(Protocol):
@@ -146,7 +150,7 @@ class DelimitedText:
             checked, delimiter, complete and len(checked) == len(lines))
         if fault is not None:
             raise IngestError(f"{name}: {fault}")
-        header = [h.strip() for h in header]
+        header, _ = unique_columns([h.strip() for h in header])
         return Head(header, [dict(zip(header, r, strict=False))
                              for r in csv.reader(lines[1: rows + 1], delimiter=delimiter)])
 
@@ -156,11 +160,13 @@ class DelimitedText:
         fault = encoding_fault(data, complete)
         lines = head_lines(data, complete)
         delimiter = (self.delimiter or sniff_delimiter(lines[0])) if lines else None
+        header = next(csv.reader(lines[:1], delimiter=delimiter)) if delimiter else []
         if fault is None and delimiter is not None:
-            fault = self._header_fault(next(csv.reader(lines[:1], delimiter=delimiter)), lines[0])
+            fault = self._header_fault(header, lines[0])
         if fault is not None:
             raise IngestError(f"{name}: {fault}")
-        return Layout(delimiter)
+        columns, renamed = unique_columns(header)
+        return Layout(delimiter, tuple(columns) if renamed else None, tuple(renamed))
 
     def _header_fault(self, columns: list[str], line: str) -> str | None:
         """A header that is data, repeats a name or is split by a delimiter we do not read."""
@@ -171,7 +177,7 @@ class DelimitedText:
         """Every column as a string, undecodable bytes replaced."""
         return pl.scan_csv(plain, separator=layout.delimiter or self.delimiter or ",",
                            infer_schema=False, encoding="utf8-lossy", row_index_name=ROW_INDEX,
-                           row_index_offset=1)
+                           row_index_offset=1, new_columns=list(layout.columns or []) or None)
 
     def fault(self, plain: Path, layout: Layout) -> str | None:
         """The first over-long row or open quote in the whole file."""

@@ -16,7 +16,7 @@ from __future__ import annotations
 import os
 import re
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TypedDict
 
@@ -31,6 +31,12 @@ from bodycensus.input.formats import (
     InputFormat,
     Layout,
     detect_format,
+)
+from bodycensus.input.hosts import (
+    HostColumns,
+    host_fields_text,
+    host_rows,
+    planets_with_hosts,
 )
 from bodycensus.input.readers import (
     IngestError,
@@ -83,6 +89,7 @@ class IngestRecord(TypedDict):
     mapping: MappingRecord
     unknown_columns: list[str]
     bad_cells: dict[str, int]
+    notes: list[str]
 
 
 @dataclass(frozen=True)
@@ -97,13 +104,16 @@ class IngestReport:
     mapping: Mapping
     unknown_columns: list[str]
     bad_cells: dict[str, int]  # source column -> cells present but unreadable or non-finite
+    # What the reading decided that a person should know: renamed columns, units taken as SI
+    # because the header names none, null sentinels, host rows built
+    notes: list[str] = field(default_factory=list)
 
     def to_json(self) -> IngestRecord:
         """A plain dict for the API, the manifest and `bodycensus check`."""
         return {"rows": self.rows, "format": self.format, "compression": self.compression,
                 "delimiter": self.delimiter, "columns": list(self.columns),
                 "mapping": self.mapping.to_json(), "unknown_columns": list(self.unknown_columns),
-                "bad_cells": dict(self.bad_cells)}
+                "bad_cells": dict(self.bad_cells), "notes": list(self.notes)}
 
 
 def _explain(source: Path, plain: Path, fmt: InputFormat, layout: Layout,
@@ -128,19 +138,39 @@ def _first_bytes(plain: Path) -> bytes:
         return fh.read(MAGIC_BYTES)
 
 
-def _clean(text: pl.Expr) -> pl.Expr:
-    """Text without surrounding whitespace; the empty string becomes null (absent, not bad)."""
+def _clean(text: pl.Expr, nulls: tuple[str, ...] = ()) -> pl.Expr:
+    """Text without surrounding whitespace; the empty string and the catalogue's null sentinels
+    (``--null``) become null (absent, not bad)."""
     stripped = text.str.strip_chars()
-    return pl.when(stripped != "").then(stripped)
+    present = stripped != ""
+    if nulls:
+        present = present & ~stripped.is_in(list(nulls))
+    return pl.when(present).then(stripped)
 
 
-def _parse(name: str, col: pl.Expr, dtype: pl.DataType, factor: float) -> tuple[pl.Expr, ...]:
+def _numeric_nulls(nulls: tuple[str, ...]) -> list[float]:
+    """The null sentinels that are numbers, for columns a typed format gives as numbers."""
+    found = []
+    for text in nulls:
+        try:
+            found.append(float(text))
+        except ValueError:
+            continue
+    return found
+
+
+def _parse(name: str, col: pl.Expr, dtype: pl.DataType, factor: float,
+           nulls: tuple[str, ...] = ()) -> tuple[pl.Expr, ...]:
     """A field's value (non-finite values kept for now) and whether its cell held anything."""
     if name in NUMERIC_FIELDS and (dtype.is_numeric() or dtype == pl.Boolean):
-        return col.cast(pl.Float64) * factor, col.is_not_null()
+        numbers = _numeric_nulls(nulls)
+        value = col.cast(pl.Float64)
+        if numbers:
+            value = pl.when(~value.is_in(numbers)).then(value)
+        return value * factor, value.is_not_null()
     if name in BOOLEAN_FIELDS and dtype == pl.Boolean:
         return col, col.is_not_null()
-    text = _clean(to_string(col, dtype))
+    text = _clean(to_string(col, dtype), nulls)
     if name in NUMERIC_FIELDS:
         return text.cast(pl.Float64, strict=False) * factor, text.is_not_null()
     if name in BOOLEAN_FIELDS:  # is_in streams; replace_strict held the whole column (polars 2.1)
@@ -171,7 +201,8 @@ def _planet_radii(mapping: Mapping) -> pl.Expr:
     return pl.lit(",".join(relative) if relative else None, dtype=pl.String).alias(PLANET_RADII)
 
 
-def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping) -> pl.LazyFrame:
+def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping,
+               nulls: tuple[str, ...] = ()) -> pl.LazyFrame:
     """The normalised table: canonical fields in SI (ring edges possibly in planet radii, as
     _planet_radii says), _row, _bad, _planet_radii, then the unknown columns.
 
@@ -185,7 +216,7 @@ def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping) -> pl.L
                        pl.lit(True).alias(_PRESENT + name)]
             continue
         value, present = _parse(name, pl.col(choice.column), schema[choice.column],
-                                choice.factor())
+                                choice.factor(), nulls)
         parsed += [value.cast(FIELD_TYPES[name]).alias(name), present.alias(_PRESENT + name)]
     unknown = [to_string(pl.col(c), schema[c]).alias(_output_name(c))
                for c in mapping.unknown_columns]
@@ -234,16 +265,30 @@ def _count_bad(dest: Path, mapping: Mapping) -> dict[str, int]:
 
 
 def _map(source: Path, columns: list[str], map_overrides: dict[str, str] | None,
-         unit_overrides: dict[str, str] | None) -> Mapping:
-    """The column mapping, or a one-line IngestError when it cannot be made."""
+         unit_overrides: dict[str, str] | None, hosts: HostColumns | None = None) -> Mapping:
+    """The column mapping (host columns left to the host rows, kept as unknown columns), or a
+    one-line IngestError when it cannot be made."""
+    host_columns = set(hosts.columns.values()) if hosts else set()
     try:
-        mapping = guess_mapping(columns, map_overrides, unit_overrides)
+        if hosts:
+            hosts.check(columns)
+        mapping = guess_mapping([c for c in columns if c not in host_columns], map_overrides,
+                                unit_overrides)
     except SchemaError as err:
         raise IngestError(f"{source.name}: {err}") from err
     if "id" not in mapping.choices:
         raise IngestError(f"{source.name}: no id column among {describe_columns(columns)}; "
                           "use --map id=COLUMN")
-    return mapping
+    kept = [c for c in columns if c in host_columns or c in mapping.unknown_columns]
+    return Mapping(mapping.choices, kept, mapping.conflicts)
+
+
+def unit_notes(mapping: Mapping, whose: str = "") -> list[str]:
+    """One line per field read in SI because its header names no unit: the reader should know
+    (a header such as 'mass' in a catalogue of planets is rarely in kilograms)."""
+    return [f"{whose}{f} from '{c.column}' read in {c.unit} (SI): its header names no unit; "
+            f"if it is in another, give --{'host-' if whose else ''}unit {f}=UNIT"
+            for f, c in mapping.choices.items() if c.unit_source == "default" and c.ambiguous]
 
 
 def _open(source: Path, plain: Path, limits: IngestLimits
@@ -264,30 +309,55 @@ def _open(source: Path, plain: Path, limits: IngestLimits
     return fmt, layout, frame, schema
 
 
+def _with_hosts(plan: pl.LazyFrame, frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping,
+                hosts: HostColumns, nulls: tuple[str, ...]) -> tuple[pl.LazyFrame, list[str]]:
+    """The planets (parent and system their host) followed by one row per host; the notes."""
+    host_mapping = hosts.mapping(schema.names(), mapping.choices["id"].column)
+    name_column = hosts.columns.get("name")
+    planets = planets_with_hosts(hosts, plan, _output_name(name_column) if name_column else None)
+    found = host_rows(hosts, _normalise(frame, schema, host_mapping, nulls),
+                      plan.select("id").drop_nulls().unique())
+    notes = [f"host rows built from the host columns: {host_fields_text(hosts)}; each planet's "
+             "parent is its host"]
+    if name_column is None:
+        notes.append("no host name column: each planet has a host of its own ('host of <id>'); "
+                     "give --host-columns name=COLUMN to put a star's planets together")
+    return (pl.concat([planets, found], how="diagonal_relaxed"),
+            notes + unit_notes(host_mapping, "host "))
+
+
 def _read(source: Path, plain: Path, compression: str | None, dest: Path, limits: IngestLimits,
-          overrides: tuple[dict[str, str] | None, dict[str, str] | None], progress: Progress
-          ) -> IngestReport:
+          overrides: tuple[dict[str, str] | None, dict[str, str] | None], progress: Progress,
+          hosts: HostColumns | None = None, nulls: tuple[str, ...] = ()) -> IngestReport:
     """Ingest an uncompressed file ``plain`` (read from ``source``) into ``dest``."""
     fmt, layout, frame, schema = _open(source, plain, limits)
-    mapping = _map(source, schema.names(), *overrides)
+    mapping = _map(source, schema.names(), *overrides, hosts)
     progress("read", 0)
-    plan = _normalise(frame, schema, mapping)
+    plan = _normalise(frame, schema, mapping, nulls)
+    notes = [f"{source.name}: {line}" for line in layout.renamed] + unit_notes(mapping)
+    if nulls:
+        notes.append("cells reading " + ", ".join(repr(n) for n in nulls) + " taken as empty")
+    if hosts:
+        plan, host_notes = _with_hosts(plan, frame, schema, mapping, hosts, nulls)
+        notes += host_notes
     rows = _write(plan, dest, source, limits.max_rows,
                   lambda err: _explain(source, plain, fmt, layout, err))
     progress("write", rows)
     return IngestReport(rows=rows, format=fmt.reader.kind, compression=compression,
                         delimiter=layout.delimiter, columns=schema.names(), mapping=mapping,
                         unknown_columns=list(mapping.unknown_columns),
-                        bad_cells=_count_bad(dest, mapping))
+                        bad_cells=_count_bad(dest, mapping), notes=notes)
 
 
 def ingest(source: Path, dest: Path, *, map_overrides: dict[str, str] | None = None,
            unit_overrides: dict[str, str] | None = None, limits: IngestLimits = IngestLimits(),
-           progress: Progress | None = None) -> IngestReport:
+           progress: Progress | None = None, hosts: HostColumns | None = None,
+           nulls: tuple[str, ...] = ()) -> IngestReport:
     """Read ``source`` (any supported format) and write the normalised SI Parquet to ``dest``.
 
     ``progress(stage, count)`` is called for "decompress" (count = bytes written so far), "read"
-    and "write" (count = rows so far)."""
+    and "write" (count = rows so far). ``hosts`` builds a row per host star from host columns
+    (``input.hosts``); cells reading one of ``nulls`` are empty."""
     source, dest = Path(source), Path(dest)
     notify = progress or quiet
     if not source.is_file():
@@ -298,7 +368,7 @@ def ingest(source: Path, dest: Path, *, map_overrides: dict[str, str] | None = N
         source, compression, dest.parent, limits.max_decompressed_bytes, source.name, notify)
     try:
         return _read(source, plain, compression, dest, limits, (map_overrides, unit_overrides),
-                     notify)
+                     notify, hosts, nulls)
     finally:
         if plain != source:
             plain.unlink(missing_ok=True)

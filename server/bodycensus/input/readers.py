@@ -276,7 +276,8 @@ def encoding_fault(data: bytes, complete: bool) -> str | None:
 
 
 def header_fault(columns: list[str], line: str) -> str | None:
-    """A header that is data, uses an unsupported delimiter, or names a column twice."""
+    """A header that is data or uses an unsupported delimiter (a repeated name is renamed,
+    ``unique_columns``)."""
     if line.lstrip().startswith("{"):
         return ("line 1 is a JSON object, not a header; give a file of one JSON object per line "
                 "an .ndjson name")
@@ -289,13 +290,41 @@ def header_fault(columns: list[str], line: str) -> str | None:
     if odd is not None:
         return (f"line 1 is one column split by '{odd.strip() or 'spaces'}'; use comma, tab or "
                 "semicolon as the delimiter")
-    seen: dict[str, int] = {}
-    for number, name in enumerate(columns, start=1):
-        if name in seen and name:
-            return (f"line 1: column '{name}' appears twice (columns {seen[name]} and "
-                    f"{number}); rename or drop one")
-        seen[name] = number
     return None
+
+
+_UNIT_TAIL = re.compile(r"\s*[(\[].*$")  # 'a (AU)' -> 'a'
+
+
+def unique_columns(columns: list[str]) -> tuple[list[str], list[str]]:
+    """Column names made unique, and one line per rename saying which value each belongs to.
+
+    Real catalogues repeat uncertainty columns beside each value (``Teff,err,err,M_A,errup,
+    errdn,R_A,errup,errdn``): every occurrence of a repeated name is renamed after the nearest
+    column before it whose name is not repeated, less its unit (``Teff_err``, ``Teff_err_2``,
+    ``M_A_errup``; ``a(AU),errup`` gives ``a_errup``);
+    a repeated name with no such column before it keeps its name. Any clash left gets ``_2``,
+    ``_3``..."""
+    counts: dict[str, int] = {}
+    for name in columns:
+        counts[name] = counts.get(name, 0) + 1
+    taken = {name for name in columns if counts[name] == 1}
+    renamed, said, owner = [], [], None
+    for number, name in enumerate(columns, start=1):
+        if counts[name] == 1 or not name:
+            owner = name if counts[name] == 1 else owner
+            renamed.append(name)
+            continue
+        base = f"{_UNIT_TAIL.sub('', owner) or owner}_{name}" if owner else name
+        new, extra = base, 1
+        while new in taken:
+            extra += 1
+            new = f"{base}_{extra}"
+        taken.add(new)
+        renamed.append(new)
+        if new != name:
+            said.append(f"column {number} '{name}' (repeated) read as '{new}'")
+    return renamed, said
 
 
 def delimiter_fault(columns: list[str], line: str, delimiter: str) -> str | None:
