@@ -27,6 +27,8 @@ ISSUE_RULE_IDS: tuple[str, ...] = (
     # issue 15: rings, tidal heating, lifetimes
     "ring-edges-reversed", "ring-inside-planet", "ring-beyond-roche", "ring-beyond-hill",
     "moon-in-ring", "tidal-heating", "short-lived-orbit",
+    # issue 12: real catalogues
+    "degenerate-star",
 )
 
 SUN_LIKE = {"id": "S", "label": "yellow dwarf star", "family": "star", "mass": M_SUN,

@@ -76,6 +76,7 @@ def family_band(family: str, mass: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """The family's density band at this mass, from families.FAMILY_PARAMETERS and physics."""
     curves = {"cold_hhe": bodies.cold_hhe_density, "white_dwarf": bodies.white_dwarf_density,
               "main_sequence": bodies.main_sequence_density,
+              "largest_star": bodies.largest_star_density,
               **{k: (lambda m, k=k: bodies.composition_density(m, k)) for k in SEAGER}}
     band = FAMILY_PARAMETERS[family].density_band
     assert band is not None

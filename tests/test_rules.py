@@ -180,10 +180,49 @@ def test_every_rule_names_each_severity_it_can_give(tmp_path: Path) -> None:
 
 
 def test_under_hydrogen_burning(tmp_path: Path) -> None:
-    # Hydrogen-burning limit ~0.075-0.08 M_sun (Burrows & Liebert 1993).
+    # Hydrogen-burning limit ~0.075-0.08 M_sun (Burrows & Liebert 1993). Below it a "star" of a
+    # brown dwarf's size is a brown dwarf labelled as a star (suspect); one denser than any brown
+    # dwarf (3x the cold H/He sphere, Zapolsky & Salpeter 1969) is impossible.
     rows = [{**SUN_LIKE, "id": "faint", "mass": 0.070 * M_SUN, "radius": 0.1 * R_SUN},
+            {**SUN_LIKE, "id": "tiny", "mass": 0.070 * M_SUN, "radius": 0.03 * R_SUN},
             {**SUN_LIKE, "id": "dim", "mass": 0.076 * M_SUN, "radius": 0.1 * R_SUN}]
-    assert fired(run(rows, tmp_path), "under-hydrogen-burning") == {"faint": "impossible"}
+    result = run(rows, tmp_path)
+    assert fired(result, "under-hydrogen-burning") == {"faint": "suspect", "tiny": "impossible"}
+    messages = dict(result.findings.filter(pl.col("rule") == "under-hydrogen-burning")
+                    .select("body", "message").iter_rows())
+    assert messages["faint"].endswith(": a brown dwarf?")
+    assert messages["tiny"].endswith("too dense for a brown dwarf")
+
+
+# Stars beyond the main sequence, as real catalogues of planet hosts hold them.
+STARS_OFF_THE_MAIN_SEQUENCE = [
+    # a K giant host: 1.1 M_sun, 45 R_sun (the example; giants of 1-2 M_sun reach
+    # tens of R_sun on the red-giant branch)
+    ("k_giant", 1.1, 45.0),
+    # Betelgeuse: ~18 M_sun, ~760 R_sun (Joyce et al. 2020, ApJ 902, 63)
+    ("supergiant", 18.0, 760.0),
+    # a hot subdwarf (sdB): 0.47 M_sun at log g 6.0 -> ~0.11 R_sun (Heber 2009, ARA&A 47, 211)
+    ("subdwarf", 0.47, 0.11),
+    # a T Tauri star: 0.8 M_sun at ~2 R_sun, twice its main-sequence radius (pre-main sequence)
+    ("t_tauri", 0.8, 2.0),
+]
+
+
+def test_stars_beyond_the_main_sequence_are_in_the_star_band(tmp_path: Path) -> None:
+    rows = [{**SUN_LIKE, "id": name, "mass": m * M_SUN, "radius": r * R_SUN}
+            for name, m, r in STARS_OFF_THE_MAIN_SEQUENCE]
+    rows.append({**SUN_LIKE, "id": "too_small", "mass": 1.0 * M_SUN, "radius": 0.05 * R_SUN})
+    result = run(rows, tmp_path)
+    assert set(result.findings["body"]) == {"too_small"}  # 8000x the Sun's density
+
+
+def test_a_white_dwarf_labelled_star_is_a_degenerate_star_not_a_unit_slip(tmp_path: Path) -> None:
+    # Sirius B: 1.018 M_sun, 0.0081 R_sun (Bond et al. 2017, ApJ 840, 70); the Sun as control
+    rows = [{**SUN_LIKE, "id": "sirius_b", "mass": 1.018 * M_SUN, "radius": 0.0081 * R_SUN},
+            SUN_LIKE]
+    result = run(rows, tmp_path)
+    assert fired(result, "degenerate-star") == {"sirius_b": "note"}
+    assert set(result.findings["rule"]) == {"degenerate-star"}
 
 
 def test_brown_dwarf_range(tmp_path: Path) -> None:

@@ -129,6 +129,8 @@ over_chandrasekhar = _reweigh("white dwarf", 1.6 * M_SUN, None, "over-chandrasek
 over_neutron_star_max = _reweigh("neutron star", 3.4 * M_SUN, None, "over-neutron-star-max")
 under_hydrogen_burning = _reweigh("red dwarf", 0.065 * M_SUN, bodies.main_sequence_radius,
                                   "under-hydrogen-burning")
+# A star with a white dwarf's radius at its mass (Nauenberg 1972): degenerate by its density.
+degenerate_star = _reweigh("red dwarf", 0.6 * M_SUN, bodies.white_dwarf_radius, "degenerate-star")
 brown_dwarf_range = _reweigh("brown dwarf", 11.0 * M_JUPITER, bodies.cold_hhe_radius,
                              "brown-dwarf-range")
 
@@ -153,5 +155,5 @@ BODY_PLANTINGS: tuple[Callable[[Planter], None], ...] = (  # the scarce targets 
     over_chandrasekhar, over_neutron_star_max, under_hydrogen_burning, brown_dwarf_range,
     missing_value, non_positive, duplicate_id, orphan_parent, parent_cycle, unit_slip,
     bad_eccentricity, bad_cell,
-    denser_than_iron, family_density, oversized_cold_body, label_outlier,
+    denser_than_iron, family_density, oversized_cold_body, label_outlier, degenerate_star,
 )

@@ -31,7 +31,8 @@ NON_STELLAR_FAMILIES = BODY_FAMILIES - STELLAR_FAMILIES  # planets, moons, minor
 class DensityBand:
     """Plausible bulk density at a given mass: ``low_factor`` x the ``low_curve`` density up to
     ``high_factor`` x the ``high_curve`` density. A curve is a composition name understood by the
-    rules ("iron", "rock", "water_ice", "cold_hhe", "white_dwarf", "main_sequence") or "const",
+    rules ("iron", "rock", "water_ice", "cold_hhe", "white_dwarf", "main_sequence",
+    "largest_star") or "const",
     in which case the factor is itself the density in kg m-3."""
 
     low_curve: str
@@ -63,7 +64,10 @@ FAMILY_PARAMETERS: dict[str, FamilyParameters] = {
     "gas_giant": FamilyParameters(DensityBand("const", 30.0, "cold_hhe", 3.0), _ROCK, 1e5),
     "ice_giant": FamilyParameters(DensityBand("const", 300.0, "rock", 1.0), _ICE, 1e4),
     "brown_dwarf": FamilyParameters(DensityBand("cold_hhe", 0.3, "cold_hhe", 3.0), _ROCK, 1e5),
-    "star": FamilyParameters(DensityBand("main_sequence", 0.02, "main_sequence", 20.0), _ROCK, 1e6),
+    # Any star that is not degenerate: from the largest supergiants (giants and pre-main-sequence
+    # stars are less dense than the main sequence) up to hot subdwarfs (sdB, log g up to 6.2 at
+    # ~0.47 M_sun: ~220x the main-sequence density; Heber 2009, ARA&A 47, 211).
+    "star": FamilyParameters(DensityBand("largest_star", 1.0, "main_sequence", 300.0), _ROCK, 1e6),
     "giant_star": FamilyParameters(DensityBand("const", 1e-10, "const", 300.0), _ROCK, 1e6),
     "white_dwarf": FamilyParameters(DensityBand("white_dwarf", 0.2, "white_dwarf", 5.0), _ROCK,
                                     1e6),

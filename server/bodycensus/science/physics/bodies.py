@@ -139,6 +139,17 @@ def main_sequence_luminosity(mass: Num) -> Num:
     return L_SUN * power(mass / M_SUN, 3.5)
 
 
+# The largest stars measured: red supergiants reach ~1500 R_sun (Levesque et al. 2005, ApJ 628,
+# 973). A star of any mass is denser than a sphere of that radius.
+LARGEST_STAR_RADIUS = 1500.0 * R_SUN  # m
+
+
+def largest_star_density(mass: Num) -> Num:
+    """Bulk density (kg m-3) of a star of this mass swollen to the largest radius measured: the
+    low edge of any non-degenerate star, giants and supergiants included."""
+    return mass / sphere_volume(LARGEST_STAR_RADIUS)
+
+
 def main_sequence_density(mass: Num) -> Num:
     """Bulk density (kg m-3) of a main-sequence star of this mass (from the R ~ M^0.8 rule)."""
     return bulk_density(mass, main_sequence_radius(mass))

@@ -30,6 +30,7 @@ def curve_density(curve: str, mass: Num) -> Num:
         "cold_hhe": bodies.cold_hhe_density,
         "white_dwarf": bodies.white_dwarf_density,
         "main_sequence": bodies.main_sequence_density,
+        "largest_star": bodies.largest_star_density,
     }
     return curves[curve](mass)
 
@@ -71,6 +72,17 @@ def _band_edge(side: str) -> pl.Expr:
     assert expr is not None
     edge = expr.otherwise(None)
     return pl.when(edge.is_finite()).then(edge)  # a curve past its validity has no band
+
+
+def degenerate_star() -> pl.Expr:
+    """A body of the ``star`` family whose density lies in the white dwarfs' band at its mass:
+    a degenerate star by its density, whatever its label says (white-dwarf hosts of planets are
+    catalogued as stars). Neither a unit slip nor a family-density miss."""
+    band = FAMILY_PARAMETERS["white_dwarf"].density_band
+    assert band is not None
+    density = pl.col("density")
+    return ((pl.col("family") == "star") & (density >= band_edge(band, "low", _MASS))
+            & (density <= band_edge(band, "high", _MASS))).fill_null(False)
 
 
 def band_columns() -> list[pl.Expr]:
@@ -125,7 +137,8 @@ def unit_slip_hint(density: pl.Expr) -> pl.Expr:
     """The likeliest unit slip, as text, when ``density`` misses its band by more than 10x
     and dividing by one known factor brings it inside; null otherwise."""
     low, high = band_low(), band_high()
-    far_out = (density < low / SLIP_TOLERANCE) | (density > high * SLIP_TOLERANCE)
+    far_out = ((density < low / SLIP_TOLERANCE) | (density > high * SLIP_TOLERANCE)) \
+        & ~degenerate_star()
     hint: Then | ChainedThen | None = None
     for field, given, read_as in UNIT_SLIPS:
         factor = slip_factor(given, read_as)

@@ -6,9 +6,14 @@ from dataclasses import replace
 
 import polars as pl
 
-from bodycensus.science.families import BODY_FAMILIES, PLANETARY_FAMILIES
+from bodycensus.science.families import (
+    BODY_FAMILIES,
+    FAMILY_PARAMETERS,
+    PLANETARY_FAMILIES,
+    DensityBand,
+)
 from bodycensus.science.physics import bodies
-from bodycensus.science.rules.bands import band_high, band_low
+from bodycensus.science.rules.bands import band_edge, band_high, band_low, degenerate_star
 from bodycensus.science.rules.base import Rule, fmt, say
 from bodycensus.science.units import M_JUPITER, M_SUN
 
@@ -17,6 +22,8 @@ OVERSIZE_FACTOR = 2.0  # inflated hot giants reach ~2 R_jup, about 2x the cold c
 
 _SEAGER = "Seager et al. 2007, ApJ 669, 1279 (pure-iron mass-radius fit)"
 _MASS, _RADIUS, _DENSITY = pl.col("_mass"), pl.col("_radius"), pl.col("density")
+_WHITE_DWARF = FAMILY_PARAMETERS["white_dwarf"].density_band or DensityBand("const", 0, "const", 0)
+_BROWN_DWARF = FAMILY_PARAMETERS["brown_dwarf"].density_band or DensityBand("const", 0, "const", 0)
 
 
 def _denser_than_iron() -> Rule:
@@ -39,11 +46,13 @@ def _family_density() -> Rule:
         id="family-density", title="Density outside the family's band at that mass",
         severity="suspect",
         source="bands from composition curves: Seager et al. 2007; cold H/He (Zapolsky & "
-               "Salpeter 1969); Nauenberg 1972; main sequence R~M^0.8 (common practice)",
+               "Salpeter 1969); Nauenberg 1972; stars from the largest supergiants (~1500 R_sun, "
+               "Levesque et al. 2005) to hot subdwarfs (Heber 2009), main sequence R~M^0.8 "
+               "(common practice)",
         needs=("density", "_band_low"), value=_DENSITY, limit=nearer, unit="kg/m3",
         quantity="density", direction="none",
         fires=outside & (~pl.col("family").is_in(sorted(PLANETARY_FAMILIES)) | not_iron)
-        & pl.col("_slip_hint").is_null(),
+        & pl.col("_slip_hint").is_null() & ~degenerate_star(),
         families=BODY_FAMILIES,
         message=pl.format("density {} is outside the {} band {} to {} at this mass",
                           say(_DENSITY, "density", nearer), pl.col("family"),
@@ -93,6 +102,33 @@ def _over_neutron_star_max() -> Rule:
     return replace(rule, severity_expr=severity, also=("impossible",))
 
 
+def _degenerate_star() -> Rule:
+    low = band_edge(_WHITE_DWARF, "low", _MASS)
+    return Rule(
+        id="degenerate-star", title="A star as dense as a white dwarf", severity="note",
+        source="Nauenberg 1972, ApJ 175, 417 (white-dwarf mass-radius relation)",
+        needs=("density",), value=_DENSITY, limit=low, unit="kg/m3", quantity="density",
+        fires=degenerate_star(), families=frozenset({"star"}),
+        message=pl.format("density {} is a white dwarf's at this mass: a degenerate star",
+                          say(_DENSITY, "density", low)),
+    )
+
+
+def _under_hydrogen_burning() -> Rule:
+    """Below the hydrogen-burning limit, a body labelled as a star is most likely a brown dwarf
+    with the wrong label (suspect); impossible only where its density also rules out a brown
+    dwarf (denser than the brown dwarfs' band: too small for a body of that mass). A
+    luminosity is not used: young brown dwarfs are bright (from memory), so it rules out little."""
+    rule = _mass_limit("under-hydrogen-burning", "Star below the hydrogen-burning limit", "star",
+                       bodies.HYDROGEN_BURNING_MASS,
+                       "Burrows & Liebert 1993 (~0.075-0.08 M_sun)", "suspect", "below")
+    too_dense = (_DENSITY > band_edge(_BROWN_DWARF, "high", _MASS)).fill_null(False)
+    severity = pl.when(too_dense).then(pl.lit("impossible")).otherwise(pl.lit("suspect"))
+    message = pl.concat_str(rule.message, pl.when(too_dense).then(
+        pl.lit(", and too dense for a brown dwarf")).otherwise(pl.lit(": a brown dwarf?")))
+    return replace(rule, severity_expr=severity, also=("impossible",), message=message)
+
+
 def _brown_dwarf_range() -> Rule:
     in_jup = _MASS / M_JUPITER
     low, high = bodies.DEUTERIUM_BURNING_MASS / M_JUPITER, bodies.HYDROGEN_BURNING_MASS / M_JUPITER
@@ -118,8 +154,7 @@ def body_rules() -> tuple[Rule, ...]:
                     "white_dwarf", bodies.CHANDRASEKHAR_MASS,
                     "Chandrasekhar 1935 (1.44 M_sun for mu_e = 2)", "impossible"),
         _over_neutron_star_max(),
-        _mass_limit("under-hydrogen-burning", "Star below the hydrogen-burning limit", "star",
-                    bodies.HYDROGEN_BURNING_MASS, "Burrows & Liebert 1993 (~0.075-0.08 M_sun)",
-                    "impossible", direction="below"),
+        _under_hydrogen_burning(),
+        _degenerate_star(),
         _brown_dwarf_range(),
     )
