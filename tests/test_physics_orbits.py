@@ -197,6 +197,18 @@ def test_kepler_periods_of_moons(moon: str) -> None:
     assert period == pytest.approx(observed_days, rel=1e-2)
 
 
+def test_semi_major_axis_from_a_period_inverts_kepler() -> None:
+    # REFERENCES.md: the Gaussian year, 365.2569 d, is the period of a massless body at 1 au;
+    # astropy oracle with units for Kepler's law solved for a.
+    a = orbits.kepler_semi_major_axis(365.2569 * DAY, M_SUN, 0.0)
+    assert a / AU == pytest.approx(1.0, rel=1e-6)
+    period = 4.2308 * DAY  # 51 Peg b (Mayor & Queloz 1995) around 1.11 M_sun
+    expected = ((const.G * 1.11 * const.M_sun * (period * u.s) ** 2 / (4 * np.pi**2))
+                ** (1 / 3)).to_value(u.m)
+    assert orbits.kepler_semi_major_axis(period, 1.11 * M_SUN, 0.0) == pytest.approx(
+        expected, rel=1e-9)
+
+
 def test_kepler_computed_facts_for_moon_and_phobos() -> None:
     # REFERENCES.md (computed): Moon 27.28 d from its mean distance; Phobos 0.31903 d (its Mars
     # mass is not stated, so rel 1e-4 rather than the last digit).

@@ -420,16 +420,33 @@ def test_a_parent_with_a_broken_eccentricity_gives_its_moons_no_hill_verdict(
     assert hill.to_list() == [None]  # not a negative radius
 
 
+def test_a_semi_major_axis_follows_from_the_period_and_the_parent_mass(tmp_path: Path) -> None:
+    # Earth: P = 365.256 d around 1 M_sun gives a = 1.000 au (Kepler's third law; NSSDCA Earth
+    # fact sheet: 149.598e6 km, sidereal period 365.256 d). No missing-value finding; the orbit
+    # rules judge the derived axis; kepler-mismatch cannot (it would agree by construction).
+    rows = [SUN_LIKE, {**EARTH_LIKE, "semi_major_axis": None, "period": 365.256 * 86400.0},
+            {**EARTH_LIKE, "id": "lost", "semi_major_axis": None, "period": None}]
+    result = run(rows, tmp_path)
+    bodies = pl.read_parquet(result.bodies).filter(pl.col("family") == "rock").sort("id")
+    assert bodies["id"].to_list() == ["P", "lost"]
+    assert bodies["orbit_derived"].to_list() == ["semi_major_axis", None]
+    assert bodies["_a"][0] == pytest.approx(AU, rel=1e-3)
+    assert bodies["period_ratio"].to_list() == [None, None]
+    assert fired(result, "missing-value") == {"lost": "error"}
+
+
 def test_coverage_says_why_in_the_catalogues_terms(tmp_path: Path) -> None:
     """Why-skipped names what a body lacks as the catalogue would say it, with how many; a
     data-integrity check judges every row (a row without a bad cell or a parent passes)."""
-    rows = [SUN_LIKE, EARTH_LIKE, {**EARTH_LIKE, "id": "Q", "semi_major_axis": None},
+    rows = [SUN_LIKE, EARTH_LIKE, {**EARTH_LIKE, "id": "Q", "semi_major_axis": None,
+                                   "period": None},
             {**EARTH_LIKE, "id": "R", "period": None, "_bad": "temperature"}]
     coverage = {r["rule"]: r for r in run(rows, tmp_path).coverage.to_dicts()}
     for rule in ("bad-cell", "orphan-parent", "parent-cycle"):
         assert (coverage[rule]["evaluated"], coverage[rule]["skipped"]) == (4, 0), rule
-    assert coverage["kepler-mismatch"]["why"] == \
-        "2 without an orbital period and the parent's mass"
+    assert coverage["kepler-mismatch"]["why"] == ("2 without an orbital period, a semi-major axis "
+                                                  "given (not derived from the period) and the "
+                                                  "parent's mass")
     assert "1 without an orbit (semi-major axis)" in coverage["periapsis-inside-parent"]["why"]
     assert not any("_" in (r["why"] or "").replace("black_hole", "")
                    for r in coverage.values())  # no working column's name

@@ -20,9 +20,11 @@ BAD_CELLS = ("1,2e3", "n/a", "3OO", "12..5")  # unreadable temperatures, in turn
 
 
 def missing_value(p: Planter) -> None:
-    """A moon with a parent but no semi-major axis."""
+    """A moon with a parent but neither a semi-major axis nor a period (from a period and the
+    parent's mass the engine would derive the axis)."""
     rows = p.pick(p.sole_moons())
     p.t["a"][rows] = np.nan
+    p.t["period"][rows] = np.nan
     p.record("missing-value", rows)
 
 

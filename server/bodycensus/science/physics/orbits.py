@@ -78,6 +78,12 @@ def kepler_period(semi_major_axis: Num, parent_mass: Num, mass: Num) -> Num:
     return 2.0 * math.pi * power(semi_major_axis**3 / (G * (parent_mass + mass)), 0.5)
 
 
+def kepler_semi_major_axis(period: Num, parent_mass: Num, mass: Num) -> Num:
+    """Semi-major axis (m) of an orbit of this period, (G (M + m) P^2 / 4 pi^2)^(1/3): Kepler's
+    third law solved for a, for catalogues that give a period and a host mass but no a."""
+    return power(G * (parent_mass + mass) * period**2 / (4.0 * math.pi**2), 1.0 / 3.0)
+
+
 def barycentre_offset(semi_major_axis: Num, parent_mass: Num, mass: Num) -> Num:
     """Distance from the parent's centre to the pair's barycentre, a m / (M + m)."""
     return semi_major_axis * mass / (parent_mass + mass)

@@ -84,6 +84,28 @@ def _with_parent(table: pl.LazyFrame) -> pl.LazyFrame:
     )
 
 
+def _derived_orbits(table: pl.LazyFrame) -> pl.LazyFrame:
+    """Incomplete is not broken: a body with a period and a parent of known mass but no
+    semi-major axis gets one from Kepler's third law (its periapsis and apoapsis too), so the
+    orbit rules judge it; ``orbit_derived`` names what was derived ("semi_major_axis", or
+    "period" where the period is missing and ``kepler_period`` stands for it)."""
+    period, parent_mass = positive("period"), pl.col("parent_mass")
+    derived = orbits.kepler_semi_major_axis(period, parent_mass, pl.col("_mass").fill_null(0.0))
+    derive_a = (pl.col("_a").is_null() & derived.is_not_null()
+                & pl.col("_parent_exists")).fill_null(False)
+    a = pl.when(derive_a).then(derived).otherwise(pl.col("_a"))
+    return table.with_columns(
+        _a=a,
+        periapsis=pl.when(derive_a).then(orbits.periapsis(a, pl.col("_e")))
+        .otherwise(pl.col("periapsis")),
+        apoapsis=pl.when(derive_a).then(orbits.apoapsis(a, pl.col("_e")))
+        .otherwise(pl.col("apoapsis")),
+        orbit_derived=pl.when(derive_a).then(pl.lit("semi_major_axis")).when(
+            period.is_null() & pl.col("_a").is_not_null() & parent_mass.is_not_null())
+        .then(pl.lit("period")),
+    )
+
+
 def _orbit_columns(table: pl.LazyFrame) -> pl.LazyFrame:
     """Roche limits, Hill spheres, Kepler periods and the rest, for bodies with a parent; then
     tides, rings and the ring around each moon."""
@@ -105,7 +127,9 @@ def _orbit_columns(table: pl.LazyFrame) -> pl.LazyFrame:
         parent_hill_radius=parent_hill,
         stable_hill_limit=stable * parent_hill,
         kepler_period=kepler,
-        period_ratio=positive("period") / kepler,
+        # a semi-major axis derived from the period agrees with it by construction
+        period_ratio=pl.when(pl.col("orbit_derived").fill_null("") != "semi_major_axis")
+        .then(positive("period") / kepler),
         barycentre_offset=orbits.barycentre_offset(a, parent_mass, mass),
         tidal_lock_time=orbits.tidal_lock_time(a, mass, radius, parent_mass, rigidity, quality)
         / YEAR,
@@ -162,7 +186,7 @@ def derive(table: pl.LazyFrame, cycle_ids: pl.Series | None = None) -> pl.LazyFr
         pl.col("id").is_in(_ids(cycle_ids)).alias("_in_cycle"),
     )
     with_body = _label_statistics(_trusted(_body_columns(table).with_columns(band_columns())))
-    return _sibling_columns(_orbit_columns(_with_parent(with_body)))
+    return _sibling_columns(_orbit_columns(_derived_orbits(_with_parent(with_body))))
 
 
 # Working columns the rules read that are neither catalogue fields nor derived quantities to show
@@ -181,4 +205,5 @@ DERIVED_COLUMNS: tuple[str, ...] = (
     "tidal_heating", "tidal_heat_flux", "roche_distance", "tidal_decay_time", "life_to_age",
     "ring_inner_edge", "ring_outer_edge", "ring_planet_radius", "ring_roche_rigid",
     "ring_roche_fluid", "ring_implied_density", "ring_roche_x", "ring_roche_y", "ring_around",
+    "orbit_derived",
 )

@@ -20,13 +20,15 @@ def _missing_value() -> Rule:
     ring = pl.col("family").is_in(sorted(RING_FAMILIES)).fill_null(False)
     no_id = pl.col("id").is_null() | (pl.col("id").str.strip_chars() == "")
     no_size = ~ring & pl.col("mass").is_null() & pl.col("radius").is_null() & readable
+    # a semi-major axis derived from the period and the parent's mass is not missing
     no_orbit = (~ring & pl.col("parent").is_not_null() & pl.col("semi_major_axis").is_null()
-                & readable)
+                & pl.col("orbit_derived").is_null() & readable)
     no_planet = ring & pl.col("parent").is_null()
     no_outer = (pl.col("_has_ring") & pl.col("ring_outer").is_null() & readable)
     parts = [pl.when(no_id).then(pl.lit("no id")),
              pl.when(no_size).then(pl.lit("neither mass nor radius")),
-             pl.when(no_orbit).then(pl.lit("a parent but no semi-major axis")),
+             pl.when(no_orbit).then(pl.lit("a parent but no semi-major axis (nor a period and "
+                                           "a parent mass to derive it from)")),
              pl.when(no_planet).then(pl.lit("a ring but no parent planet")),
              pl.when(no_outer).then(pl.lit("a ring but no outer edge"))]
     return Rule(

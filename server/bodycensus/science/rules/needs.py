@@ -16,7 +16,8 @@ NEEDS_IN_WORDS: dict[str, str] = {
     "roche_rigid": _DENSITIES, "roche_fluid": _DENSITIES,
     "parent_hill_radius": "the parent's own orbit around a body with a mass",
     "stable_hill_limit": "the parent's own orbit around a body with a mass",
-    "period_ratio": "an orbital period and the parent's mass",
+    "period_ratio": "an orbital period, a semi-major axis given (not derived from the period) "
+                    "and the parent's mass",
     "inner_apoapsis": "a sibling further in", "inner_a": "a sibling further in",
     "inner_mass": "a sibling further in with a mass",
     "barycentre_offset": "masses of the body and its parent",
