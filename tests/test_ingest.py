@@ -36,8 +36,14 @@ EXPECTED_SCHEMA = pl.Schema({
     "rotation_period": pl.Float64, "tidally_locked": pl.Boolean, "age": pl.Float64,
     "temperature": pl.Float64, "luminosity": pl.Float64, "inclination": pl.Float64,
     "retrograde": pl.Boolean, "ring_inner": pl.Float64, "ring_outer": pl.Float64,
-    "ring_mass": pl.Float64, "ring_density": pl.Float64, "_row": pl.Int64, "_bad": pl.String,
-    "_planet_radii": pl.String, "colour": pl.String,
+    "ring_mass": pl.Float64, "ring_density": pl.Float64,
+    # measurement uncertainties (issue 12)
+    "mass_error": pl.Float64, "mass_error_low": pl.Float64, "radius_error": pl.Float64,
+    "radius_error_low": pl.Float64, "semi_major_axis_error": pl.Float64,
+    "semi_major_axis_error_low": pl.Float64, "period_error": pl.Float64,
+    "period_error_low": pl.Float64,
+    "_row": pl.Int64, "_bad": pl.String, "_planet_radii": pl.String, "_a_printed": pl.Float64,
+    "colour": pl.String,
 })
 # Reference conversions from astropy (IAU 2015 B3 nominal Earth mass; IAU 2012 B2 au; days).
 M_E = const.M_earth.to_value(u.kg)

@@ -26,14 +26,15 @@ def test_canonical_fields_and_types_follow_the_contract() -> None:
         "id", "name", "label", "family", "parent", "system", "mass", "radius", "semi_major_axis",
         "eccentricity", "period", "rotation_period", "tidally_locked", "age", "temperature",
         "luminosity", "inclination", "retrograde", "ring_inner", "ring_outer", "ring_mass",
-        "ring_density",
+        "ring_density", "mass_error", "mass_error_low", "radius_error", "radius_error_low",
+        "semi_major_axis_error", "semi_major_axis_error_low", "period_error", "period_error_low",
     )
     assert {f for f, t in FIELD_TYPES.items() if t == pl.String} == {
         "id", "name", "label", "family", "parent", "system"}
     assert {f for f, t in FIELD_TYPES.items() if t == pl.Boolean} == {"tidally_locked",
                                                                       "retrograde"}
     assert set(NUMERIC_FIELDS) == {f for f, t in FIELD_TYPES.items() if t == pl.Float64}
-    assert len(NUMERIC_FIELDS) == 14
+    assert len(NUMERIC_FIELDS) == 22
 
 
 @pytest.mark.parametrize(("header", "field"), [

@@ -36,7 +36,7 @@ SIGNIFICANT_DIGITS = 6
 COLUMNS = ("id", "name", "type", "orbits", "system", "mass (earth_mass)", "radius_km", "a (au)",
            "e", "period_days", "rotation_h", "locked", "age_gyr", "temp_k",
            "luminosity (L_sun)", "orbit_sense", "ring inner [R_planet]", "ring outer [R_planet]",
-           "ring density (kg/m3)")
+           "ring density (kg/m3)", "mass error (earth_mass)")
 TRUTH_COLUMNS = ("kind", "rule", "body", "other", "label", "field", "at", "low", "high")
 ARTEFACTS = (  # kind, label, canonical field, at, low, high (SI)
     ("cutoff", "asteroid", "radius", CUTOFF_RADIUS, CUTOFF_RADIUS, None),
@@ -61,6 +61,7 @@ def _clean(n_bodies: int, seed: int, settings: GeneratorSettings | None = None
 
 def _spoil(table: dict[str, np.ndarray], n_bodies: int, seed: int) -> Planter:
     """Plant max(3, N / 20,000) defects of every rule, each in a system of its own."""
+    table.setdefault("mass_err", np.full(len(table["code"]), np.nan))  # measured: none but planted
     planter = Planter(np.random.default_rng([seed, 999]), table, max(3, n_bodies // 20_000))
     for plant in (*BODY_PLANTINGS, *ORBIT_PLANTINGS, *RING_TIDE_PLANTINGS):
         plant(planter)
@@ -134,6 +135,7 @@ def _catalogue(p: Planter, systems: pl.Series, names: pl.Series) -> pl.DataFrame
         _number("ring inner [R_planet]", t["ring_inner"]),
         _number("ring outer [R_planet]", t["ring_outer"]),
         _number("ring density (kg/m3)", t["ring_density"]),
+        _number("mass error (earth_mass)", t["mass_err"] / M_EARTH),
     ])
     assert frame.columns == list(COLUMNS), frame.columns
     return frame

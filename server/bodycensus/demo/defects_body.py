@@ -153,9 +153,18 @@ def label_outlier(p: Planter) -> None:
     p.record("label-outlier", rows)
 
 
+def mass_upper_limit(p: Planter) -> None:
+    """A terrestrial world whose mass uncertainty (1.5x the mass) makes the mass an upper limit.
+    """
+    rows = p.pick(p.is_code(CODE["terrestrial world"]) & p.leaves())
+    p.t["mass_err"][rows] = 1.5 * p.t["mass"][rows]
+    p.record("mass-upper-limit", rows)
+
+
 BODY_PLANTINGS: tuple[Callable[[Planter], None], ...] = (  # the scarce targets first
     over_chandrasekhar, over_neutron_star_max, under_hydrogen_burning, brown_dwarf_range,
     missing_value, non_positive, duplicate_id, orphan_parent, parent_cycle, unit_slip,
     bad_eccentricity, bad_cell,
     denser_than_iron, family_density, oversized_cold_body, label_outlier, degenerate_star,
+    mass_upper_limit,
 )

@@ -58,7 +58,7 @@ from bodycensus.input.schema import (
     guess_mapping,
 )
 from bodycensus.progress import Progress, quiet
-from bodycensus.science.units import PLANET_RADII
+from bodycensus.science.units import A_PRINTED, PLANET_RADII
 
 _ROW, _PRESENT, _BAD = ROW_INDEX, "__bodycensus_present__", "__bodycensus_bad__"
 _TRUE, _FALSE = ["true", "yes", "y", "t", "1", "1.0"], ["false", "no", "n", "f", "0", "0.0"]
@@ -190,7 +190,7 @@ def _is_bad(name: str) -> pl.Expr:
 
 def _output_name(column: str) -> str:
     """An unknown column's name in the table: its own, or orig_NAME when that is taken."""
-    taken = set(CANONICAL_FIELDS) | {"_row", "_bad", PLANET_RADII}
+    taken = set(CANONICAL_FIELDS) | {"_row", "_bad", PLANET_RADII, A_PRINTED}
     return f"orig_{column}" if column in taken else column
 
 
@@ -199,6 +199,20 @@ def _planet_radii(mapping: Mapping) -> pl.Expr:
     (null when none): the values derive multiplies by that planet's radius."""
     relative = [f for f in CANONICAL_FIELDS if f in mapping.choices and mapping.choices[f].relative]
     return pl.lit(",".join(relative) if relative else None, dtype=pl.String).alias(PLANET_RADII)
+
+
+def _printed_precision(mapping: Mapping, schema: pl.Schema) -> pl.Expr:
+    """The relative precision of the semi-major axis as printed (``A_PRINTED``): half a unit of
+    its last digit over its value, for the Kepler tolerance."""
+    choice = mapping.choices.get("semi_major_axis")
+    if choice is None or choice.column == ROW_NUMBERS or schema[choice.column] != pl.String:
+        return pl.lit(None, dtype=pl.Float64).alias(A_PRINTED)
+    text = pl.col(choice.column).str.strip_chars()
+    plain = text.str.contains(r"^[+-]?\d*\.?\d+$")
+    decimals = text.str.extract(r"\.(\d+)$", 1).str.len_chars().fill_null(0).cast(pl.Float64)
+    number = text.cast(pl.Float64, strict=False).abs()
+    precision = 0.5 * pl.lit(10.0).pow(-decimals) / number
+    return pl.when(plain & (number > 0)).then(precision).alias(A_PRINTED)
 
 
 def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping,
@@ -224,10 +238,11 @@ def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping,
     joined = pl.concat_str(flags, separator=",", ignore_nulls=True) if flags else pl.lit("")
     fields = [pl.when(~pl.col(_BAD + f)).then(pl.col(f)).alias(f) if f in mapped
               else pl.lit(None, dtype=FIELD_TYPES[f]).alias(f) for f in CANONICAL_FIELDS]
-    return (frame.select(*parsed, pl.col(_ROW).cast(pl.Int64).alias("_row"), *unknown)
+    return (frame.select(*parsed, pl.col(_ROW).cast(pl.Int64).alias("_row"),
+                         _printed_precision(mapping, schema), *unknown)
             .with_columns(_is_bad(f) for f in mapped)
             .select(*fields, "_row", pl.when(joined != "").then(joined).cast(pl.String)
-                    .alias("_bad"), _planet_radii(mapping),
+                    .alias("_bad"), _planet_radii(mapping), A_PRINTED,
                     *(_output_name(c) for c in mapping.unknown_columns)))
 
 

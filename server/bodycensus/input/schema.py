@@ -16,6 +16,7 @@ import polars as pl
 
 from bodycensus.errors import InputError
 from bodycensus.science.units import (
+    ERROR_FIELDS,
     FIELD_DIMENSIONS,
     RELATIVE_FIELDS,
     SI_UNIT,
@@ -28,7 +29,7 @@ CANONICAL_FIELDS: tuple[str, ...] = (
     "id", "name", "label", "family", "parent", "system", "mass", "radius", "semi_major_axis",
     "eccentricity", "period", "rotation_period", "tidally_locked", "age", "temperature",
     "luminosity", "inclination", "retrograde", "ring_inner", "ring_outer", "ring_mass",
-    "ring_density",
+    "ring_density", *ERROR_FIELDS,
 )
 TEXT_FIELDS: tuple[str, ...] = ("id", "name", "label", "family", "parent", "system")
 BOOLEAN_FIELDS: tuple[str, ...] = ("tidally_locked", "retrograde")
@@ -42,6 +43,18 @@ FIELD_TYPES: dict[str, pl.DataType] = {
 # A ring's fields describe the ring a row IS (a body of the `ring` family, whose parent is its
 # planet) or the ring a row CARRIES (columns of the planet); `ring_inner`/`ring_outer` may be
 # given in radii of that planet (unit `planet_radius`), which derive resolves.
+
+def _error_aliases(value: str, low: bool) -> tuple[str, ...]:
+    """Header names of a value's uncertainty: ``mass_error``, ``mass_err``, ``e_mass``, and the
+    two sides as exoplanet.eu (``mass_error_min``/``_max``) and others write them."""
+    names = {"mass": ("mass",), "radius": ("radius",), "semi_major_axis": ("semi_major_axis", "a"),
+             "period": ("period", "orbital_period")}[value]
+    sides = (("_error_min", "_err_low", "_errdn", "_err_minus", "_error_minus", "_error_low")
+             if low else ("_error", "_err", "_error_max", "_err_high", "_errup", "_err_plus",
+                          "_error_plus"))
+    return tuple(n + side for n in names for side in sides) + (
+        () if low else tuple(f"e_{n}" for n in names))
+
 
 _FIELD_ALIASES: dict[str, tuple[str, ...]] = {
     "id": ("id", "body_id", "uid", "objid", "object_id"),
@@ -69,6 +82,8 @@ _FIELD_ALIASES: dict[str, tuple[str, ...]] = {
                    "outer_edge", "rings_outer"),
     "ring_mass": ("ring_mass", "rings_mass"),
     "ring_density": ("ring_density", "ring_material_density", "material_density", "ring_rho"),
+    **{error: _error_aliases(value, error.endswith("_low"))
+       for error, value in ERROR_FIELDS.items()},
 }
 
 # Bare suffixes whose unit depends on the field: `mass_earth`, `radius_jup`, `luminosity_sun`.
@@ -84,7 +99,7 @@ _BODY_SUFFIXES: dict[str, dict[str, str]] = {
 _YEAR_S = UNITS["yr"].to_si
 _BRACKETED = re.compile(r"^(?P<base>.*?)\s*[\(\[](?P<unit>[^\)\]]*)[\)\]]\s*$")
 
-UnitSource = Literal["header", "override", "default"]
+UnitSource = Literal["header", "override", "default", "value"]  # value: its value's unit
 # The column an id comes from when the file has none: each body is named by its row number.
 ROW_NUMBERS = "<row number>"
 # Fields that may share one column with another (a name column that is also the id).
@@ -355,6 +370,10 @@ def guess_mapping(
         name: _choice(name, *found[name], units.get(name))
         for name in CANONICAL_FIELDS if name in found
     }
+    for error, value in ERROR_FIELDS.items():  # an uncertainty is in its value's unit
+        if error in choices and choices[error].unit_source == "default" and value in choices:
+            choices[error] = ColumnChoice(error, choices[error].column, choices[value].unit,
+                                          "value", False)
     used = {c.column for c in choices.values()}
     conflicts = {f: [c for c in cols if c not in used] for f, cols in conflicts.items()}
     return Mapping(

@@ -131,10 +131,23 @@ FIELD_DIMENSIONS: dict[str, str] = {
     "ring_mass": "mass",
     "ring_density": "density",
 }
+# Measurement uncertainties: (field, its value's field). ``X_error`` is the symmetric or upper
+# (+) uncertainty of X, ``X_error_low`` the lower (-) one where a catalogue gives two; both in
+# the value's dimension (and, unless their header says otherwise, in the value's unit).
+ERROR_FIELDS: dict[str, str] = {
+    f"{value}{side}": value
+    for value in ("mass", "radius", "semi_major_axis", "period")
+    for side in ("_error", "_error_low")
+}
+FIELD_DIMENSIONS.update({error: FIELD_DIMENSIONS[value] for error, value in ERROR_FIELDS.items()})
 # Fields that may be given in a relative unit (radii of the ring's planet).
 RELATIVE_FIELDS: frozenset[str] = frozenset({"ring_inner", "ring_outer"})
 # The normalised table's column naming (comma-joined) the fields a row gives in such radii.
 PLANET_RADII = "_planet_radii"
+# The normalised table's column giving how precisely the semi-major axis was printed: half a unit
+# of its last printed digit over its value (0.0510 -> 0.00005 / 0.051 ~ 0.1 %); null where the
+# file gave a number, not text, or wrote it with an exponent.
+A_PRINTED = "_a_printed"
 SI_UNIT: dict[str, str] = {
     "mass": "kg", "length": "m", "time": "s", "density": "kg/m3", "temperature": "K",
     "power": "W", "age": "years", "angle": "rad", "dimensionless": "1",

@@ -18,6 +18,7 @@ from bodycensus.science.rules.base import Rule, fmt, say
 from bodycensus.science.units import M_JUPITER, M_SUN
 
 DENSER_THAN_IRON_TOLERANCE = 1.05  # the Seager et al. 2007 fits are good to a few per cent
+SIGMAS = 3.0  # standard deviations past a limit before a measured value breaks it (common practice)
 OVERSIZE_FACTOR = 2.0  # inflated hot giants reach ~2 R_jup, about 2x the cold curve
 
 _SEAGER = "Seager et al. 2007, ApJ 669, 1279 (pure-iron mass-radius fit)"
@@ -27,13 +28,37 @@ _BROWN_DWARF = FAMILY_PARAMETERS["brown_dwarf"].density_band or DensityBand("con
 
 
 def _denser_than_iron() -> Rule:
-    limit = DENSER_THAN_IRON_TOLERANCE * bodies.composition_density(_MASS, "iron")
+    """Judged in standard deviations where the catalogue gives uncertainties (impossible beyond
+    ``SIGMAS`` of the density's lower spread), else with the curve's own few-per-cent tolerance,
+    and the message says which."""
+    iron = bodies.composition_density(_MASS, "iron")
+    spread = pl.col("_density_error")
+    limit = iron * pl.when(spread.is_not_null()).then(1.0 + SIGMAS * spread).otherwise(
+        DENSER_THAN_IRON_TOLERANCE)
+    how = pl.when(spread.is_not_null()).then(pl.concat_str(
+        pl.lit(", "), fmt((_DENSITY / iron - 1.0) / spread), pl.lit(" sigma above"))).otherwise(
+        pl.lit(f", {DENSER_THAN_IRON_TOLERANCE - 1:.0%} tolerance: no uncertainty given"))
     return Rule(
         id="denser-than-iron", title="Denser than pure iron at its mass", severity="impossible",
         source=_SEAGER, needs=("density",), value=_DENSITY, limit=limit, unit="kg/m3",
         quantity="density", families=PLANETARY_FAMILIES,
-        message=pl.format("density {} exceeds a pure-iron body of this mass ({})",
-                          say(_DENSITY, "density", limit), say(limit, "density", limit)),
+        message=pl.concat_str(pl.lit("density "), say(_DENSITY, "density", iron),
+                              pl.lit(" exceeds a pure-iron body of this mass ("),
+                              say(iron, "density", iron), how, pl.lit(")")),
+    )
+
+
+def _mass_upper_limit() -> Rule:
+    upper = pl.when(pl.col("mass") > 0).then(pl.col("mass") + pl.col("mass_error").abs()) \
+        .otherwise(pl.col("mass_error").abs())
+    return Rule(
+        id="mass-upper-limit", title="The mass is an upper limit", severity="note",
+        source="measurement: an uncertainty as large as the value bounds the mass from above "
+               "only",
+        needs=(), value=upper, limit=pl.col("mass"), unit="kg", quantity="mass",
+        fires=pl.col("_mass_upper_limit"), families=BODY_FAMILIES,
+        message=pl.concat_str(pl.lit("mass is an upper limit (at most "), say(upper, "mass"),
+                              pl.lit("): no density is judged")),
     )
 
 
@@ -148,6 +173,7 @@ def body_rules() -> tuple[Rule, ...]:
     """Every single-body rule."""
     return (
         _denser_than_iron(),
+        _mass_upper_limit(),
         _family_density(),
         _oversized_cold_body(),
         _mass_limit("over-chandrasekhar", "White dwarf above the Chandrasekhar mass",

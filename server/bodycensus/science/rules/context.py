@@ -15,7 +15,8 @@ from bodycensus.science.physics import bodies, orbits
 from bodycensus.science.rules.bands import band_columns, unit_slip_hint
 from bodycensus.science.rules.ring_context import own_ring_edges, ring_columns, rings_around
 from bodycensus.science.rules.tide_context import family_tides, tide_columns
-from bodycensus.science.units import YEAR
+from bodycensus.science.rules.uncertainty_context import mass_upper_limit, uncertainty_columns
+from bodycensus.science.units import A_PRINTED, YEAR
 
 _PARENT_COLUMNS = {
     "id": "parent",
@@ -30,6 +31,7 @@ _PARENT_COLUMNS = {
     "age": "parent_age",
     "_ring_inner_m": "parent_ring_inner",
     "_ring_outer_m": "parent_ring_outer",
+    "_mass_error": "parent_mass_error",
 }
 
 
@@ -46,8 +48,12 @@ def _body_columns(table: pl.LazyFrame) -> pl.LazyFrame:
     e = pl.when((pl.col("eccentricity") >= 0) & (pl.col("eccentricity") < 1)).then(
         pl.col("eccentricity")).otherwise(pl.when(pl.col("eccentricity").is_null()).then(0.0))
     inclined = pl.col("inclination") > math.pi / 2.0  # radians: beyond 90 degrees
+    if A_PRINTED not in table.collect_schema():  # a table not read from text (tests, engines)
+        table = table.with_columns(pl.lit(None, dtype=pl.Float64).alias(A_PRINTED))
     return own_ring_edges(table.with_columns(
-        density=bodies.bulk_density(mass, radius),
+        *uncertainty_columns(),
+        # an upper limit of the mass gives only an upper limit of the density: none is judged
+        density=pl.when(~mass_upper_limit()).then(bodies.bulk_density(mass, radius)),
         gravity=bodies.surface_gravity(mass, radius),
         gravity_g0=bodies.surface_gravity_g0(mass, radius),
         escape_speed=bodies.escape_speed(mass, radius),
@@ -194,7 +200,7 @@ def derive(table: pl.LazyFrame, cycle_ids: pl.Series | None = None) -> pl.LazyFr
 ENGINE_COLUMNS: tuple[str, ...] = (
     "grandparent", "grandparent_mass", "parent_semi_major_axis", "parent_eccentricity",
     "inner_id", "inner_a", "inner_mass", "inner_apoapsis", "parent_rotation_period",
-    "parent_age", "parent_ring_inner", "parent_ring_outer",
+    "parent_age", "parent_ring_inner", "parent_ring_outer", "parent_mass_error",
 )
 
 DERIVED_COLUMNS: tuple[str, ...] = (

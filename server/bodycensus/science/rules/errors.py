@@ -48,16 +48,22 @@ def _bad_cell() -> Rule:
     )
 
 
+def _not_positive(field: str) -> pl.Expr:
+    """The field is zero or negative (a zero mass with an uncertainty is an upper limit)."""
+    bad = pl.col(field) <= 0
+    return bad & ~pl.col("_mass_upper_limit") if field == "mass" else bad
+
+
 def _non_positive() -> Rule:
-    offending = [pl.when(pl.col(f) <= 0).then(pl.lit(f)) for f in _POSITIVE_FIELDS]
-    first_bad = pl.coalesce([pl.when(pl.col(f) <= 0).then(pl.col(f)) for f in _POSITIVE_FIELDS])
-    its_unit = pl.coalesce([pl.when(pl.col(f) <= 0).then(pl.lit(SI_UNIT[FIELD_DIMENSIONS[f]]))
+    offending = [pl.when(_not_positive(f)).then(pl.lit(f)) for f in _POSITIVE_FIELDS]
+    first_bad = pl.coalesce([pl.when(_not_positive(f)).then(pl.col(f)) for f in _POSITIVE_FIELDS])
+    its_unit = pl.coalesce([pl.when(_not_positive(f)).then(pl.lit(SI_UNIT[FIELD_DIMENSIONS[f]]))
                             for f in _POSITIVE_FIELDS])
     return Rule(
         id="non-positive", title="A size, distance or time is zero or negative",
         severity="error", source=_DATA, needs=(), value=first_bad, limit=pl.lit(0.0),
         unit=its_unit,
-        direction="none", fires=pl.any_horizontal([pl.col(f) <= 0 for f in _POSITIVE_FIELDS]),
+        direction="none", fires=pl.any_horizontal([_not_positive(f) for f in _POSITIVE_FIELDS]),
         message=pl.format("must be positive: {}",
                           pl.concat_str(offending, separator=", ", ignore_nulls=True)),
         scope="error",

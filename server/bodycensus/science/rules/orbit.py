@@ -12,6 +12,7 @@ import polars as pl
 from bodycensus.science.families import FLUID_FAMILIES, SOLID_FAMILIES, STELLAR_FAMILIES
 from bodycensus.science.physics import orbits
 from bodycensus.science.rules.base import Rule, fmt, say
+from bodycensus.science.rules.uncertainty_context import kepler_sigma
 
 
 @dataclass(frozen=True)
@@ -21,8 +22,16 @@ class OrbitSettings:
     # Bodies at least this large are held together by gravity, not material strength, so the
     # rigid Roche limit is binding (roundness sets in at ~200-300 km; Lineweaver & Norman 2010).
     gravity_bound_radius: float = 200e3  # m
-    # fractional period mismatch before `kepler-mismatch` (common practice)
+    # `kepler-mismatch` allows 3 standard deviations of period / Kepler period, from the
+    # uncertainties of a (or its printed precision), the host's mass and the period (common
+    # practice), never less than kepler_tolerance and never more than kepler_max_tolerance:
+    # every mismatch over 20 % in two published catalogues was a real error (issue 12).
     kepler_tolerance: float = 0.05
+    kepler_max_tolerance: float = 0.20
+    kepler_sigmas: float = 3.0
+    # A host mass without an uncertainty is taken as known to 10 %, typical of planet hosts
+    # (issue 12's reading of two catalogues; common practice).
+    host_mass_uncertainty: float = 0.10
     lock_time_factor: float = 10.0  # tidal Q and rigidity are uncertain by ~10x (common practice)
     # Pairs lighter than this mass ratio are planet and host, not a binary, even when their
     # barycentre lies outside the host (Sun-Jupiter: q = 0.001); Pluto-Charon has q = 0.12.
@@ -138,15 +147,25 @@ def _hill_rules() -> tuple[Rule, Rule]:
 
 
 def _kepler_mismatch(settings: OrbitSettings) -> Rule:
-    ratio, tol = pl.col("period_ratio"), settings.kepler_tolerance
+    """The tolerance follows from the uncertainties (``uncertainty_context.kepler_sigma``),
+    within the settings' floor and ceiling; the message says how it was set."""
+    ratio = pl.col("period_ratio")
+    sigma = kepler_sigma(settings.host_mass_uncertainty)
+    tol = (settings.kepler_sigmas * sigma).clip(settings.kepler_tolerance,
+                                                settings.kepler_max_tolerance)
+    host = pl.when(pl.col("parent_mass_error").is_null()).then(
+        pl.lit(f"; host mass taken as known to {settings.host_mass_uncertainty:.0%}"))
     return Rule(
         id="kepler-mismatch", title="Period contradicts Kepler's third law", severity="suspect",
-        source="Kepler's third law, P = 2 pi sqrt(a^3 / G(M+m))",
+        source="Kepler's third law, P = 2 pi sqrt(a^3 / G(M+m)); tolerance from the "
+               "uncertainties (first-order propagation)",
         needs=("period_ratio",), value=ratio,
         limit=pl.when(ratio < 1).then(1 - tol).otherwise(1 + tol), unit="x Kepler period",
         direction="none", fires=(ratio - 1).abs() > tol, scope="orbit",
-        message=pl.format("period is {}x the Kepler period {}", fmt(ratio),
-                          say(pl.col("kepler_period"), "period")),
+        message=pl.concat_str(
+            pl.lit("period is "), fmt(ratio), pl.lit("x the Kepler period "),
+            say(pl.col("kepler_period"), "period"), pl.lit(" (tolerance "),
+            fmt(100.0 * tol), pl.lit("%"), host.fill_null(pl.lit("")), pl.lit(")")),
     )
 
 
