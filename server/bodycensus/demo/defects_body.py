@@ -14,7 +14,7 @@ import numpy as np
 from bodycensus.demo.kinds import CODE
 from bodycensus.demo.planter import Planter
 from bodycensus.science.physics import bodies, orbits
-from bodycensus.science.units import M_JUPITER, M_SUN
+from bodycensus.science.units import AU, M_JUPITER, M_SUN
 
 BAD_CELLS = ("1,2e3", "n/a", "3OO", "12..5")  # unreadable temperatures, in turn
 
@@ -98,7 +98,8 @@ def family_density(p: Planter) -> None:
 
 
 def oversized_cold_body(p: Planter) -> None:
-    """A gas giant of over a Jupiter mass, 2.5 x the cold H/He radius, far from its star."""
+    """A gas giant of over a Jupiter mass, 2.5 x the cold H/He radius, far from its star (beyond
+    0.15 au, where no giant is heated to that size)."""
     t = p.t
     big = t["mass"] > 1.2 * M_JUPITER
     new_density = bodies.bulk_density(t["mass"], 2.5 * bodies.cold_hhe_radius(t["mass"]))
@@ -106,7 +107,7 @@ def oversized_cold_body(p: Planter) -> None:
     roche = orbits.roche_fluid(t["radius"][parent],
                                bodies.bulk_density(t["mass"][parent], t["radius"][parent]),
                                new_density)
-    far = orbits.periapsis(t["a"], t["e"]) > 3.0 * roche
+    far = (orbits.periapsis(t["a"], t["e"]) > 3.0 * roche) & (t["a"] > 0.15 * AU)  # not hot
     rows = p.pick(p.is_code(CODE["gas giant"]) & p.leaves() & big & far)
     t["radius"][rows] = 2.5 * bodies.cold_hhe_radius(t["mass"][rows])
     p.record("oversized-cold-body", rows)

@@ -62,8 +62,12 @@ FAMILY_PARAMETERS: dict[str, FamilyParameters] = {
     "ocean": FamilyParameters(DensityBand("water_ice", 0.7, "rock", 1.0), _ICE, 100.0),
     "minor": FamilyParameters(DensityBand("const", 150.0, "iron", 1.1), _ROCK, 100.0),
     "gas_giant": FamilyParameters(DensityBand("const", 30.0, "cold_hhe", 3.0), _ROCK, 1e5),
-    "ice_giant": FamilyParameters(DensityBand("const", 300.0, "rock", 1.0), _ICE, 1e4),
-    "brown_dwarf": FamilyParameters(DensityBand("cold_hhe", 0.3, "cold_hhe", 3.0), _ROCK, 1e5),
+    # super-puffs reach 30-100 kg m-3 (Kepler-51 b ~30: Masuda 2014, ApJ 783, 53; Libby-Roberts
+    # et al. 2020, AJ 159, 57) below the Solar System's ice giants
+    "ice_giant": FamilyParameters(DensityBand("const", 30.0, "rock", 1.0), _ICE, 1e4),
+    # young brown dwarfs are still contracting: 55 M_jup at 11 R_jup (~50 kg m-3) in a catalogue
+    # of hosts (issue 12); the low edge is that of the youngest, not of cold H/He
+    "brown_dwarf": FamilyParameters(DensityBand("const", 30.0, "cold_hhe", 3.0), _ROCK, 1e5),
     # Any star that is not degenerate: from the largest supergiants (giants and pre-main-sequence
     # stars are less dense than the main sequence) up to hot subdwarfs (sdB, log g up to 6.2 at
     # ~0.47 M_sun: ~220x the main-sequence density; Heber 2009, ARA&A 47, 211).

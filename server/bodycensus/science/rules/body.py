@@ -15,11 +15,14 @@ from bodycensus.science.families import (
 from bodycensus.science.physics import bodies
 from bodycensus.science.rules.bands import band_edge, band_high, band_low, degenerate_star
 from bodycensus.science.rules.base import Rule, fmt, say
-from bodycensus.science.units import M_JUPITER, M_SUN
+from bodycensus.science.units import AU, M_JUPITER, M_SUN
 
 DENSER_THAN_IRON_TOLERANCE = 1.05  # the Seager et al. 2007 fits are good to a few per cent
 SIGMAS = 3.0  # standard deviations past a limit before a measured value breaks it (common practice)
 OVERSIZE_FACTOR = 2.0  # inflated hot giants reach ~2 R_jup, about 2x the cold curve
+# Within 0.1 au (periods of days around a Sun-like star) the hottest giants reach ~2.3 R_jup,
+# ~2.5x the cold curve at their masses (issue 12: TEPCat's largest hot Jupiters; common practice)
+HOT_ORBIT, HOT_OVERSIZE_FACTOR = 0.1 * AU, 2.5
 
 _SEAGER = "Seager et al. 2007, ApJ 669, 1279 (pure-iron mass-radius fit)"
 _MASS, _RADIUS, _DENSITY = pl.col("_mass"), pl.col("_radius"), pl.col("density")
@@ -86,12 +89,17 @@ def _family_density() -> Rule:
 
 
 def _oversized_cold_body() -> Rule:
+    """Close to its star a giant is heated and inflated (to ~2.3 R_jup at short periods), so the
+    limit is wider there."""
     ratio = _RADIUS / bodies.cold_hhe_radius(_MASS)
+    close = (pl.col("_a") < HOT_ORBIT).fill_null(False)
+    limit = pl.when(close).then(pl.lit(HOT_OVERSIZE_FACTOR)).otherwise(pl.lit(OVERSIZE_FACTOR))
     return Rule(
         id="oversized-cold-body", title="Larger than a hydrogen-helium body of its mass can be",
         severity="suspect",
-        source="Burrows & Liebert 1993 (cold H/He R ~ 1 R_jup); inflated hot giants ~2 R_jup",
-        needs=("_mass", "_radius"), value=ratio, limit=pl.lit(OVERSIZE_FACTOR),
+        source="Burrows & Liebert 1993 (cold H/He R ~ 1 R_jup); inflated hot giants ~2 R_jup, "
+               "to ~2.3 R_jup within 0.1 au (issue 12, TEPCat)",
+        needs=("_mass", "_radius"), value=ratio, limit=limit,
         unit="x cold H/He radius", families=frozenset({"gas_giant", "brown_dwarf"}),
         message=pl.format("radius is {}x that of a cold H/He body of this mass", fmt(ratio)),
     )

@@ -164,18 +164,32 @@ MAD_TO_SIGMA = 0.6745  # the MAD of a normal distribution is 0.6745 sigma (Iglew
 OUTLIER_SCORES = {"_z_density": "density", "_z_mass": "_mass", "_z_radius": "_radius"}
 
 
-def _robust_z(column: str) -> pl.Expr:
-    """|0.6745 (x - median) / MAD| of log10(column) within the body's label."""
-    x = pl.col(column).log10()
+def _robust_z(x: pl.Expr) -> pl.Expr:
+    """|0.6745 (x - median) / MAD| of ``x`` within the body's label."""
     median = x.median().over("label")
     mad = (x - median).abs().median().over("label")
     return (MAD_TO_SIGMA * (x - median) / mad).abs()
 
 
+def _band_position() -> pl.Expr:
+    """log10 of a density over its family's high band edge at the body's mass: the edges follow
+    the composition curve of each family (the main sequence for stars, iron for rocks, cold H/He
+    for giants), so a label of many masses (M dwarfs and F stars among one label's hosts) scores
+    each body against its own mass, not against the label's median density."""
+    return (pl.col("density") / pl.col("_band_high")).log10()
+
+
 def _label_statistics(table: pl.LazyFrame) -> pl.LazyFrame:
-    """Robust z-scores within each label, computed over the whole table before any filter."""
+    """Robust z-scores within each label, computed over the whole table before any filter. Where
+    the family has a density band, the density is scored against the band's edge at its mass
+    and mass and radius are not scored apart (the band ties them together); elsewhere log10 of
+    each."""
+    banded = pl.col("_band_low").is_not_null()
+    density = pl.when(banded).then(_band_position()).otherwise(pl.col("density").log10())
     return table.with_columns(
-        *[_robust_z(column).alias(score) for score, column in OUTLIER_SCORES.items()],
+        _robust_z(density).alias("_z_density"),
+        *[pl.when(~banded).then(_robust_z(pl.col(column).log10())).alias(score)
+          for score, column in OUTLIER_SCORES.items() if score != "_z_density"],
         pl.len().over("label").alias("_label_size"),
     )
 
