@@ -8,9 +8,9 @@ from pathlib import Path
 import numpy as np
 from catalogue_builder import SUN_LIKE, fired, run
 
-from bodycensus.science.physics.bodies import main_sequence_radius
+from bodycensus.science.physics.bodies import composition_radius, main_sequence_radius
 from bodycensus.science.physics.orbits import kepler_period
-from bodycensus.science.units import AU, M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER
+from bodycensus.science.units import AU, M_EARTH, M_JUPITER, M_SUN, R_EARTH, R_JUPITER, R_SUN
 
 
 def _planet(body_id: str, label: str, family: str, mass: float, radius: float,
@@ -47,15 +47,30 @@ def test_inflated_hot_jupiters_are_left_alone_close_in(tmp_path: Path) -> None:
         "cold": "suspect"}
 
 
-def test_m_dwarfs_among_fgk_hosts_are_no_label_outliers(tmp_path: Path) -> None:
-    # main-sequence hosts of 0.8-1.3 M_sun (R ~ M^0.8, 5 % scatter) and three M dwarfs of
-    # 0.15-0.3 M_sun on the same relation: the band moves with mass, so none is an outlier; a
-    # 1 M_sun host three times its main-sequence radius (a subgiant) is one.
+def test_label_outliers_are_scored_at_each_bodys_own_mass(tmp_path: Path) -> None:
+    # rocky planets of 0.1-10 M_earth on the Seager et al. 2007 rock curve (5 % scatter in
+    # radius): their densities span 2.5x, but each sits at its own mass's place in the band,
+    # so none is an outlier; one of 1 M_earth at 1.6x the curve's radius (a quarter of its
+    # density) is one.
     rng = np.random.default_rng(1)
-    masses = np.concatenate([rng.uniform(0.8, 1.3, 40), [0.15, 0.2, 0.3]]) * M_SUN
-    radii = main_sequence_radius(masses) * rng.uniform(0.95, 1.05, masses.size)
-    rows = [{"id": f"h{i}", "label": "host star", "family": "star", "mass": float(m),
-             "radius": float(r)} for i, (m, r) in enumerate(zip(masses, radii, strict=True))]
-    rows.append({"id": "swollen", "label": "host star", "family": "star", "mass": M_SUN,
-                 "radius": 3.0 * float(main_sequence_radius(M_SUN))})
+    masses = np.geomspace(0.1, 10, 40) * M_EARTH
+    radii = composition_radius(masses, "rock") * rng.uniform(0.95, 1.05, masses.size)
+    rows = [SUN_LIKE] + [
+        _planet(f"p{i}", "rocky planet", "rock", float(m), float(r), (1 + i) * AU)
+        for i, (m, r) in enumerate(zip(masses, radii, strict=True))]
+    rows.append(_planet("swollen", "rocky planet", "rock", M_EARTH,
+                        1.6 * float(composition_radius(M_EARTH, "rock")), 100 * AU))
     assert fired(run(rows, tmp_path), "label-outlier") == {"swollen": "suspect"}
+
+
+def test_stars_are_left_to_their_band_by_label_outlier(tmp_path: Path) -> None:
+    # main-sequence hosts of 0.15-1.3 M_sun (R ~ M^0.8), a K giant (1.1 M_sun, 45 R_sun) and
+    # Sirius B (1.018 M_sun, 0.0081 R_sun; Bond et al. 2017) under one label: none an outlier
+    masses = np.concatenate([np.linspace(0.8, 1.3, 40), [0.15, 0.2, 0.3]]) * M_SUN
+    rows = [{"id": f"h{i}", "label": "host star", "family": "star", "mass": float(m),
+             "radius": float(main_sequence_radius(m))} for i, m in enumerate(masses)]
+    rows += [{"id": "giant", "label": "host star", "family": "star", "mass": 1.1 * M_SUN,
+              "radius": 45 * R_SUN},
+             {"id": "sirius_b", "label": "host star", "family": "star", "mass": 1.018 * M_SUN,
+              "radius": 0.0081 * R_SUN}]
+    assert "label-outlier" not in set(run(rows, tmp_path).findings["rule"])
