@@ -28,7 +28,7 @@ ISSUE_RULE_IDS: tuple[str, ...] = (
     "ring-edges-reversed", "ring-inside-planet", "ring-beyond-roche", "ring-beyond-hill",
     "moon-in-ring", "tidal-heating", "short-lived-orbit",
     # issue 12: real catalogues
-    "degenerate-star", "mass-upper-limit",
+    "degenerate-star", "mass-upper-limit", "duplicate-orbit",
 )
 
 SUN_LIKE = {"id": "S", "label": "yellow dwarf star", "family": "star", "mass": M_SUN,

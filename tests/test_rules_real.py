@@ -74,3 +74,16 @@ def test_stars_are_left_to_their_band_by_label_outlier(tmp_path: Path) -> None:
              {"id": "sirius_b", "label": "host star", "family": "star", "mass": 1.018 * M_SUN,
               "radius": 0.0081 * R_SUN}]
     assert "label-outlier" not in set(run(rows, tmp_path).findings["rule"])
+
+
+def test_white_dwarf_and_pulsar_hosts_are_degenerate_stars(tmp_path: Path) -> None:
+    # exoplanet.eu hosts: AE 1, 1.31 M_sun with its radius printed as 0.01 R_sun (Nauenberg's
+    # curve gives ~0.004 R_sun at that mass: rounded); PSR B1257+12, 1.4 M_sun at ~10 km
+    # (a neutron star, 6.7e17 kg/m3). Degenerate stars, not unit slips.
+    rows = [{"id": "ae1", "label": "host star", "family": "star", "mass": 1.31 * M_SUN,
+             "radius": 0.01 * R_SUN},
+            {"id": "psr", "label": "host star", "family": "star", "mass": 1.4 * M_SUN,
+             "radius": 1.0e4}]
+    result = run(rows, tmp_path)
+    assert fired(result, "degenerate-star") == {"ae1": "note", "psr": "note"}
+    assert set(result.findings["rule"]) == {"degenerate-star"}

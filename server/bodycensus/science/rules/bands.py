@@ -74,15 +74,23 @@ def _band_edge(side: str) -> pl.Expr:
     return pl.when(edge.is_finite()).then(edge)  # a curve past its validity has no band
 
 
+# A star's radius printed to one digit (0.01 R_sun) misses a white dwarf's by up to ~2x, its
+# density by up to ~10x: a star is recognised as a white dwarf within 0.05-20x the curve.
+DEGENERATE_SPREAD = 20.0  # common practice, for radii rounded in catalogues
+
+
 def degenerate_star() -> pl.Expr:
-    """A body of the ``star`` family whose density lies in the white dwarfs' band at its mass:
-    a degenerate star by its density, whatever its label says (white-dwarf hosts of planets are
-    catalogued as stars). Neither a unit slip nor a family-density miss."""
-    band = FAMILY_PARAMETERS["white_dwarf"].density_band
-    assert band is not None
-    density = pl.col("density")
-    return ((pl.col("family") == "star") & (density >= band_edge(band, "low", _MASS))
-            & (density <= band_edge(band, "high", _MASS))).fill_null(False)
+    """A body of the ``star`` family whose density is a white dwarf's at its mass (within
+    ``DEGENERATE_SPREAD``) or a neutron star's: a degenerate star by its density, whatever its
+    label says (white dwarf and pulsar hosts of planets are catalogued as stars). Neither a
+    unit slip nor a family-density miss."""
+    density, curve = pl.col("density"), bodies.white_dwarf_density(_MASS)
+    white = (density >= curve / DEGENERATE_SPREAD) & (density <= curve * DEGENERATE_SPREAD)
+    neutron = FAMILY_PARAMETERS["neutron_star"].density_band
+    assert neutron is not None
+    compact = (density >= band_edge(neutron, "low", _MASS)) & (
+        density <= band_edge(neutron, "high", _MASS))
+    return ((pl.col("family") == "star") & (white.fill_null(False) | compact)).fill_null(False)
 
 
 def band_columns() -> list[pl.Expr]:

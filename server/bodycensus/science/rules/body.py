@@ -138,12 +138,14 @@ def _over_neutron_star_max() -> Rule:
 def _degenerate_star() -> Rule:
     low = band_edge(_WHITE_DWARF, "low", _MASS)
     return Rule(
-        id="degenerate-star", title="A star as dense as a white dwarf", severity="note",
-        source="Nauenberg 1972, ApJ 175, 417 (white-dwarf mass-radius relation)",
+        id="degenerate-star", title="A star as dense as a white dwarf or a neutron star",
+        severity="note",
+        source="Nauenberg 1972, ApJ 175, 417 (white-dwarf mass-radius relation), within 20x "
+               "for rounded radii; neutron stars 1e16-3e18 kg/m3",
         needs=("density",), value=_DENSITY, limit=low, unit="kg/m3", quantity="density",
         fires=degenerate_star(), families=frozenset({"star"}),
-        message=pl.format("density {} is a white dwarf's at this mass: a degenerate star",
-                          say(_DENSITY, "density", low)),
+        message=pl.format("density {} is a white dwarf's or a neutron star's at this mass: a "
+                          "degenerate star", say(_DENSITY, "density", low)),
     )
 
 

@@ -147,7 +147,8 @@ def _orbit_columns(table: pl.LazyFrame) -> pl.LazyFrame:
 
 def _sibling_columns(table: pl.LazyFrame) -> pl.LazyFrame:
     """The next body inward around the same parent (siblings ordered by semi-major axis)."""
-    inner = {"id": "inner_id", "_a": "inner_a", "_mass": "inner_mass", "apoapsis": "inner_apoapsis"}
+    inner = {"id": "inner_id", "_a": "inner_a", "_mass": "inner_mass", "apoapsis": "inner_apoapsis",
+             "period": "inner_period"}
     return table.with_columns(
         pl.col(src).shift(1).over("parent", order_by="_a").alias(dst) for src, dst in inner.items()
     )
@@ -213,7 +214,7 @@ def derive(table: pl.LazyFrame, cycle_ids: pl.Series | None = None) -> pl.LazyFr
 # (underscore-prefixed ones are working columns too).
 ENGINE_COLUMNS: tuple[str, ...] = (
     "grandparent", "grandparent_mass", "parent_semi_major_axis", "parent_eccentricity",
-    "inner_id", "inner_a", "inner_mass", "inner_apoapsis", "parent_rotation_period",
+    "inner_id", "inner_a", "inner_mass", "inner_apoapsis", "inner_period", "parent_rotation_period",
     "parent_age", "parent_ring_inner", "parent_ring_outer", "parent_mass_error",
 )
 

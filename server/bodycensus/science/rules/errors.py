@@ -115,13 +115,20 @@ def _unit_slip() -> Rule:
 
 
 def _bad_eccentricity() -> Rule:
+    """A negative eccentricity is broken data (error); one of 1 or more is an unbound orbit, as
+    interstellar objects on hyperbolic paths have (a note): the orbit rules skip both."""
     e = pl.col("eccentricity")
+    unbound = (e >= 1).fill_null(False)
     return Rule(
-        id="bad-eccentricity", title="Eccentricity outside [0, 1) for a bound orbit",
+        id="bad-eccentricity", title="Eccentricity outside [0, 1): broken, or an unbound orbit",
         severity="error", source="bound Keplerian orbits have 0 <= e < 1 (orbital mechanics)",
         needs=("eccentricity",), value=e, limit=pl.when(e < 0).then(0.0).otherwise(1.0), unit="",
-        direction="none", fires=(e < 0) | (e >= 1),
-        message=pl.format("eccentricity {} is not in [0, 1)", fmt(e)), scope="error",
+        direction="none", fires=(e < 0) | (e >= 1), scope="error",
+        severity_expr=pl.when(unbound).then(pl.lit("note")).otherwise(pl.lit("error")),
+        also=("note",),
+        message=pl.when(unbound).then(pl.format("eccentricity {}: an unbound (hyperbolic) orbit",
+                                                fmt(e)))
+        .otherwise(pl.format("eccentricity {} is not in [0, 1)", fmt(e))),
     )
 
 

@@ -45,6 +45,13 @@ class OrbitSettings:
     # snapshot caught in the last 1 % of a state is a 1-in-100 coincidence (Patra et al. 2017 call
     # WASP-12b's last ~0.2 % "an unlikely coincidence"); the threshold is chosen here.
     short_life_fraction: float = 0.01
+    # Real mass-transferring binaries fill their Roche lobe to 1.04-1.08 in published catalogues
+    # (issue 12): the lobe fit is good to 1 % (Eggleton 1983) but stellar radii only to a few
+    # per cent, so a pair is `unstable` beyond 1.1x (common practice).
+    roche_lobe_tolerance: float = 1.1
+    # Two bodies of one parent whose periods agree within 1 % (and masses within 2x) are one
+    # body listed twice (issue 12: published duplicates agreed within 0.1-1 %; common practice).
+    duplicate_period_tolerance: float = 0.01
 
 
 _A, _PERI, _APO = pl.col("_a"), pl.col("periapsis"), pl.col("apoapsis")
@@ -93,7 +100,7 @@ def _inside_fluid_roche() -> Rule:
         source=_ROCHE_SOURCE, needs=("periapsis", "roche_fluid", "roche_rigid"), value=_PERI,
         limit=pl.col("roche_fluid"), unit="m", quantity="distance", direction="below",
         scope="orbit", fires=(_PERI < pl.col("roche_fluid")) & (_PERI >= pl.col("roche_rigid")),
-        families=_NOT_STELLAR,
+        families=_NOT_STELLAR - {"brown_dwarf"},  # roche-lobe-overflow judges brown dwarfs
         severity_expr=pl.when(fluid).then(pl.lit("unstable")).otherwise(pl.lit("note")),
         also=("unstable",),
         message=pl.format("periapsis {} is inside the fluid Roche limit {}",
@@ -102,7 +109,7 @@ def _inside_fluid_roche() -> Rule:
     )
 
 
-def _roche_lobe_overflow() -> Rule:
+def _roche_lobe_overflow(settings: OrbitSettings) -> Rule:
     mass, parent_mass = pl.col("_mass"), pl.col("parent_mass")
     own = pl.col("_radius") / orbits.roche_lobe_radius(_PERI, mass / parent_mass)
     primary = pl.col("parent_radius") / orbits.roche_lobe_radius(_PERI, parent_mass / mass)
@@ -111,9 +118,10 @@ def _roche_lobe_overflow() -> Rule:
         id="roche-lobe-overflow", title="A star of the pair overfills its Roche lobe",
         severity="unstable", source="Eggleton 1983, ApJ 268, 368 (Roche-lobe radius)",
         needs=("periapsis", "_mass", "parent_mass", "_radius", "parent_radius"), value=fill,
-        limit=pl.lit(1.0), unit="lobe fill", scope="orbit",
+        limit=pl.lit(settings.roche_lobe_tolerance), unit="lobe fill", scope="orbit",
         families=_SELF_LUMINOUS,
-        fires=(fill > 1.0) & pl.col("parent_family").is_in(sorted(_SELF_LUMINOUS)),
+        fires=(fill > settings.roche_lobe_tolerance)
+        & pl.col("parent_family").is_in(sorted(_SELF_LUMINOUS)),
         message=pl.format("at periapsis the {} fills {}x its Roche lobe",
                           pl.when(own >= primary).then(pl.lit("body")).otherwise(
                               pl.lit("primary")), fmt(fill)),
@@ -196,6 +204,27 @@ def _sibling_rules() -> tuple[Rule, Rule]:
     return crossing, spaced
 
 
+def _duplicate_orbit(settings: OrbitSettings) -> Rule:
+    """The same body listed twice under one parent: its period (or, without periods, a^1.5)
+    within ``duplicate_period_tolerance`` of its inner sibling's, and masses within 2x where
+    both are known (co-orbital moons such as Janus and Epimetheus differ 3.6x in mass)."""
+    by_period = pl.col("period") / pl.col("inner_period")
+    ratio = pl.coalesce(by_period, (_A / pl.col("inner_a")) ** 1.5)
+    masses = pl.col("_mass") / pl.col("inner_mass")
+    alike = ((masses < 2.0) & (masses > 0.5)).fill_null(True)
+    tol = settings.duplicate_period_tolerance
+    return Rule(
+        id="duplicate-orbit", title="The same orbit as its inner sibling: listed twice?",
+        severity="suspect",
+        source="Kepler's third law: one orbit, one period; periods within 1 % and masses within "
+               "2x (common practice, issue 12)",
+        needs=("inner_a", "_a"), value=ratio, limit=pl.lit(1.0 + tol), unit="x sibling period",
+        direction="none", scope="orbit", fires=((ratio - 1.0).abs() < tol) & alike,
+        message=pl.format("period is {}x that of inner sibling '{}': the same body listed twice?",
+                          fmt(ratio), pl.col("inner_id")),
+    )
+
+
 def _heavier_than_parent() -> Rule:
     ratio = pl.col("_mass") / pl.col("parent_mass")
     return Rule(
@@ -240,7 +269,8 @@ def orbit_rules(settings: OrbitSettings = OrbitSettings()) -> tuple[Rule, ...]:
     """Every orbit rule."""
     return (
         _periapsis_inside_parent(), _inside_rigid_roche(settings), _inside_fluid_roche(),
-        _roche_lobe_overflow(), *_hill_rules(), _kepler_mismatch(settings), *_sibling_rules(),
+        _roche_lobe_overflow(settings), *_hill_rules(), _kepler_mismatch(settings),
+        *_sibling_rules(), _duplicate_orbit(settings),
         _heavier_than_parent(), _binary_barycentre(settings), _tidal_lock_age(settings),
     )
 
