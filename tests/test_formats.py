@@ -14,6 +14,7 @@ from pathlib import Path
 
 import polars as pl
 import pytest
+from astropy.table import Table
 from polars.testing import assert_frame_equal
 from web_support import api_settings, asgi_client, assert_error, upload, wait_done
 
@@ -36,6 +37,7 @@ from bodycensus.input.formats import (
 from bodycensus.input.ingest import IngestError, ingest
 from bodycensus.input.readers import COMPRESSIONS, to_string
 from bodycensus.input.sniff import sniff
+from bodycensus.science.units import AU, M_SUN
 
 COLUMNS = ["id", "name", "mass_kg"]
 ROWS = [["b1", "Aster", "1.5e24"], ["b2", "Brindle, the second", "2"], ["b3", "", "3e30"]]
@@ -62,10 +64,19 @@ def _parquet(path: Path) -> None:
         pl.col("name").replace("", None)).write_parquet(path)
 
 
+def _astropy(fmt: str) -> Callable[[Path], None]:
+    """A writer of the three rows as an astropy table (VOTable or FITS), mass with its unit."""
+    def write(path: Path) -> None:
+        table = Table([[r[i] for r in ROWS] for i in range(3)], names=COLUMNS)
+        table["mass_kg"].unit = "kg"
+        table.write(path, format=fmt)
+    return write
+
+
 # How each registered record's 3-row file is written; a new record needs a writer here.
 WRITERS: dict[str, Callable[[Path], None]] = {
     "delimited": _delimited(","), "tsv": _delimited("\t"), "ndjson": _ndjson,
-    "parquet": _parquet,
+    "parquet": _parquet, "votable": _astropy("votable"), "fits": _astropy("fits"),
 }
 
 
@@ -104,6 +115,7 @@ def test_recognised_by_each_suffix_in_any_case_and_under_any_compression(fmt: In
 
 @pytest.mark.parametrize(("start", "name"), [
     (b"PAR1\x15\x04\x15\x80", "parquet"),
+    (b"SIMPLE  ", "fits"),
     (b'{"id": 1', "ndjson"),
     (b'\xef\xbb\xbf \r\n{"id"', "ndjson"),  # a BOM and blank lines before the first object
     (b"id\tmass\n", "delimited"),  # a tab alone does not make TSV: only its suffix does
@@ -151,7 +163,7 @@ def test_each_format_heads_through_gzip_or_says_it_cannot(tmp_path: Path, fmt: I
     packed = plain.with_name(plain.name + ".gz")
     packed.write_bytes(gzip.compress(plain.read_bytes()))
     head = fmt.reader.head(packed, "gzip", packed.name, 10)
-    if fmt.reader.kind == "parquet":  # its footer is at the end: the ingest decompresses it
+    if fmt.reader.kind in ("parquet", "table"):  # read whole: the ingest decompresses it
         assert head is None
     else:
         assert head is not None and len(head.rows) == 3 and head.columns == COLUMNS
@@ -201,8 +213,10 @@ def test_tsv_reads_tabs_only_and_says_so_when_the_file_has_commas(tmp_path: Path
 
 
 def test_the_words_for_people_come_from_the_registry() -> None:
-    assert accepted() == "CSV/semicolon text, TSV, NDJSON or Parquet, optionally .gz or .zst"
-    assert suffix_hint() == ".csv, .tsv, .ndjson or .parquet (optionally .gz or .zst)"
+    assert accepted() == ("CSV/semicolon text, TSV, NDJSON, Parquet, VOTable or FITS table, "
+                          "optionally .gz or .zst")
+    assert suffix_hint() == (".csv, .tsv, .ndjson, .parquet, .vot or .fits (optionally .gz or "
+                             ".zst)")
 
 
 # --- a new record, registered in one place, reaches every consumer ----------------------------
@@ -246,3 +260,23 @@ def test_a_new_record_is_named_in_the_command_line_and_checked(
     path.write_text(PIPED)
     assert main(["check", str(path), "--format", "json", "--quiet"]) == 0
     assert json.loads(capsys.readouterr().out)["summary"]["rows"] == 2
+
+
+# --- VOTable and FITS: units from the file's own metadata ---------------------------------------
+
+
+@pytest.mark.parametrize("suffix", [".vot", ".fits"])
+def test_archive_tables_give_their_units_to_the_mapping(tmp_path: Path, suffix: str) -> None:
+    # An archive's table (as the NASA Exoplanet Archive serves): units in the metadata, none in
+    # the names; astropy's solMass and AU are read as ours (IAU 2015 B3, IAU 2012 B2).
+    table = Table({"pl_name": ["b1", "b2"], "pl_bmassj": [1.0, 2.0], "pl_orbsmax": [1.0, 0.05]})
+    table["pl_bmassj"].unit, table["pl_orbsmax"].unit = "solMass", "AU"
+    source = tmp_path / f"archive{suffix}"
+    table.write(source, format="votable" if suffix == ".vot" else "fits")
+    report = ingest(source, tmp_path / "t.parquet", map_overrides={
+        "id": "pl_name", "mass": "pl_bmassj", "semi_major_axis": "pl_orbsmax"})
+    out = pl.read_parquet(tmp_path / "t.parquet")
+    assert out["mass"].to_list() == pytest.approx([M_SUN, 2 * M_SUN])
+    assert out["semi_major_axis"].to_list() == pytest.approx([AU, 0.05 * AU])
+    assert any(n.startswith("mass from 'pl_bmassj' in solar_mass (the file's metadata: ")
+               for n in report.notes)

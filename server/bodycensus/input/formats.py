@@ -24,6 +24,7 @@ from typing import ClassVar, Protocol
 import polars as pl
 
 from bodycensus.errors import BadInput
+from bodycensus.input.astro_tables import read_frame, read_table, starts_like_fits, table_units
 from bodycensus.input.readers import (
     HEAD_BYTES,
     IngestError,
@@ -101,8 +102,8 @@ class Reader(Protocol):
 class InputFormat:
     """One input format: its name, what people call it, its suffixes (lower case, the first
     one suggested), how its first bytes are recognised when its name says nothing, its reader,
-    and the units its own metadata gives each column (VOTable, FITS; None when it has none;
-    no format here has any yet, and the mapping does not read them yet)."""
+    and the units its own metadata gives each column (VOTable, FITS; None when it has none),
+    which the mapping takes where a header names no unit."""
 
     name: str
     title: str
@@ -251,6 +252,37 @@ class ParquetFile:
         return None
 
 
+@dataclass(frozen=True)
+class AstropyTable:
+    """A VOTable (``table_kind = "votable"``) or FITS binary table (``"fits"``), read whole with
+    astropy (``astro_tables``); its columns' units come from its own metadata."""
+
+    table_kind: str
+    kind: ClassVar[str] = "table"
+
+    def head(self, path: Path, compression: str | None, name: str, rows: int) -> Head | None:
+        """Columns and first rows as text; None when compressed (read whole at ingest)."""
+        if compression is not None:
+            return None
+        frame = read_frame(path, self.table_kind, name, rows)
+        text = frame.select(to_string(pl.col(c), t).alias(c) for c, t in frame.schema.items())
+        return Head(frame.columns, [{k: v or "" for k, v in r.items()} for r in text.to_dicts()])
+
+    def prepare(self, plain: Path, name: str) -> Layout:
+        """Refuse a file astropy cannot read, in one line."""
+        read_table(plain, self.table_kind, name)
+        return Layout()
+
+    def scan(self, plain: Path, layout: Layout) -> pl.LazyFrame:
+        """The table in its own types, the 1-based row index first."""
+        frame = read_frame(plain, self.table_kind, plain.name)
+        return frame.with_row_index(ROW_INDEX, offset=1).lazy()
+
+    def fault(self, plain: Path, layout: Layout) -> str | None:
+        """None: astropy's own message (in ``prepare``) is the best we have."""
+        return None
+
+
 def _starts_with_object(start: bytes) -> bool:
     """Whether the first character (after a BOM and blank space) opens a JSON object."""
     return start.lstrip(_LEAD)[:1] == b"{"
@@ -271,6 +303,10 @@ FORMATS: tuple[InputFormat, ...] = (
                 recognise=_starts_with_object),
     InputFormat("parquet", "Parquet", (".parquet", ".pq"), ParquetFile(),
                 recognise=_starts_with_parquet_magic),
+    InputFormat("votable", "VOTable", (".vot", ".votable"), AstropyTable("votable"),
+                units=lambda path: table_units(path, "votable")),
+    InputFormat("fits", "FITS table", (".fits", ".fit", ".fts"), AstropyTable("fits"),
+                recognise=starts_like_fits, units=lambda path: table_units(path, "fits")),
 )
 FALLBACK = DELIMITED  # a file whose name and first bytes say nothing is read as text
 

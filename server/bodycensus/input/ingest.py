@@ -24,6 +24,7 @@ import polars as pl
 
 from bodycensus.durable import fsync_path
 from bodycensus.errors import storage_error
+from bodycensus.input.astro_tables import with_metadata_units
 from bodycensus.input.formats import (
     FORMATS,
     MAGIC_BYTES,
@@ -347,9 +348,13 @@ def _read(source: Path, plain: Path, compression: str | None, dest: Path, limits
     """Ingest an uncompressed file ``plain`` (read from ``source``) into ``dest``."""
     fmt, layout, frame, schema = _open(source, plain, limits)
     mapping = _map(source, schema.names(), *overrides, hosts)
+    metadata: list[str] = []
+    if fmt.units is not None:
+        mapping, metadata = with_metadata_units(mapping, fmt.units(plain))
     progress("read", 0)
     plan = _normalise(frame, schema, mapping, nulls)
-    notes = [f"{source.name}: {line}" for line in layout.renamed] + unit_notes(mapping)
+    notes = [f"{source.name}: {line}" for line in layout.renamed] + metadata + \
+        unit_notes(mapping)
     if nulls:
         notes.append("cells reading " + ", ".join(repr(n) for n in nulls) + " taken as empty")
     if hosts:
