@@ -87,3 +87,17 @@ def test_white_dwarf_and_pulsar_hosts_are_degenerate_stars(tmp_path: Path) -> No
     result = run(rows, tmp_path)
     assert fired(result, "degenerate-star") == {"ae1": "note", "psr": "note"}
     assert set(result.findings["rule"]) == {"degenerate-star"}
+
+
+def test_unit_slip_hints_list_astronomical_slips_first(tmp_path: Path) -> None:
+    # exoplanet.eu's AU Mic c: a radius of 2.79 in the Jupiter-radius column for 2.79 R_earth.
+    # Here an Earth (NSSDCA: 5.97e24 kg, 6371 km) with its radius written as 1 R_jup: 1405x too
+    # light: Earth radii read as Jupiter radii explain it, and so do three other slips; all are
+    # listed, the k-prefix ones (grams for kg) last.
+    rows = [SUN_LIKE, _planet("slip", "rocky planet", "rock", M_EARTH, R_JUPITER, AU)]
+    result = run(rows, tmp_path)
+    message = result.findings.filter(result.findings["rule"] == "unit-slip")["message"][0]
+    hints = message.split("; ", 1)[1].split("; or ")
+    assert "radius looks 11.21x too large (values in Earth radii read as Jupiter radii?)" in hints
+    assert hints[-1] == "mass looks 1000x too small (values in kg read as grams?)"
+    assert len(hints) == 4

@@ -111,12 +111,14 @@ def band_high() -> pl.Expr:
 # Known unit slips: (field, the unit the values were in, the unit they were read as). Values in
 # Earth masses read as Jupiter masses come out M_jup / M_earth = 318x too large; a mass too large
 # by f scales density by f, a radius too large by f scales it by f^-3.
+# Astronomical units first: in real catalogues the slips were Earth units in Jupiter columns far
+# more often than grams for kilograms (issue 12), and every slip that fits is listed.
 UNIT_SLIPS: tuple[tuple[str, str, str], ...] = (
-    ("radius", "m", "km"), ("radius", "km", "m"), ("mass", "g", "kg"), ("mass", "kg", "g"),
     ("mass", "earth_mass", "jupiter_mass"), ("mass", "jupiter_mass", "earth_mass"),
     ("mass", "jupiter_mass", "solar_mass"), ("mass", "solar_mass", "jupiter_mass"),
     ("radius", "earth_radius", "jupiter_radius"), ("radius", "jupiter_radius", "earth_radius"),
     ("radius", "jupiter_radius", "solar_radius"), ("radius", "solar_radius", "jupiter_radius"),
+    ("radius", "m", "km"), ("radius", "km", "m"), ("mass", "g", "kg"), ("mass", "kg", "g"),
 )
 _UNIT_WORDS = {"m": "metres", "km": "km", "g": "grams", "kg": "kg", "earth_mass": "Earth masses",
                "jupiter_mass": "Jupiter masses", "solar_mass": "solar masses",
@@ -142,17 +144,17 @@ SLIP_TOLERANCE = 10.0  # a slip is suspected only when the density misses its ba
 
 
 def unit_slip_hint(density: pl.Expr) -> pl.Expr:
-    """The likeliest unit slip, as text, when ``density`` misses its band by more than 10x
-    and dividing by one known factor brings it inside; null otherwise."""
+    """Every unit slip that would explain ``density`` (astronomical units first), as text joined
+    by "; or ", when it misses its band by more than 10x and dividing by one known factor brings
+    it inside; null otherwise."""
     low, high = band_low(), band_high()
     far_out = ((density < low / SLIP_TOLERANCE) | (density > high * SLIP_TOLERANCE)) \
         & ~degenerate_star()
-    hint: Then | ChainedThen | None = None
+    hints = []
     for field, given, read_as in UNIT_SLIPS:
         factor = slip_factor(given, read_as)
         fixed = density / (factor if field == "mass" else factor**-3)
         inside = far_out & (fixed >= low) & (fixed <= high)
-        text = pl.lit(slip_text(field, given, read_as))
-        hint = pl.when(inside).then(text) if hint is None else hint.when(inside).then(text)
-    assert hint is not None
-    return hint.otherwise(None)
+        hints.append(pl.when(inside).then(pl.lit(slip_text(field, given, read_as))))
+    joined = pl.concat_str(hints, separator="; or ", ignore_nulls=True)
+    return pl.when(joined != "").then(joined)
