@@ -94,7 +94,10 @@ def test_null_sentinels_are_empty_not_bad(tmp_path: Path) -> None:
 def test_repeated_columns_are_read_under_their_new_names(tmp_path: Path) -> None:
     text = "id,mass [kg],err,err,radius [m],err,err\nA,5,1,2,7,0.5,0.6\n"
     table, notes = _ingest(tmp_path, text)
-    assert table["mass_err"].to_list() == ["1"] and table["radius_err_2"].to_list() == ["0.6"]
+    # the renamed first 'err' of each value reads as its uncertainty (mass_err, radius_err);
+    # the second is kept under its new name
+    assert table["mass_error"].to_list() == [1.0] and table["radius_error"].to_list() == [0.5]
+    assert table["radius_err_2"].to_list() == ["0.6"]
     assert "planets.csv: column 3 'err' (repeated) read as 'mass_err'" in notes
 
 
@@ -102,3 +105,17 @@ def test_a_header_without_a_unit_is_said_to_be_si(tmp_path: Path) -> None:
     _, notes = _ingest(tmp_path, "id,mass,radius [km]\nA,5,7\n")
     assert notes == ["mass from 'mass' read in kg (SI): its header names no unit; if it is in "
                      "another, give --unit mass=UNIT"]
+
+
+def test_one_field_in_two_units_is_coalesced_and_said(tmp_path: Path) -> None:
+    # hosts in solar masses, planets in Jupiter masses, in two columns of one table
+    text = "id,mass [M_sun],mass [M_jup]\nS,1.0,\nb,,2.0\nc,,\n"
+    table, notes = _ingest(tmp_path, text)
+    assert table["mass"].to_list()[:2] == pytest.approx([M_SUN, 2 * M_JUPITER])
+    assert table["mass"][2] is None
+    assert notes == ["mass from 'mass [M_sun]' (solar_mass), else from 'mass [M_jup]' "
+                     "(jupiter_mass): one field in two units, each row takes the first given"]
+    # with --unit the field takes its one column, and the other is kept as it is
+    source = tmp_path / "planets.csv"
+    report = ingest(source, tmp_path / "u.parquet", unit_overrides={"mass": "solar_mass"})
+    assert report.mapping.conflicts == {"mass": ["mass [M_jup]"]}

@@ -114,4 +114,4 @@ def with_metadata_units(mapping: Mapping, units: dict[str, str]) -> tuple[Mappin
             continue
         choices[name] = ColumnChoice(name, choice.column, found, "header", False)
         notes.append(f"{name} from '{choice.column}' in {found} (the file's metadata: '{text}')")
-    return Mapping(choices, mapping.unknown_columns, mapping.conflicts), notes
+    return Mapping(choices, mapping.unknown_columns, mapping.conflicts, mapping.fallbacks), notes

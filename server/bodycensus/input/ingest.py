@@ -232,6 +232,10 @@ def _normalise(frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping,
             continue
         value, present = _parse(name, pl.col(choice.column), schema[choice.column],
                                 choice.factor(), nulls)
+        for extra in mapping.fallbacks.get(name, []):  # the same field in another unit
+            more, there = _parse(name, pl.col(extra.column), schema[extra.column],
+                                 extra.factor(), nulls)
+            value, present = pl.coalesce(value, more), present | there
         parsed += [value.cast(FIELD_TYPES[name]).alias(name), present.alias(_PRESENT + name)]
     unknown = [to_string(pl.col(c), schema[c]).alias(_output_name(c))
                for c in mapping.unknown_columns]
@@ -296,7 +300,7 @@ def _map(source: Path, columns: list[str], map_overrides: dict[str, str] | None,
         raise IngestError(f"{source.name}: no id column among {describe_columns(columns)}; "
                           "use --map id=COLUMN")
     kept = [c for c in columns if c in host_columns or c in mapping.unknown_columns]
-    return Mapping(mapping.choices, kept, mapping.conflicts)
+    return Mapping(mapping.choices, kept, mapping.conflicts, mapping.fallbacks)
 
 
 def unit_notes(mapping: Mapping, whose: str = "") -> list[str]:
@@ -354,7 +358,11 @@ def _read(source: Path, plain: Path, compression: str | None, dest: Path, limits
     progress("read", 0)
     plan = _normalise(frame, schema, mapping, nulls)
     notes = [f"{source.name}: {line}" for line in layout.renamed] + metadata + \
-        unit_notes(mapping)
+        unit_notes(mapping) + [
+            f"{name} from '{mapping.choices[name].column}' ({mapping.choices[name].unit}), "
+            "else from " + ", ".join(f"'{c.column}' ({c.unit})" for c in extra) +
+            ": one field in two units, each row takes the first given"
+            for name, extra in mapping.fallbacks.items()]
     if nulls:
         notes.append("cells reading " + ", ".join(repr(n) for n in nulls) + " taken as empty")
     if hosts:

@@ -172,6 +172,9 @@ class Mapping:
     choices: dict[str, ColumnChoice]
     unknown_columns: list[str]
     conflicts: dict[str, list[str]] = field(default_factory=dict)  # field -> columns not chosen
+    # field -> more columns of it, each in a unit of its own (``mass [M_sun]`` beside
+    # ``mass [M_jup]``): a row takes the first of them that holds a value
+    fallbacks: dict[str, list[ColumnChoice]] = field(default_factory=dict)
 
     @property
     def missing_fields(self) -> list[str]:
@@ -374,10 +377,32 @@ def guess_mapping(
         if error in choices and choices[error].unit_source == "default" and value in choices:
             choices[error] = ColumnChoice(error, choices[error].column, choices[value].unit,
                                           "value", False)
-    used = {c.column for c in choices.values()}
+    fallbacks = _fallbacks(choices, conflicts, map_overrides or {}, units)
+    used = {c.column for c in choices.values()} | {
+        c.column for extra in fallbacks.values() for c in extra}
     conflicts = {f: [c for c in cols if c not in used] for f, cols in conflicts.items()}
     return Mapping(
         choices=choices,
         unknown_columns=[c for c in columns if c not in used],
         conflicts={f: cols for f, cols in conflicts.items() if cols},
+        fallbacks=fallbacks,
     )
+
+
+def _fallbacks(choices: dict[str, ColumnChoice], conflicts: dict[str, list[str]],
+               overrides: dict[str, str], units: dict[str, Unit]
+               ) -> dict[str, list[ColumnChoice]]:
+    """More columns of a field whose headers each name a unit of their own, as the chosen
+    column's does: one field given in two units (hosts in solar masses, planets in Jupiter
+    masses), coalesced row by row. A field set by --map or --unit takes its one column."""
+    found: dict[str, list[ColumnChoice]] = {}
+    for name, columns in conflicts.items():
+        chosen = choices.get(name)
+        if chosen is None or chosen.unit_source != "header" or name in overrides \
+                or name in units:
+            continue
+        extra = [ColumnChoice(name, c, hint.name, "header", False) for c in columns
+                 if (hint := _hint_for(name, c)) is not None and hint.name != chosen.unit]
+        if extra:
+            found[name] = extra
+    return found
