@@ -27,8 +27,11 @@ def _publish(store: Store) -> str:
     store.open_upload(Manifest(id=cat_id, name="Test sector", status="ingesting", created=now()))
     work = write_engine_output(store.workdir(cat_id))
     write_json_atomic(work / "aggregates.json", compute_aggregates(work))
-    store.publish(cat_id, rows=107, summary={"bad_cells": {"mass": 2}, "unmapped_labels": []},
-                  mapping={"unknown_columns": ["colour"]})
+    store.publish(cat_id, rows=107, summary={
+        "bad_cells": {"mass": 2}, "unmapped_labels": [],
+        "reading_notes": ["mass from 'mass' read in kg (SI): its header names no unit; if it is "
+                          "in another, give --unit mass=UNIT"]},
+        mapping={"unknown_columns": ["colour"]})
     return cat_id
 
 
@@ -76,6 +79,7 @@ def test_overview_numbers_link_to_filtered_findings(site: tuple[SyncClient, str]
     assert any(h.endswith("rule=inside-rigid-roche") for h in links)
     assert "inside-rigid-roche" in page and "Rule coverage" in page
     assert re.search(r"<code>mass</code></td><td class=\"num\">2<", page)  # bad cells
+    assert "How the file was read" in page and "read in kg (SI): its header names no unit" in page
 
 
 def test_catalogue_text_is_escaped(site: tuple[SyncClient, str]) -> None:

@@ -33,4 +33,5 @@ def build_summary(bodies: pl.LazyFrame, findings: pl.DataFrame, artefacts: pl.Da
         "unmapped_labels": sorted(label for label, f in families.items() if f == "unknown"),
         "artefacts": artefacts.height,
         "bad_cells": dict(report.bad_cells) if report is not None else {},
+        "reading_notes": list(report.notes) if report is not None else [],
     }

@@ -47,6 +47,8 @@ class RunSummary(TypedDict):
     unmapped_labels: list[str]  # labels with family unknown
     artefacts: int
     bad_cells: dict[str, int]  # source column -> unreadable cells
+    # how the file was read: renamed columns, units taken as SI or from metadata, host rows
+    reading_notes: NotRequired[list[str]]
     seconds: NotRequired[float]  # wall time of a whole run from the file
 
 

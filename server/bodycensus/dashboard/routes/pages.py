@@ -127,6 +127,7 @@ def overview_context(store: Store, manifest: Manifest, state: ViewState | None =
                       if c["rule"] in RULES_BY_ID else (c["severity"],)}
                      for c in overview["coverage"]],
         "bad_cells": sorted((summary.get("bad_cells") or {}).items()),
+        "reading_notes": list(summary.get("reading_notes") or []),
         "artefacts": artefact_rows(cat_id, overview["artefacts"], cat_url,
                                    summary.get("label_families"), state.display),
         "diagrams": diagram_links(cat_id, cat_url),
