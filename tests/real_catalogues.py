@@ -30,7 +30,8 @@ CACHE = Path.home() / ".cache" / "bodycensus-test-data"
 M_EARTH_IN_MJUP = 1 / 317.828  # IAU 2015 B3 nominal GM ratio (Jupiter / Earth)
 R_EARTH_IN_RJUP = 6.3781e6 / 7.1492e7  # IAU 2015 B3 nominal equatorial radii
 
-WHEELS = {"spright": ("spright==25.6.3", "spright-25.6.3-py3-none-any.whl")}
+WHEELS = {"spright": ("spright==25.6.3", "spright-25.6.3-py3-none-any.whl"),
+          "EXOSIMS": ("EXOSIMS==3.6.6", "exosims-3.6.6-py3-none-any.whl")}
 
 
 def fetch(member: str, package: str = "spright") -> Path:
@@ -128,4 +129,22 @@ def exoplanet_eu(work: Path) -> tuple[Path, list[str]]:
                  "--host-unit", "age=Gyr"]
 
 
+def nasa_archive(work: Path) -> tuple[Path, list[str]]:
+    """The NASA Exoplanet Archive's planets table of 2019-05-31 as the archive serves it (a
+    VOTable; Akeson et al. 2013, PASP 125, 989), shipped in the EXOSIMS 3.6.6 wheel: read as it
+    comes, every unit from the file's own metadata, no label (no composition is given)."""
+    source = fetch("EXOSIMS/PlanetPopulation/planets_2019.05.31_11.18.02.votable", "EXOSIMS")
+    return source, ["--map", "id=pl_name", "--map", "name=pl_name",
+                    "--map", "mass=pl_bmassj", "--map", "radius=pl_radj",
+                    "--map", "period=pl_orbper", "--map", "semi_major_axis=pl_orbsmax",
+                    "--map", "eccentricity=pl_orbeccen",
+                    "--map", "mass_error=pl_bmassjerr1", "--map", "mass_error_low=pl_bmassjerr2",
+                    "--map", "radius_error=pl_radjerr1", "--map", "radius_error_low=pl_radjerr2",
+                    "--map", "period_error=pl_orbpererr1",
+                    "--map", "semi_major_axis_error=pl_orbsmaxerr1",
+                    "--host-columns", "name=pl_hostname,mass=st_mass,radius=st_rad,"
+                    "temperature=st_teff,mass_error=st_masserr1,mass_error_low=st_masserr2"]
+
+
 CATALOGUES = {"tepcat": tepcat, "exoplanet_eu": exoplanet_eu}
+ARCHIVE_TABLES = {"nasa_archive": nasa_archive}  # read whole with astropy: slower

@@ -2,7 +2,9 @@
 line's options and the real engine (issue 12).
 
 - TEPCat (Southworth 2011, MNRAS 417, 2166), as shipped in the spright 25.6.3 wheel;
-- exoplanet.eu (Schneider et al. 2011, A&A 532, A79), as shipped in the same wheel.
+- exoplanet.eu (Schneider et al. 2011, A&A 532, A79), as shipped in the same wheel;
+- the NASA Exoplanet Archive (Akeson et al. 2013, PASP 125, 989) of 2019-05-31, a VOTable
+  shipped in the EXOSIMS 3.6.6 wheel.
 
 Both are fetched with ``pip download`` into ~/.cache/bodycensus-test-data (``real_catalogues``).
 The false-alarm rates of issue 12 were judged finding by finding with an independent check (the
@@ -12,9 +14,11 @@ findings judged false there must stay gone, and the true problems found must sta
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import polars as pl
 import pytest
-from real_catalogues import CATALOGUES
+from real_catalogues import ARCHIVE_TABLES, CATALOGUES
 
 from bodycensus.cli.check import check_options
 from bodycensus.cli.main import build_parser
@@ -94,3 +98,20 @@ def test_true_problems_in_the_published_data_are_found(checked: dict[str, CheckR
     # every mismatch with Kepler's law over 20 % stays found (issue 12: all were real)
     mismatch = eu.findings.filter(pl.col("rule") == "kepler-mismatch")
     assert mismatch.filter((pl.col("value") - 1).abs() > 0.2).height >= 160
+
+
+def test_an_archive_votable_is_read_with_the_units_of_its_metadata(tmp_path: Path) -> None:
+    # The NASA Exoplanet Archive's planets table (2019-05-31, a VOTable; Akeson et al. 2013),
+    # shipped in the EXOSIMS 3.6.6 wheel: no unit in any column name, every unit in the
+    # metadata ('jovMass', 'days', 'solMass', ...), one row per planet with host columns.
+    name, prepare = next(iter(ARCHIVE_TABLES.items()))
+    source, options = prepare(tmp_path)
+    args = build_parser().parse_args(["check", str(source), *options, "--no-artefacts"])
+    result = check_file(source, tmp_path / name, check_options(args))
+    notes = result.report.notes if result.report else []
+    assert "mass from 'pl_bmassj' in jupiter_mass (the file's metadata: 'jovMass')" in notes
+    assert "host mass from 'st_mass' in solar_mass (the file's metadata: 'solMass')" in notes
+    assert result.summary["rows"] == 3972 + 2963  # planets, and one row per host
+    assert not _bodies_with(result, ("impossible",))
+    mismatch = result.findings.filter(pl.col("rule") == "kepler-mismatch")
+    assert mismatch.filter((pl.col("value") - 1).abs() > 0.2).height >= 70

@@ -10,6 +10,7 @@ Parquet first.
 
 from __future__ import annotations
 
+from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
@@ -18,13 +19,20 @@ import polars as pl
 
 from bodycensus.input.readers import IngestError, first_line
 from bodycensus.input.schema import ColumnChoice, Mapping
-from bodycensus.science.units import FIELD_DIMENSIONS, UNITS
+from bodycensus.science.units import FIELD_DIMENSIONS, UNITS, find_unit
 
 _INSTALL = "install astropy (pip install 'bodycensus[astro]') or export the table as CSV"
 
 
 def read_table(path: Path, kind: str, name: str) -> Any:
-    """The astropy Table of a VOTable or the first FITS table extension."""
+    """The astropy Table of a VOTable or the first FITS table extension (read once per file
+    version: the check, the scan and the units of one ingest share it)."""
+    stat = path.stat()
+    return _cached_table(str(path), stat.st_mtime_ns, stat.st_size, kind, name)
+
+
+@lru_cache(maxsize=2)
+def _cached_table(path: str, mtime: int, size: int, kind: str, name: str) -> Any:
     try:
         from astropy.table import Table  # type: ignore[import-untyped]
     except ImportError as err:
@@ -32,8 +40,8 @@ def read_table(path: Path, kind: str, name: str) -> Any:
     try:
         if kind == "votable":
             from astropy.io.votable import parse_single_table  # type: ignore[import-untyped]
-            return parse_single_table(str(path)).to_table(use_names_over_ids=True)
-        return Table.read(str(path), format="fits")
+            return parse_single_table(path).to_table(use_names_over_ids=True)
+        return Table.read(path, format="fits")
     except Exception as err:  # astropy raises many kinds for a damaged file
         raise IngestError(f"{name}: not a readable {kind} table ({first_line(err)[:80]}); "
                           "export it again") from err
@@ -85,8 +93,12 @@ _SI = {"mass": "kg", "length": "m", "time": "s", "age": "yr", "temperature": "K"
 
 def metadata_unit(text: str, dimension: str, candidates: dict[str, float]) -> str | None:
     """Which of ``candidates`` (our unit name -> its factor to the dimension's SI unit, years
-    for ages) a metadata unit such as ``jupiterMass`` or ``AU`` is, within 0.1 % (astropy's
-    Jupiter mass and ours differ by ~1e-4); None when astropy does not know it or none fits."""
+    for ages) a metadata unit such as ``jupiterMass`` or ``AU`` is: one of our own spellings,
+    else by astropy's factor within 0.1 % (astropy's Jupiter mass and ours differ by ~1e-4);
+    None when neither knows it or none fits."""
+    ours = find_unit(text)  # our own spellings first: 'days', 'jovMass' (NASA's archive)
+    if ours is not None and ours.name in candidates:
+        return ours.name
     try:
         from astropy import units as u  # type: ignore[import-untyped]
         factor = float(u.Unit(text).to(u.Unit(_SI[dimension])))

@@ -330,9 +330,12 @@ def _open(source: Path, plain: Path, limits: IngestLimits
 
 
 def _with_hosts(plan: pl.LazyFrame, frame: pl.LazyFrame, schema: pl.Schema, mapping: Mapping,
-                hosts: HostColumns, nulls: tuple[str, ...]) -> tuple[pl.LazyFrame, list[str]]:
-    """The planets (parent and system their host) followed by one row per host; the notes."""
+                hosts: HostColumns, nulls: tuple[str, ...], units: dict[str, str]
+                ) -> tuple[pl.LazyFrame, list[str]]:
+    """The planets (parent and system their host) followed by one row per host; the notes.
+    ``units``: the file's own unit of each column (VOTable, FITS), for host fields given none."""
     host_mapping = hosts.mapping(schema.names(), mapping.choices["id"].column)
+    host_mapping, metadata = with_metadata_units(host_mapping, units)
     name_column = hosts.columns.get("name")
     planets = planets_with_hosts(hosts, plan, _output_name(name_column) if name_column else None)
     found = host_rows(hosts, _normalise(frame, schema, host_mapping, nulls),
@@ -343,7 +346,7 @@ def _with_hosts(plan: pl.LazyFrame, frame: pl.LazyFrame, schema: pl.Schema, mapp
         notes.append("no host name column: each planet has a host of its own ('host of <id>'); "
                      "give --host-columns name=COLUMN to put a star's planets together")
     return (pl.concat([planets, found], how="diagonal_relaxed"),
-            notes + unit_notes(host_mapping, "host "))
+            notes + [f"host {n}" for n in metadata] + unit_notes(host_mapping, "host "))
 
 
 def _read(source: Path, plain: Path, compression: str | None, dest: Path, limits: IngestLimits,
@@ -353,8 +356,9 @@ def _read(source: Path, plain: Path, compression: str | None, dest: Path, limits
     fmt, layout, frame, schema = _open(source, plain, limits)
     mapping = _map(source, schema.names(), *overrides, hosts)
     metadata: list[str] = []
-    if fmt.units is not None:
-        mapping, metadata = with_metadata_units(mapping, fmt.units(plain))
+    units = fmt.units(plain) if fmt.units is not None else {}
+    if units:
+        mapping, metadata = with_metadata_units(mapping, units)
     progress("read", 0)
     plan = _normalise(frame, schema, mapping, nulls)
     notes = [f"{source.name}: {line}" for line in layout.renamed] + metadata + \
@@ -366,7 +370,7 @@ def _read(source: Path, plain: Path, compression: str | None, dest: Path, limits
     if nulls:
         notes.append("cells reading " + ", ".join(repr(n) for n in nulls) + " taken as empty")
     if hosts:
-        plan, host_notes = _with_hosts(plan, frame, schema, mapping, hosts, nulls)
+        plan, host_notes = _with_hosts(plan, frame, schema, mapping, hosts, nulls, units)
         notes += host_notes
     rows = _write(plan, dest, source, limits.max_rows,
                   lambda err: _explain(source, plain, fmt, layout, err))

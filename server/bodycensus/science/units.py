@@ -88,6 +88,7 @@ _ALIASES: dict[str, str] = {
     "earthmasses": "earth_mass", "m_e": "earth_mass", "m⊕": "earth_mass",
     "mjup": "jupiter_mass", "m_jup": "jupiter_mass", "mj": "jupiter_mass", "m_j": "jupiter_mass",
     "jupitermass": "jupiter_mass", "jupitermasses": "jupiter_mass", "m_jupiter": "jupiter_mass",
+    "jovmass": "jupiter_mass",  # the NASA Exoplanet Archive's spelling
     "msun": "solar_mass", "m_sun": "solar_mass", "msol": "solar_mass", "m_sol": "solar_mass",
     "solarmass": "solar_mass", "solarmasses": "solar_mass", "m☉": "solar_mass",
     "meter": "m", "meters": "m", "metre": "m", "metres": "m",
