@@ -26,7 +26,7 @@ from web_support import (
 )
 
 from bodycensus.dashboard.app import create_app
-from bodycensus.science.units import M_EARTH
+from bodycensus.science.units import M_EARTH, M_SUN
 from bodycensus.storage.triage import DECISION_COLUMNS
 
 
@@ -280,6 +280,33 @@ def test_mapping_step(served: tuple[SyncClient, str, Path]) -> None:
     assert next(f for f in body["fields"] if f["field"] == "mass")["value"] == pytest.approx(
         1.7e-4 * M_EARTH)
     assert_error(client.post(f"{url}/mapping", json=choice), 409, "conflict")
+    assert client.delete(url).status_code == 204
+
+
+def test_mapping_step_builds_host_rows_and_reads_null_sentinels(
+        served: tuple[SyncClient, str, Path]) -> None:
+    # one row per planet with its star's columns, as exoplanet.eu and TEPCat publish them
+    client, _, _ = served
+    content = ("name,mass [M_jup],a [AU],star_name,star_mass,star_radius\n"
+               "55 Cnc b,0.831,0.1134,55 Cnc,0.905,0.943\n"
+               "55 Cnc e,-1,0.01544,55 Cnc,-1,0.96\n"
+               "51 Peg b,0.46,0.052,51 Peg,1.11,1.266\n")
+    accepted = upload(client, "planets.csv", content.encode()).json()
+    assert accepted["status"] == "mapping"
+    url = f"/api/catalogues/{accepted['id']}"
+    assert_error(client.post(f"{url}/mapping", json={"map": {"id": "name"},
+                                                     "hosts": {"name": "nope"}}), 422,
+                 "bad_input")
+    choice = {"map": {"id": "name", "name": "name"},
+              "hosts": {"name": "star_name", "mass": "star_mass", "radius": "star_radius"},
+              "host_units": {"mass": "solar_mass", "radius": "solar_radius"}, "nulls": ["-1"]}
+    assert client.post(f"{url}/mapping", json=choice).status_code == 202
+    done = wait_done(client, accepted["id"])
+    assert done["status"] == "ready" and done["rows"] == 5  # three planets and two hosts
+    assert done["options"]["hosts"]["name"] == "star_name" and done["options"]["nulls"] == ["-1"]
+    host = client.get(f"{url}/bodies/55%20Cnc").json()
+    mass = next(f for f in host["fields"] if f["field"] == "mass")["value"]
+    assert mass == pytest.approx(0.905 * M_SUN)  # the first value given; -1 is no value
     assert client.delete(url).status_code == 204
 
 

@@ -97,6 +97,16 @@ function ingestPanel() {
   }).catch((err) => showError($("ingest-stage"), err.message));
 }
 
+// "name=star_name, mass=star_mass" as {name: "star_name", mass: "star_mass"}.
+function pairs(text) {
+  const out = {};
+  for (const part of text.split(",")) {
+    const [field, ...rest] = part.split("=");
+    if (field.trim() && rest.length) out[field.trim()] = rest.join("=").trim();
+  }
+  return out;
+}
+
 function mappingForm() {
   const form = $("mapping-form");
   const idColumn = $("id-column");
@@ -111,6 +121,8 @@ function mappingForm() {
       return;
     }
     const choice = { map: { id: idColumn.value }, units: {}, families: {},
+                     hosts: pairs($("host-columns").value), host_units: pairs($("host-units").value),
+                     nulls: $("null-values").value.split(",").map((v) => v.trim()).filter((v) => v),
                      save_preset: $("save-preset").checked };
     for (const row of form.querySelectorAll("tr[data-column]")) {
       const field = row.querySelector("select[name=field]").value;

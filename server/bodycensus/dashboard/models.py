@@ -68,6 +68,13 @@ class MappingIn(BaseModel):
                                   examples=[{"radius": "km"}])
     families: dict[str, str] = Field(default_factory=dict, description="label -> family",
                                      examples=[{"Frost world": "ice"}])
+    hosts: dict[str, str] = Field(default_factory=dict, description="one row per planet: host "
+                                  "field -> column; a row per host is built from them",
+                                  examples=[{"name": "star_name", "mass": "star_mass"}])
+    host_units: dict[str, str] = Field(default_factory=dict, description="host field -> unit",
+                                       examples=[{"mass": "solar_mass"}])
+    nulls: list[str] = Field(default_factory=list, description="cell texts that mean no value",
+                             examples=[["-1", "--"]])
     save_preset: bool = Field(False, description="keep these choices for the next upload with "
                                                  "the same header")
 

@@ -31,6 +31,9 @@ class OverridesRecord(TypedDict):
     map: dict[str, str]
     units: dict[str, str]
     families: dict[str, str]
+    hosts: NotRequired[dict[str, str]]  # host field -> column (one row per planet)
+    host_units: NotRequired[dict[str, str]]  # host field -> unit
+    nulls: NotRequired[list[str]]  # cell texts that mean "no value"
 
 
 class RunSummary(TypedDict):

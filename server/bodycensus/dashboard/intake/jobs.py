@@ -21,6 +21,7 @@ from bodycensus.diagrams.aggregates import compute_aggregates
 from bodycensus.engines.local import CheckOptions, check_file
 from bodycensus.errors import BadInput, BodycensusError, one_line, storage_error
 from bodycensus.input.formats import catalogue_suffix
+from bodycensus.input.hosts import HostColumns
 from bodycensus.input.ingest import IngestLimits
 from bodycensus.input.schema import guess_mapping
 from bodycensus.science.families import FAMILIES
@@ -46,10 +47,18 @@ class Overrides:
     map: dict[str, str] = field(default_factory=dict)
     units: dict[str, str] = field(default_factory=dict)
     families: dict[str, str] = field(default_factory=dict)
+    hosts: dict[str, str] = field(default_factory=dict)  # host field -> column
+    host_units: dict[str, str] = field(default_factory=dict)
+    nulls: tuple[str, ...] = ()
 
     def checked(self, columns: list[str]) -> Overrides:
         """These overrides if they fit the file's ``columns``; SchemaError or BadInput if not."""
-        mapping = guess_mapping(columns, self.map, self.units)
+        hosts = HostColumns(self.hosts, self.host_units)
+        if hosts:
+            hosts.check(columns)
+        host_columns = set(self.hosts.values())
+        mapping = guess_mapping([c for c in columns if c not in host_columns], self.map,
+                                self.units)
         if "id" not in mapping.choices:
             raise BadInput("no column is mapped to id; choose the column that identifies each "
                            "body", 422)
@@ -61,14 +70,21 @@ class Overrides:
 
     def to_record(self) -> OverridesRecord:
         """The overrides as the manifest keeps them."""
-        return {"map": dict(self.map), "units": dict(self.units), "families": dict(self.families)}
+        record: OverridesRecord = {"map": dict(self.map), "units": dict(self.units),
+                                   "families": dict(self.families)}
+        if self.hosts:
+            record["hosts"], record["host_units"] = dict(self.hosts), dict(self.host_units)
+        if self.nulls:
+            record["nulls"] = list(self.nulls)
+        return record
 
     def options(self, settings: Settings) -> CheckOptions:
         """The engine options for these overrides under the server's limits."""
         limits = IngestLimits(max_decompressed_bytes=settings.max_decompressed_bytes,
                               max_rows=settings.max_rows, max_columns=settings.max_columns)
         return CheckOptions(map_overrides=self.map, unit_overrides=self.units,
-                            family_overrides=self.families, limits=limits)
+                            family_overrides=self.families, limits=limits,
+                            hosts=HostColumns(self.hosts, self.host_units), nulls=self.nulls)
 
 
 class _ProgressRecorder:

@@ -133,7 +133,8 @@ def confirm_mapping(catalogue_id: str, choice: MappingIn, store: StoreDep,
         raise Conflict(f"catalogue '{catalogue_id}' is {manifest.status}; only a catalogue in "
                        "status mapping takes a mapping")
     columns = manifest.proposal["columns"] if manifest.proposal else []
-    overrides = Overrides(choice.map, choice.units, choice.families)
+    overrides = Overrides(choice.map, choice.units, choice.families, choice.hosts,
+                          choice.host_units, tuple(choice.nulls))
     if columns:
         overrides = overrides.checked(columns)
     started = jobs.start(catalogue_id, overrides)
