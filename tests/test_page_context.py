@@ -78,6 +78,13 @@ def test_mapping_rows_follow_the_files_columns() -> None:
                                           "unit": "earth_mass", "ambiguous": True}
     assert context["mapping_rows"][0]["field"] is None
     assert context["label_families"] == [("Rocky world", "rock")]
+    assert (context["host_columns_text"], context["nulls_text"]) == ("", "")
+    again = page_context.mapping_context(proposal, {
+        "map": {"id": "id"}, "units": {}, "families": {},
+        "hosts": {"name": "star_name", "mass": "star_mass"}, "host_units": {"mass": "solar_mass"},
+        "nulls": ["-1", "--"]})
+    assert again["host_columns_text"] == "name=star_name, mass=star_mass"
+    assert (again["host_units_text"], again["nulls_text"]) == ("mass=solar_mass", "-1, --")
 
 
 def _body(**extra: Any) -> Any:

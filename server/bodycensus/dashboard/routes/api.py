@@ -105,7 +105,9 @@ def _preset_overrides(preset: Any, manifest: Manifest) -> Overrides | None:
     choices = preset.choices
     try:
         return Overrides(dict(choices["map"]), dict(choices["units"]),
-                         dict(choices["families"])).checked(manifest.proposal["columns"])
+                         dict(choices["families"]), dict(choices.get("hosts", {})),
+                         dict(choices.get("host_units", {})),
+                         tuple(choices.get("nulls", []))).checked(manifest.proposal["columns"])
     except BadInput:
         return None
 

@@ -52,10 +52,13 @@ def _previous_choices(manifest: Manifest) -> dict[str, Any] | None:
     choices: dict[str, Any] = dict(mapping.get("choices") or {})
     if not choices:
         return None
+    options: dict[str, Any] = dict(manifest.options or {})
     return {"map": {f: c["column"] for f, c in choices.items()},
             "units": {f: c["unit"] for f, c in choices.items() if c.get("unit")},
             "families": dict(manifest.summary.get("label_families", {})) if manifest.summary
-            else {}}
+            else {},
+            "hosts": options.get("hosts", {}), "host_units": options.get("host_units", {}),
+            "nulls": options.get("nulls", [])}
 
 
 class RenameIn(BaseModel):

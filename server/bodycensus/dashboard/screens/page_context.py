@@ -115,7 +115,12 @@ def mapping_context(proposal: ProposalRecord, preset: Mapping[str, Any] | None =
         if family != guessed:
             why = f"chosen before (the label alone suggests {guessed}: {why})"
         labels.append({"label": label, "family": family, "why": why})
-    return {"proposal": proposal, "mapping_rows": rows,
+    before = preset or {}
+    pairs = {key: ", ".join(f"{f}={c}" for f, c in dict(before.get(key) or {}).items())
+             for key in ("hosts", "host_units")}
+    return {"host_columns_text": pairs["hosts"], "host_units_text": pairs["host_units"],
+            "nulls_text": ", ".join(before.get("nulls") or []),
+            "proposal": proposal, "mapping_rows": rows,
             "fields": tuple(f for f in CANONICAL_FIELDS if f != "id"), "units": list(UNITS),
             "families_all": FAMILIES, "label_families": [(r["label"], r["family"])
                                                          for r in labels],

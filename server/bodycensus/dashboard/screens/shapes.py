@@ -222,6 +222,9 @@ class MappingContext(TypedDict):
     id_column: str | None
     row_numbers: str
     unknown_turns_off: list[str]
+    host_columns_text: str  # one row per planet: "name=star_name, mass=star_mass" chosen before
+    host_units_text: str
+    nulls_text: str
 
 
 class ArtefactRow(Artefact):
