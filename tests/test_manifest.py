@@ -64,9 +64,15 @@ def test_the_run_summary_is_the_declared_record(catalogue: Path, tmp_path: Path)
 
 def test_the_overrides_are_the_declared_record() -> None:
     record = Overrides({"id": "name"}, {"mass": "kg"}, {"lava world": "rock"}).to_record()
-    assert set(record) == _keys(OverridesRecord)
+    assert set(record) == {"map", "units", "families"}  # the choices every run makes
     assert record == {"map": {"id": "name"}, "units": {"mass": "kg"},
                       "families": {"lava world": "rock"}}
+    # one row per planet: the host columns, their units and the null sentinels are kept too
+    full = Overrides({"id": "name"}, {}, {}, {"name": "star_name"}, {"mass": "solar_mass"},
+                     ("-1",)).to_record()
+    assert set(full) == _keys(OverridesRecord)
+    assert (full["hosts"], full["host_units"], full["nulls"]) == (
+        {"name": "star_name"}, {"mass": "solar_mass"}, ["-1"])
 
 
 def test_what_a_run_may_change_is_part_of_the_manifest() -> None:
