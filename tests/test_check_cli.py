@@ -78,7 +78,7 @@ def test_the_catalogue_says_how_the_file_was_read(broken_csv: Path) -> None:
 def test_progress_on_stderr_names_every_stage(broken_csv: Path) -> None:
     done = bodycensus("check", str(broken_csv), "--progress", "--format", "csv")
     stages = [line.split()[2] for line in done.stderr.splitlines()]
-    assert stages == ["read", "read", "derive", "rules", "artefacts", "write"]
+    assert stages == ["read", "read", "derive", "rules", "rules", "artefacts", "write"]
     assert all(line.startswith("bodycensus check: ") for line in done.stderr.splitlines())
     assert "rows            3" in done.stderr.splitlines()[1]  # known once the file is read
     quiet = bodycensus("check", str(broken_csv), "--quiet")

@@ -11,7 +11,12 @@ import pytest
 from catalogue_builder import normalised
 from solar_system import solar_system_frame
 
-from bodycensus.science.rules.context import DERIVED_COLUMNS, ENGINE_COLUMNS, derive
+from bodycensus.science.rules.context import (
+    DERIVED_COLUMNS,
+    ENGINE_COLUMNS,
+    context_facts,
+    derive,
+)
 from bodycensus.science.units import DAY, M_SUN
 
 KM = 1e3
@@ -77,7 +82,8 @@ def test_inner_sibling_is_the_next_body_inward(solar: dict[str, dict[str, Any]])
 
 def _derived(rows: list[dict[str, Any]], cycle: list[str] | None = None) -> dict[str, Any]:
     ids = pl.Series("id", cycle, dtype=pl.String) if cycle is not None else None
-    frame = derive(normalised(rows).lazy(), ids).collect()
+    table = normalised(rows).lazy()
+    frame = derive(table, context_facts(table, ids)).collect()
     return {row["id"]: row for row in frame.iter_rows(named=True)}
 
 

@@ -134,7 +134,7 @@ def test_names_are_sanitised_and_never_paths(corpus: dict[str, Path],
         assert done["name"] == (shown or done["name"]) and len(done["name"]) <= 120
         assert done["name"].endswith(".csv")
         files = {p.name for p in (data_dir / "catalogues" / cat_id).iterdir()}
-        assert files == {"manifest.json", "aggregates.json", "bodies.parquet", "names.parquet",
+        assert files == {"manifest.json", "aggregates.json", "bodies", "names.parquet",
                          "findings.parquet", "artefacts.parquet", "coverage.parquet",
                          "source.csv"}  # the upload kept under our name, never the sender's
         assert client.delete(f"/api/catalogues/{cat_id}").status_code == 204

@@ -23,6 +23,7 @@ from bodycensus.diagrams.mass_radius import MASS, RADIUS
 from bodycensus.engines.local import check_file
 from bodycensus.errors import BadInput
 from bodycensus.science.severity import SEVERITIES
+from bodycensus.storage.runs import scan_bodies
 
 
 @pytest.fixture(scope="module")
@@ -34,7 +35,7 @@ def checked(tmp_path_factory: pytest.TempPathFactory) -> Path:
 
 @pytest.fixture(scope="module")
 def bodies(checked: Path) -> pl.DataFrame:
-    return pl.read_parquet(checked / "bodies.parquet")
+    return scan_bodies(checked).collect()
 
 
 @pytest.fixture(scope="module")

@@ -33,10 +33,11 @@ def test_check_file_writes_the_engine_files_and_keeps_no_temporary(catalogue: Pa
     work = tmp_path / "work"
     result = check_file(catalogue, work)
     assert sorted(p.name for p in work.iterdir()) == [
-        "artefacts.parquet", "bodies.parquet", "coverage.parquet", "findings.parquet"]
+        "artefacts.parquet", "bodies", "coverage.parquet", "findings.parquet"]
+    assert [p.name for p in (work / "bodies").iterdir()] == ["part-00000.parquet"]
     assert_frame_equal(pl.read_parquet(work / "findings.parquet"), result.findings)
     assert_frame_equal(pl.read_parquet(work / "coverage.parquet"), result.coverage)
-    assert result.bodies == work / "bodies.parquet"
+    assert result.bodies == work / "bodies"
     assert result.report is not None and result.report.rows == 3
     assert result.summary["rows"] == 3 and result.summary["seconds"] >= 0
 
@@ -49,7 +50,8 @@ def test_progress_is_told_every_stage_in_order(catalogue: Path, tmp_path: Path) 
 
     check_file(catalogue, tmp_path / "work", progress=watch)
     assert told == [("read", 0.0, None), ("read", 1.0, 3), ("derive", 0.0, None),
-                    ("rules", 0.0, None), ("artefacts", 0.0, None), ("write", 1.0, None)]
+                    ("rules", 0.0, None), ("rules", 1.0, None), ("artefacts", 0.0, None),
+                    ("write", 1.0, None)]
 
 
 def test_families_come_from_overrides_then_the_file_then_the_guess() -> None:

@@ -25,6 +25,7 @@ from bodycensus.diagrams.aggregates import compute_aggregates
 from bodycensus.errors import NotFound
 from bodycensus.science.severity import SEVERITIES
 from bodycensus.science.units import AU, M_EARTH
+from bodycensus.storage.runs import scan_bodies
 from bodycensus.storage.store import Manifest, Store, now, write_json_atomic
 
 HOSTILE = "<img src=x onerror=alert(1)>"
@@ -75,7 +76,7 @@ def site(published: tuple[Path, str]) -> Iterator[tuple[SyncClient, str]]:
 def _expected(cat_dir: Path) -> dict[str, dict[str, int]]:
     """Per system, bodies and findings per severity, counted row by row (independent of polars'
     group_by)."""
-    bodies = pl.read_parquet(cat_dir / "bodies.parquet").to_dicts()
+    bodies = scan_bodies(cat_dir).collect().to_dicts()
     system_of = {b["id"]: b["system"] or queries.NO_SYSTEM for b in bodies}
     out: dict[str, dict[str, int]] = {}
     for b in bodies:

@@ -132,10 +132,11 @@ def score_demo(catalogue: Path, truth: Path) -> str:
 
     from bodycensus.demo.scoring import score, score_text
     from bodycensus.engines.local import check_file
+    from bodycensus.storage.runs import scan_bodies
 
     with tempfile.TemporaryDirectory(prefix="bodycensus-score-") as workdir:
         result = check_file(catalogue, Path(workdir))
-        ids = pl.scan_parquet(result.bodies).select("id").collect()["id"]
+        ids = scan_bodies(Path(workdir)).select("id").collect()["id"]
         truth_table = pl.read_csv(truth, infer_schema_length=0).with_columns(
             pl.col("at").cast(pl.Float64, strict=False))
         return score_text(score(result.findings, result.artefacts, truth_table, ids,

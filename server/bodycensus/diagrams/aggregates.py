@@ -22,6 +22,7 @@ from bodycensus.diagrams.shapes import CoverageRow
 from bodycensus.science.rules.base import FINDING_SCHEMA
 from bodycensus.science.rules.orbit import OrbitSettings
 from bodycensus.science.severity import SEVERITIES, rank
+from bodycensus.storage.runs import scan_bodies
 
 VERSION = 4  # the shape of aggregates.json; 1 had no "version" and a key per panel; 2 lacked the
 # tidal-heating, remaining-life and rings diagrams; 3 drew density as a histogram per label
@@ -77,7 +78,7 @@ def compute_aggregates(workdir: Path, settings: OrbitSettings | None = None) -> 
     """All overview and diagram aggregates of the engine's output in ``workdir``, for a run
     checked with ``settings`` (the defaults when not given)."""
     settings = settings or OrbitSettings()
-    bodies = pl.scan_parquet(workdir / "bodies.parquet")
+    bodies = scan_bodies(workdir)
     findings = (pl.scan_parquet(workdir / "findings.parquet")
                 if (workdir / "findings.parquet").exists()
                 else pl.LazyFrame(schema=FINDING_SCHEMA))

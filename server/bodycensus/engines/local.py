@@ -1,12 +1,14 @@
 """The single-machine engine: ingest, derive, run every rule and the artefact detector.
 
-``check_file`` is what the CLI's ``check`` and the dashboard's upload jobs call. Every table is
-scanned lazily and written with streaming sinks, so memory follows the columns, not the file.
+``check_file`` is what the CLI's ``check`` and the dashboard's upload jobs call. The catalogue is
+split into partitions of whole systems and checked one partition at a time
+(``engines.partition``), so memory follows a partition, not the file.
 """
 
 from __future__ import annotations
 
 import os
+import shutil
 import time
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -15,20 +17,30 @@ from pathlib import Path
 import polars as pl
 
 from bodycensus.durable import fsync_path
+from bodycensus.engines.partition import (
+    PART,
+    PARTITION_ROWS,
+    CatalogueFacts,
+    catalogue_facts,
+    check_partition,
+    fill_families,
+    label_families,
+    merge_findings,
+    partition_count,
+    partition_numbers,
+)
 from bodycensus.engines.summary import build_summary
 from bodycensus.input.hosts import HostColumns
 from bodycensus.input.ingest import IngestLimits, IngestReport, ingest
 from bodycensus.progress import Progress, quiet
 from bodycensus.science import artefacts as artefact_detector
 from bodycensus.science.artefacts import ARTEFACT_FIELDS
-from bodycensus.science.families import FAMILIES, family_mapping
-from bodycensus.science.rules import all_rules
-from bodycensus.science.rules.base import coverage, evaluate
-from bodycensus.science.rules.context import derive
-from bodycensus.science.rules.graph import cycle_members
+from bodycensus.science.rules.base import coverage_table
+from bodycensus.science.rules.graph import Chains
 from bodycensus.science.rules.orbit import OrbitSettings
 from bodycensus.science.severity import SEVERITY_RANK
 from bodycensus.storage.manifest import RunSummary
+from bodycensus.storage.runs import scan_bodies
 
 
 @dataclass(frozen=True)
@@ -43,6 +55,7 @@ class CheckOptions:
     artefacts: bool = True
     hosts: HostColumns = field(default_factory=HostColumns)  # host rows from host columns
     nulls: tuple[str, ...] = ()  # cell texts that mean "no value" (``--null``)
+    partition_rows: int = PARTITION_ROWS  # bodies per partition, roughly: memory follows it
 
 
 @dataclass
@@ -68,13 +81,8 @@ def with_families(table: pl.LazyFrame, overrides: Mapping[str, str]) -> tuple[pl
                                                                               dict[str, str]]:
     """Fill ``family`` from each label (a valid family given in the file wins over a guess,
     an explicit override wins over both)."""
-    labels = table.select(pl.col("label").unique()).collect()["label"].drop_nulls().to_list()
-    mapping = family_mapping(sorted(labels), dict(overrides))
-    given = pl.when(pl.col("family").is_in(FAMILIES)).then(pl.col("family"))
-    guessed = pl.col("label").replace_strict(mapping, default="unknown", return_dtype=pl.String)
-    forced = pl.col("label").replace_strict(dict(overrides), default=None, return_dtype=pl.String)
-    family = pl.coalesce(forced, given, guessed)
-    return table.with_columns(family.alias("family")), mapping
+    mapping = label_families(table, overrides)
+    return fill_families(table, mapping, overrides), mapping
 
 
 def _write_atomic(frame: pl.DataFrame | pl.LazyFrame, path: Path) -> None:
@@ -88,31 +96,78 @@ def _write_atomic(frame: pl.DataFrame | pl.LazyFrame, path: Path) -> None:
     os.replace(tmp, path)
 
 
+SPLIT_BATCH = 500_000  # rows of the normalised table read at a time while splitting it
+
+
+def _split(table: pl.LazyFrame, chains: Chains, into: Path, per_partition: int) -> list[Path]:
+    """Write ``table`` into ``into`` as one folder of Parquet files per partition, reading it a
+    batch of rows at a time (memory follows a batch: polars' streaming join and partitioned
+    sink held gigabytes at 10M bodies); the folders, in partition order."""
+    rows = int(table.select(pl.len()).collect(engine="streaming").item())
+    parts = partition_numbers(table, chains, partition_count(rows, per_partition))
+    folders: set[Path] = set()
+    for start in range(0, rows, SPLIT_BATCH):
+        batch = table.slice(start, SPLIT_BATCH).collect().with_columns(
+            parts.slice(start, SPLIT_BATCH).alias(PART))
+        for (number,), piece in batch.partition_by(PART, as_dict=True).items():
+            folder = into / f"{number:05d}"
+            folder.mkdir(parents=True, exist_ok=True)
+            piece.drop(PART).write_parquet(folder / f"rows-{start:012d}.parquet")
+            folders.add(folder)
+    return sorted(folders)
+
+
+def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
+                      progress: Progress) -> tuple[pl.DataFrame, pl.DataFrame]:
+    """Check each partition in turn (memory follows one partition): its bodies go to
+    ``bodies/part-NNNNN.parquet`` (the folder is filled under a temporary name, fsynced, then
+    renamed into place); the merged findings and coverage counts come back."""
+    out, filling = workdir / "bodies", workdir / "bodies.tmp"
+    shutil.rmtree(filling, ignore_errors=True)
+    filling.mkdir(parents=True)
+    findings, counts = [], []
+    progress("rules", 0.0)
+    for i, folder in enumerate(folders):
+        result = check_partition(pl.read_parquet(folder / "*.parquet"), facts)
+        _write_atomic(result.bodies, filling / f"part-{i:05d}.parquet")
+        findings.append(result.findings)
+        counts.append(result.coverage)
+        progress("rules", (i + 1) / len(folders))
+    fsync_path(filling)
+    shutil.rmtree(out, ignore_errors=True)
+    os.replace(filling, out)
+    rules = facts.rules()
+    return merge_findings(findings, rules), pl.concat(counts) if counts else pl.DataFrame()
+
+
 def check_table(table: pl.LazyFrame, workdir: Path, options: CheckOptions = CheckOptions(),
                 progress: Progress | None = None, report: IngestReport | None = None
                 ) -> CheckResult:
-    """Run every rule and the artefact detector over a normalised table; write the results."""
+    """Run every rule and the artefact detector over a normalised table, partition by
+    partition of whole systems (``engines.partition``); write the results."""
     progress = progress or quiet
     workdir.mkdir(parents=True, exist_ok=True)
-    table, families = with_families(table, options.family_overrides)
     progress("derive", 0.0)
-    context = derive(table, cycle_members(table))
-    bodies_path = workdir / "bodies.parquet"
-    _write_atomic(context, bodies_path)
-    progress("rules", 0.0)
-    bodies = pl.scan_parquet(bodies_path)
-    rules = all_rules(options.orbit_settings)
-    findings = evaluate(bodies, rules).collect()
+    facts, chains = catalogue_facts(table, options.family_overrides, options.orbit_settings)
+    split = workdir / "partitions"
+    try:
+        folders = _split(table, chains, split, options.partition_rows)
+        del chains
+        findings, counts = _check_partitions(folders, facts, workdir, progress)
+    finally:
+        shutil.rmtree(split, ignore_errors=True)
     _write_atomic(findings, workdir / "findings.parquet")
-    rule_coverage = coverage(bodies, rules)
+    rule_coverage = coverage_table(counts, facts.rules())
     _write_atomic(rule_coverage, workdir / "coverage.parquet")
     progress("artefacts", 0.0)
+    bodies = scan_bodies(workdir)
     found = (artefact_detector.detect_artefacts(bodies, ARTEFACT_FIELDS) if options.artefacts
              else pl.DataFrame(schema=artefact_detector.ARTEFACT_SCHEMA))
     _write_atomic(found, workdir / "artefacts.parquet")
     progress("write", 1.0)
-    summary = build_summary(bodies, findings, found, families, report)
-    return CheckResult(findings, found, rule_coverage, bodies_path, summary, report, families)
+    summary = build_summary(bodies, findings, found, facts.families, report)
+    return CheckResult(findings, found, rule_coverage, workdir / "bodies", summary, report,
+                       facts.families)
 
 
 def check_file(source: Path, workdir: Path, options: CheckOptions = CheckOptions(),

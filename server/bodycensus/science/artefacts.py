@@ -354,17 +354,15 @@ def _unit(field: str) -> str:
     return "" if unit == "1" else f" {unit}"
 
 
-def _collect(table: pl.DataFrame | pl.LazyFrame, fields: Sequence[str],
-             keys: Sequence[str]) -> pl.DataFrame:
-    """The needed columns, checked: fields must be numeric, every column must exist."""
-    schema = table.lazy().collect_schema()
+def _check_columns(table: pl.LazyFrame, fields: Sequence[str], keys: Sequence[str]) -> None:
+    """Fields must be numeric, every column must exist."""
+    schema = table.collect_schema()
     for name in (n for n in [*keys, *fields] if n not in schema):
         raise ArtefactInputError(f"artefacts: the table has no column '{name}'; "
                                  "pass only fields and group columns it has")
     for name in (n for n in fields if not schema[n].is_numeric()):
         raise ArtefactInputError(f"artefacts: field '{name}' is {schema[name]}, not numeric; "
                                  "pass numeric fields only")
-    return table.lazy().select(*dict.fromkeys([*keys, *fields])).collect()
 
 
 GroupSlice = tuple[str, int, int]  # a group's value, its first row and the row after its last
@@ -373,7 +371,8 @@ GroupSlice = tuple[str, int, int]  # a group's value, its first row and the row 
 def _group_slices(frame: pl.DataFrame, scope: str, min_count: int
                   ) -> tuple[np.ndarray, list[GroupSlice]]:
     """Row order that makes each group contiguous, and (name, start, stop) of each big group."""
-    groups = (frame.select(pl.col(scope).cast(pl.String), pl.int_range(pl.len()).alias("row"))
+    groups = (frame.select(pl.col(scope).cast(pl.String),
+                           pl.int_range(pl.len(), dtype=pl.UInt32).alias("row"))
               .drop_nulls(scope).group_by(scope).agg("row")
               .filter(pl.col("row").list.len() >= min_count).sort(scope))
     sizes = groups["row"].list.len().to_numpy()
@@ -397,13 +396,20 @@ def _finalise(rows: list[Artefact], n_tests: int, config: ArtefactConfig) -> pl.
 def detect_artefacts(table: pl.DataFrame | pl.LazyFrame, fields: Sequence[str],
                      group_columns: Sequence[str] = ("label", "family"),
                      config: ArtefactConfig = ArtefactConfig()) -> pl.DataFrame:
-    """Cutoffs, gaps and spikes in every field of every group, BH-controlled at ``config.fdr``."""
-    frame = _collect(table, fields, group_columns)
+    """Cutoffs, gaps and spikes in every field of every group, BH-controlled at ``config.fdr``.
+
+    The group columns are read once and each field on its own, so memory holds one field of
+    the table at a time, not every field."""
+    lazy = table.lazy()
+    _check_columns(lazy, fields, group_columns)
+    frame = lazy.select(*dict.fromkeys(group_columns)).collect()
     rows: list[Artefact] = []
     n_tests = 0
     groups = {scope: _group_slices(frame, scope, config.min_count) for scope in group_columns}
+    del frame
     for field in fields:
-        raw, unit = frame[field].cast(pl.Float64).to_numpy(), _unit(field)
+        raw = lazy.select(pl.col(field).cast(pl.Float64)).collect().to_series().to_numpy()
+        unit = _unit(field)
         for scope, (order, slices) in groups.items():
             values = raw[order]
             for label, start, stop in slices:

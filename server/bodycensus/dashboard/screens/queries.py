@@ -57,7 +57,10 @@ _SYSTEM_COLUMNS = ("id", "name", "label", "family", "parent", "mass", "radius",
 
 
 def _scan(cat_dir: Path, name: str) -> pl.LazyFrame:
-    """A lazy scan of one of the engine's Parquet files."""
+    """A lazy scan of one of the engine's Parquet files (bodies in whichever layout
+    ``storage.runs`` knows)."""
+    if name == "bodies":
+        return scan_bodies(cat_dir)
     return pl.scan_parquet(cat_dir / f"{name}.parquet")
 
 

@@ -120,27 +120,39 @@ def evaluate(context: pl.LazyFrame, rules: Sequence[Rule]) -> pl.LazyFrame:
     return pl.concat([_findings_of(rule, context, naming) for rule in rules], how="vertical")
 
 
-def coverage(context: pl.LazyFrame, rules: Sequence[Rule]) -> pl.DataFrame:
-    """Per rule: bodies evaluated, bodies skipped, and which missing columns skipped them."""
+def coverage_counts(context: pl.LazyFrame, rules: Sequence[Rule]) -> pl.DataFrame:
+    """One row of counts per rule (bodies it applies to, judged, lacking each column it needs);
+    the counts of several partitions add up to the whole catalogue's (``coverage_table``)."""
     exprs: list[pl.Expr] = []
     for i, rule in enumerate(rules):
-        exprs.append(rule.applies().sum().alias(f"a{i}"))
-        exprs.append(rule.judged().sum().alias(f"j{i}"))
+        exprs.append(rule.applies().sum().cast(pl.Int64).alias(f"a{i}"))
+        exprs.append(rule.judged().sum().cast(pl.Int64).alias(f"j{i}"))
         for k, column in enumerate(rule.needs):
             missing = rule.applies() & pl.col(column).is_null()
-            exprs.append(missing.sum().alias(f"m{i}_{k}"))
-    counts = context.select(exprs).collect().row(0, named=True)
+            exprs.append(missing.sum().cast(pl.Int64).alias(f"m{i}_{k}"))
+    return context.select(exprs).collect()
+
+
+def coverage_table(counts: pl.DataFrame, rules: Sequence[Rule]) -> pl.DataFrame:
+    """Per rule: bodies evaluated, bodies skipped, and which missing columns skipped them, from
+    the counts of every partition (one row each; summed here)."""
+    total = counts.sum().row(0, named=True)
     rows = []
     for i, rule in enumerate(rules):
-        applicable, judged = counts[f"a{i}"], counts[f"j{i}"]
-        lacking = {c: counts[f"m{i}_{k}"] for k, c in enumerate(rule.needs)
-                   if counts[f"m{i}_{k}"]}
+        applicable, judged = total[f"a{i}"], total[f"j{i}"]
+        lacking = {c: total[f"m{i}_{k}"] for k, c in enumerate(rule.needs)
+                   if total[f"m{i}_{k}"]}
         why = _why_skipped(applicable, judged, lacking)
         rows.append({"rule": rule.id, "title": rule.title, "severity": rule.severity,
                      "evaluated": judged, "skipped": applicable - judged, "why": why})
     return pl.DataFrame(rows, schema={"rule": pl.String, "title": pl.String,
                                       "severity": pl.String, "evaluated": pl.Int64,
                                       "skipped": pl.Int64, "why": pl.String})
+
+
+def coverage(context: pl.LazyFrame, rules: Sequence[Rule]) -> pl.DataFrame:
+    """Per rule: bodies evaluated, bodies skipped, and which missing columns skipped them."""
+    return coverage_table(coverage_counts(context, rules), rules)
 
 
 def _why_skipped(applicable: int, judged: int, lacking: Mapping[str, int]) -> str:

@@ -1,13 +1,17 @@
 """The derived-column context every rule reads: physics per body, its parent, its inner sibling.
 
-``derive(table)`` turns the normalised table into one lazy frame with the columns listed in
-DEVELOPERS.md. Inputs that are not positive are treated as absent here (``non-positive`` reports
-them once), so no rule downstream fires on a negative mass.
+``derive(table, facts)`` turns the normalised table into one lazy frame with the columns listed
+in DEVELOPERS.md. Inputs that are not positive are treated as absent here (``non-positive``
+reports them once), so no rule downstream fires on a negative mass. What a body needs from
+outside its own system (how often its id appears, its label's median and MAD, whether its chain
+of parents loops) comes in ``ContextFacts``: small catalogue-wide tables, so ``derive`` can run
+on one partition of whole systems at a time and give the same columns as on the whole table.
 """
 
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 
 import polars as pl
 
@@ -146,11 +150,15 @@ def _orbit_columns(table: pl.LazyFrame) -> pl.LazyFrame:
 
 
 def _sibling_columns(table: pl.LazyFrame) -> pl.LazyFrame:
-    """The next body inward around the same parent (siblings ordered by semi-major axis)."""
+    """The next body inward around the same parent (siblings ordered by semi-major axis, ties in
+    file order); none for a body without a parent (those are no siblings of each other)."""
     inner = {"id": "inner_id", "_a": "inner_a", "_mass": "inner_mass", "apoapsis": "inner_apoapsis",
              "period": "inner_period"}
+    orbiting = pl.col("parent").is_not_null()
     return table.with_columns(
-        pl.col(src).shift(1).over("parent", order_by="_a").alias(dst) for src, dst in inner.items()
+        pl.when(orbiting).then(pl.col(src).shift(1).over("parent", order_by=["_a", "_row"]))
+        .alias(dst)
+        for src, dst in inner.items()
     )
 
 
@@ -165,11 +173,18 @@ MAD_TO_SIGMA = 0.6745  # the MAD of a normal distribution is 0.6745 sigma (Iglew
 OUTLIER_SCORES = {"_z_density": "density", "_z_mass": "_mass", "_z_radius": "_radius"}
 
 
-def _robust_z(x: pl.Expr) -> pl.Expr:
-    """|0.6745 (x - median) / MAD| of ``x`` within the body's label."""
-    median = x.median().over("label")
-    mad = (x - median).abs().median().over("label")
-    return (MAD_TO_SIGMA * (x - median) / mad).abs()
+@dataclass(frozen=True)
+class ContextFacts:
+    """What one body's derived columns need from the whole catalogue, as small tables.
+
+    ``duplicate_ids``: id, _id_count for ids on more than one row. ``label_statistics``: per
+    label (null included) its row count ``_label_size`` and, per outlier score, the median and
+    MAD of the score's value (``{score}_median``, ``{score}_mad``). ``cycle_ids``: ids whose
+    chain of parents never reaches a root (``graph.chain_roots``)."""
+
+    duplicate_ids: pl.DataFrame
+    label_statistics: pl.DataFrame
+    cycle_ids: pl.Series
 
 
 def _band_position() -> pl.Expr:
@@ -180,33 +195,111 @@ def _band_position() -> pl.Expr:
     return (pl.col("density") / pl.col("_band_high")).log10()
 
 
-def _label_statistics(table: pl.LazyFrame) -> pl.LazyFrame:
-    """Robust z-scores within each label, computed over the whole table before any filter. Where
-    the family has a density band, the density is scored against the band's edge at its mass
-    and mass and radius are not scored apart (the band ties them together); elsewhere log10 of
-    each."""
-    banded = pl.col("_band_low").is_not_null()
-    density = pl.when(banded).then(_band_position()).otherwise(pl.col("density").log10())
-    return table.with_columns(
-        _robust_z(density).alias("_z_density"),
-        *[pl.when(~banded).then(_robust_z(pl.col(column).log10())).alias(score)
-          for score, column in OUTLIER_SCORES.items() if score != "_z_density"],
-        pl.len().over("label").alias("_label_size"),
-    )
+_BANDED = pl.col("_band_low").is_not_null()
 
 
-def _ids(ids: pl.Series | None) -> pl.Series:
+def _score_values() -> dict[str, pl.Expr]:
+    """The value each outlier score measures: where the family has a density band, the density
+    against the band's edge at its mass; elsewhere log10 of the density; log10 of mass and
+    radius (scored only where there is no band: the band ties them together)."""
+    density = pl.when(_BANDED).then(_band_position()).otherwise(pl.col("density").log10())
+    return {"_z_density": density, "_z_mass": pl.col("_mass").log10(),
+            "_z_radius": pl.col("_radius").log10()}
+
+
+def _scored(table: pl.LazyFrame) -> pl.LazyFrame:
+    """Each score's value per row with its label's code (from ``_body_columns`` and the bands,
+    so the facts pass and ``derive`` score the same numbers)."""
+    values = _score_values()
+    return _body_columns(table).with_columns(band_columns()).select(
+        "_code", *[values[score].alias(score) for score in OUTLIER_SCORES])
+
+
+def label_statistics(table: pl.LazyFrame) -> pl.DataFrame:
+    """Per label: its size, and the median and MAD of each score's value. The scores are
+    collected once, each label as a 4-byte code (a median needs every value of its group, a MAD
+    its group's median first: one group-by does both), so memory is 28 bytes a body, not the
+    table's columns."""
+    labels = (table.select(pl.col("label").unique()).collect(engine="streaming")
+              .with_row_index("_code"))
+    code = pl.col("label").replace_strict(labels["label"].drop_nulls(),
+                                          labels.drop_nulls("label")["_code"], default=None)
+    null_code = labels.filter(pl.col("label").is_null())["_code"]
+    coded = pl.coalesce(code, pl.lit(null_code.item() if null_code.len() else None,
+                                     pl.UInt32)).alias("_code")
+    scored = _scored(table.with_columns(coded)).collect(engine="streaming")
+    statistics = scored.group_by("_code").agg(
+        pl.len().cast(pl.UInt32).alias("_label_size"),
+        *[pl.col(score).median().alias(f"{score}_median") for score in OUTLIER_SCORES],
+        *[(pl.col(score) - pl.col(score).median()).abs().median().alias(f"{score}_mad")
+          for score in OUTLIER_SCORES])
+    return (labels.join(statistics, on="_code").drop("_code")
+            .select("label", "_label_size", *[f"{score}_{what}" for score in OUTLIER_SCORES
+                                              for what in ("median", "mad")]))
+
+
+def duplicate_ids(table: pl.LazyFrame) -> pl.DataFrame:
+    """Ids that appear on more than one row, with their row counts. Ids are counted by their
+    64-bit hash first (8 bytes a body instead of the id's text); only ids whose hash repeats
+    are then counted by their text, so two ids that merely share a hash are not reported."""
+    ids = table.filter(pl.col("id").is_not_null())
+    repeated = (ids.group_by(pl.col("id").hash(seed=0).alias("_hash")).agg(pl.len().alias("n"))
+                .filter(pl.col("n") > 1).collect(engine="streaming")["_hash"])
+    return (ids.filter(pl.col("id").hash(seed=0).is_in(repeated.implode()))
+            .group_by("id").agg(pl.len().cast(pl.UInt32).alias("_id_count"))
+            .filter(pl.col("_id_count") > 1).collect(engine="streaming"))
+
+
+def context_facts(table: pl.LazyFrame, cycle_ids: pl.Series | None = None) -> ContextFacts:
+    """Every catalogue-wide fact of ``table`` (cycles from ``graph`` when not given), one
+    after the other so their peaks of memory do not add up."""
+    if cycle_ids is None:
+        from bodycensus.science.rules.graph import chain_roots
+        cycle_ids = chain_roots(table).cycle_ids
+    return ContextFacts(duplicate_ids(table), label_statistics(table), cycle_ids)
+
+
+def _robust_z(score: str, value: pl.Expr) -> pl.Expr:
+    """|0.6745 (x - median) / MAD| of a score's value, against its label's median and MAD."""
+    return (MAD_TO_SIGMA * (value - pl.col(f"{score}_median")) / pl.col(f"{score}_mad")).abs()
+
+
+def _label_statistics(table: pl.LazyFrame, statistics: pl.DataFrame) -> pl.LazyFrame:
+    """Robust z-scores within each label, against the whole catalogue's label statistics: the
+    density everywhere, mass and radius where the family has no density band."""
+    joined = table.join(statistics.lazy(), on="label", how="left", nulls_equal=True,
+                        maintain_order="left")
+    values = _score_values()
+    working = [f"{score}_{what}" for score in OUTLIER_SCORES for what in ("median", "mad")]
+    return joined.with_columns(
+        _robust_z("_z_density", values["_z_density"]).alias("_z_density"),
+        *[pl.when(~_BANDED).then(_robust_z(score, values[score])).alias(score)
+          for score in OUTLIER_SCORES if score != "_z_density"],
+    ).drop(working)
+
+
+def _ids(ids: pl.Series) -> pl.Series:
     """Ids as a one-element list series, the form ``is_in`` takes for a set of values."""
-    return (ids if ids is not None else pl.Series("id", [], dtype=pl.String)).implode()
+    return ids.cast(pl.String).implode()
 
 
-def derive(table: pl.LazyFrame, cycle_ids: pl.Series | None = None) -> pl.LazyFrame:
-    """The normalised table plus every derived column the rules and diagrams use."""
-    table = table.with_columns(
-        pl.col("id").count().over("id").alias("_id_count"),
-        pl.col("id").is_in(_ids(cycle_ids)).alias("_in_cycle"),
-    )
-    with_body = _label_statistics(_trusted(_body_columns(table).with_columns(band_columns())))
+def _id_counts(table: pl.LazyFrame, duplicates: pl.DataFrame) -> pl.LazyFrame:
+    """``_id_count``: rows carrying the body's id in the whole catalogue (0 without an id)."""
+    joined = table.join(duplicates.lazy().rename({"_id_count": "_dup"}), on="id", how="left",
+                        maintain_order="left")
+    count = pl.when(pl.col("id").is_null()).then(pl.lit(0, pl.UInt32)).otherwise(
+        pl.col("_dup").fill_null(1))
+    return joined.with_columns(count.cast(pl.UInt32).alias("_id_count")).drop("_dup")
+
+
+def derive(table: pl.LazyFrame, facts: ContextFacts | None = None) -> pl.LazyFrame:
+    """The normalised table plus every derived column the rules and diagrams use. ``facts``
+    are the whole catalogue's (``context_facts``); without them, ``table`` is the catalogue."""
+    facts = facts if facts is not None else context_facts(table)
+    table = _id_counts(table, facts.duplicate_ids).with_columns(
+        pl.col("id").is_in(_ids(facts.cycle_ids)).alias("_in_cycle"))
+    with_body = _label_statistics(_trusted(_body_columns(table).with_columns(band_columns())),
+                                  facts.label_statistics)
     return _sibling_columns(_orbit_columns(_derived_orbits(_with_parent(with_body))))
 
 

@@ -1,0 +1,141 @@
+"""A check split into partitions of whole systems: catalogue-wide facts first, then one pure
+function per partition that every engine (local, distributed) calls.
+
+A body's system here is the root of its chain of parents (a body without a parent is its own
+root; a parent id no row carries is the root of its children), so a parent, its grandparent, its
+siblings and its rings always share the body's partition; ids on a loop of parents all go to one
+partition. The bucket of a system is a hash of its root modulo the number of partitions.
+What a partition cannot see on its own (label -> family, duplicate ids, each label's median and
+MAD, loops) is computed by streaming passes over the whole catalogue into ``CatalogueFacts``, a
+few small tables handed to every partition.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+
+import polars as pl
+
+from bodycensus.science.families import FAMILIES, family_mapping
+from bodycensus.science.rules import all_rules
+from bodycensus.science.rules.base import Rule, coverage_counts, evaluate
+from bodycensus.science.rules.context import ContextFacts, context_facts, derive
+from bodycensus.science.rules.graph import Chains, chain_roots
+from bodycensus.science.rules.orbit import OrbitSettings
+
+PARTITION_ROWS = 250_000  # bodies per partition the local engine aims at (memory follows it)
+PART = "_part"  # the partition number column of the partitioned normalised table
+_LOOP_ROOT = "\x00loop"  # the one system of every id whose chain of parents never ends
+
+
+@dataclass(frozen=True)
+class CatalogueFacts:
+    """Everything a partition needs from the whole catalogue (each table small: labels,
+    duplicated ids, ids on loops), and the settings every partition is checked with."""
+
+    families: dict[str, str]  # label -> family, as guessed or chosen
+    family_overrides: dict[str, str]
+    context: ContextFacts
+    orbit_settings: OrbitSettings = field(default_factory=OrbitSettings)
+
+    def rules(self) -> tuple[Rule, ...]:
+        """The rules every partition runs, in the registry's order."""
+        return all_rules(self.orbit_settings)
+
+
+@dataclass(frozen=True)
+class PartitionResult:
+    """What one partition gives: its bodies with every derived column (in file order), its
+    findings, and rule coverage counts that add up across partitions (``coverage_counts``)."""
+
+    bodies: pl.DataFrame
+    findings: pl.DataFrame
+    coverage: pl.DataFrame
+
+
+def fill_families(table: pl.LazyFrame, families: Mapping[str, str],
+                  overrides: Mapping[str, str]) -> pl.LazyFrame:
+    """Fill ``family`` from each label: an explicit override wins, then a valid family given in
+    the file, then the guess. Applying it twice changes nothing."""
+    given = pl.when(pl.col("family").is_in(FAMILIES)).then(pl.col("family"))
+    guessed = pl.col("label").replace_strict(dict(families), default="unknown",
+                                             return_dtype=pl.String)
+    forced = pl.col("label").replace_strict(dict(overrides), default=None, return_dtype=pl.String)
+    return table.with_columns(pl.coalesce(forced, given, guessed).alias("family"))
+
+
+def label_families(table: pl.LazyFrame, overrides: Mapping[str, str]) -> dict[str, str]:
+    """Label -> family for every label of the catalogue (one streaming pass for the labels)."""
+    labels = (table.select(pl.col("label").unique()).collect(engine="streaming")["label"]
+              .drop_nulls().to_list())
+    return family_mapping(sorted(labels), dict(overrides))
+
+
+def catalogue_facts(table: pl.LazyFrame, overrides: Mapping[str, str] = {},
+                    orbit_settings: OrbitSettings | None = None) -> tuple[CatalogueFacts, Chains]:
+    """The facts of the whole catalogue ``table`` (normalised, lazy), and where each chain of
+    parents ends (the partitioning needs it; the partitions do not)."""
+    families = label_families(table, overrides)
+    filled = fill_families(table, families, overrides)
+    chains = chain_roots(filled)
+    context = context_facts(filled, chains.cycle_ids)
+    facts = CatalogueFacts(families, dict(overrides), context,
+                           orbit_settings or OrbitSettings())
+    return facts, chains
+
+
+def partition_count(rows: int, per_partition: int = PARTITION_ROWS) -> int:
+    """How many partitions a catalogue of ``rows`` bodies is split into."""
+    return max(1, math.ceil(rows / per_partition))
+
+
+def with_partition(table: pl.LazyFrame, chains: Chains, partitions: int,
+                   ordered: bool = False) -> pl.LazyFrame:
+    """``table`` with ``_part``: the bucket (0 .. partitions-1) of each body's system, a hash
+    of its system's key: its own id (or "row N") without a parent, one fixed key for every body
+    whose parent is on a loop, else the root its parent's chain ends at (the parent itself
+    when no row carries that id or it has no parent). ``ordered`` keeps the table's row order."""
+    def bucket(key: pl.Expr) -> pl.Expr:
+        return (key.hash(seed=0) % partitions).cast(pl.UInt32)
+
+    own = pl.coalesce(pl.col("id"), pl.concat_str([pl.lit("row "), pl.col("_row")]))
+    looped = pl.col("parent").is_in(chains.cycle_ids.cast(pl.String).implode())
+    part = (pl.when(pl.col("parent").is_null()).then(bucket(own))
+            .when(looped).then(bucket(pl.lit(_LOOP_ROOT)))
+            .otherwise(pl.coalesce(pl.col("_root_part"), bucket(pl.col("parent")))))
+    # the big catalogue-wide table the join builds on: an id and a 4-byte bucket per row
+    roots = chains.roots.lazy().select(pl.col("id").alias("parent"),
+                                       bucket(pl.col("root")).alias("_root_part"))
+    return (table.join(roots, on="parent", how="left", maintain_order="left" if ordered else "none")
+            .with_columns(part.alias(PART)).drop("_root_part"))
+
+
+def partition_numbers(table: pl.LazyFrame, chains: Chains, partitions: int) -> pl.Series:
+    """Each row's partition number, in the table's own row order, from a narrow read (_row, id,
+    parent): 4 bytes a body, so the wide rows can then be split by position, batch by batch."""
+    narrow = table.select("_row", "id", "parent")
+    return with_partition(narrow, chains, partitions, ordered=True).select(PART).collect()[PART]
+
+
+def check_partition(frame: pl.DataFrame, facts: CatalogueFacts) -> PartitionResult:
+    """Check one partition: ``frame`` holds whole systems of the normalised table (any row
+    order; ``_part`` may be present). Pure: the same frame and facts give the same result."""
+    table = fill_families(frame.lazy().drop(PART, strict=False).sort("_row"), facts.families,
+                          facts.family_overrides)
+    # One partition is in memory already; the streaming engine panicked (polars 2.1, "i <
+    # self.len()") on the rules' pl.format messages over an in-memory frame.
+    bodies = derive(table, facts.context).collect(engine="in-memory")
+    rules = facts.rules()
+    findings = evaluate(bodies.lazy(), rules).collect(engine="in-memory")
+    return PartitionResult(bodies, findings, coverage_counts(bodies.lazy(), rules))
+
+
+def merge_findings(parts: Sequence[pl.DataFrame], rules: Sequence[Rule]) -> pl.DataFrame:
+    """Every partition's findings as one frame, rule by rule in the registry's order and each
+    rule's findings in file order (what one pass over the whole table gives)."""
+    order = {rule.id: i for i, rule in enumerate(rules)}
+    merged = pl.concat(parts, how="vertical") if parts else evaluate(pl.LazyFrame(), []).collect()
+    rank = pl.col("rule").replace_strict(order, return_dtype=pl.Int64)
+    return merged.sort(rank, "_row", maintain_order=True)
