@@ -12,6 +12,7 @@ import json
 import sys
 import tempfile
 import time
+from collections.abc import Callable
 from pathlib import Path
 from typing import TextIO, TypeAlias
 
@@ -26,16 +27,24 @@ from bodycensus.cli.gate import (
     gate_json,
     gate_lines,
 )
-from bodycensus.engines.local import CheckOptions, CheckResult, check_file
+from bodycensus.cli.run_folder import write_run_folder
+from bodycensus.engines.local import CheckOptions, CheckResult, check_dataset
+from bodycensus.errors import BadInput
+from bodycensus.input.dataset import dataset_files, describe
 from bodycensus.input.formats import accepted
 from bodycensus.input.hosts import HOST_LABEL, HostColumns
 from bodycensus.input.ingest import IngestRecord
 from bodycensus.input.schema import parse_assignment
+from bodycensus.progress import Progress
 from bodycensus.science.families import parse_family_override
 from bodycensus.science.severity import SEVERITIES, rank_expr
 from bodycensus.storage.csvsafe import neutralise_formulas
 
 PROGRESS_FILE_BYTES = 20 * 2**20  # files above this report progress on stderr by default
+STAGE_NOTES = {  # what the Dask engine's partition stages mean, said once in the progress lines
+    "systems": "the files are split by system already: no shuffle",
+    "shuffle": "a system spans files: Dask shuffles the bodies by system first",
+}
 Commands: TypeAlias = "argparse._SubParsersAction[argparse.ArgumentParser]"  # the subcommands
 
 
@@ -53,7 +62,8 @@ def add_check_parser(commands: Commands) -> None:
         "check", help="check a catalogue file and print the findings",
         description=f"Check a catalogue file ({accepted()}) and print what physics rules out or "
                     "makes suspicious.")
-    check.add_argument("file", type=Path, help="the catalogue file")
+    check.add_argument("file", type=Path, metavar="DATASET",
+                       help="the catalogue: a file, a folder of files or a quoted glob of them")
     check.add_argument("--map", action="append", default=[], metavar="FIELD=COLUMN",
                        help="read FIELD from COLUMN (repeatable), e.g. --map radius=r_eq")
     check.add_argument("--unit", action="append", default=[], metavar="FIELD=UNIT",
@@ -82,6 +92,16 @@ def add_check_parser(commands: Commands) -> None:
                        help="keep the run's Parquet files (bodies, findings, ...) in this folder")
     check.add_argument("--no-artefacts", action="store_true",
                        help="skip the distribution-artefact detector")
+    engine = check.add_argument_group("engine")
+    engine.add_argument("--engine", choices=("local", "dask"), default="local",
+                        help="local (this process, default) or dask (a Dask cluster; needs "
+                             "pip install 'bodycensus[distributed]')")
+    engine.add_argument("--scheduler", default=None, metavar="tcp://HOST:PORT",
+                        help="the Dask scheduler to use (default: a local cluster of two worker "
+                             "processes on 127.0.0.1)")
+    engine.add_argument("--out", type=Path, default=None, metavar="DIR",
+                        help="write the run's folder (findings, aggregates, manifest) here; "
+                             "`bodycensus serve --add-run DIR` shows it")
     add_gate_arguments(check)
     noise = check.add_mutually_exclusive_group()
     noise.add_argument("--progress", action="store_true", help="always report progress on stderr")
@@ -113,28 +133,46 @@ class _ProgressPrinter:
     def __call__(self, stage: str, fraction: float, rows: int | None = None) -> None:
         self.rows = rows if rows is not None else self.rows
         elapsed = time.monotonic() - self.started
-        print(f"bodycensus check: {stage:<9} rows {self.rows:>12,}  {elapsed:7.1f} s",
+        note = f"  ({STAGE_NOTES[stage]})" if stage in STAGE_NOTES else ""
+        print(f"bodycensus check: {stage:<9} rows {self.rows:>12,}  {elapsed:7.1f} s{note}",
               file=self.stream, flush=True)
 
 
 def run_check(args: argparse.Namespace) -> int:
     """Run ``check``; returns the exit code."""
     options = check_options(args)
-    if not args.file.is_file():
-        raise FileNotFoundError(2, "no such file", str(args.file))
+    files = dataset_files(args.file)
     check_gate_arguments(args)
+    if args.scheduler is not None and args.engine != "dask":
+        raise BadInput("--scheduler needs --engine dask")
     wants_progress = args.progress or (
-        not args.quiet and args.file.stat().st_size > PROGRESS_FILE_BYTES)
+        not args.quiet and sum(f.stat().st_size for f in files) > PROGRESS_FILE_BYTES)
     progress = _ProgressPrinter(sys.stderr) if wants_progress else None
     with tempfile.TemporaryDirectory(prefix="bodycensus-check-") as scratch:
-        workdir = args.keep if args.keep is not None else Path(scratch) / "run"
-        result = check_file(args.file, workdir, options, progress)
+        workdir = args.out or args.keep or Path(scratch) / "run"
+        result = _engine(args, options, progress)(args.file, workdir)
+        if args.out is not None:
+            write_run_folder(result, args.out, describe(files), options)
         gate = apply_gate(result, args, Path(scratch) / "baseline",
-                          lambda source, dest: check_file(source, dest, options, progress))
+                          lambda source, dest: check_dataset(source, dest, options, progress))
         _print(result, gate, args, sys.stdout)
         for line in gate_lines(gate, args.fail_on_new):
             print(f"bodycensus check: {line}", file=sys.stderr)
     return exit_code(gate, args.fail_on)
+
+
+def _engine(args: argparse.Namespace, options: CheckOptions, progress: Progress | None
+            ) -> Callable[[Path, Path], CheckResult]:
+    """The chosen engine as ``run(dataset, workdir)``; Dask is imported only when chosen."""
+    if args.engine == "local":
+        return lambda dataset, workdir: check_dataset(dataset, workdir, options, progress)
+    try:
+        from bodycensus.engines.dask.run import check_on_dask
+    except ImportError as err:
+        raise BadInput(f"--engine dask needs Dask ({err.name} is not installed); "
+                       "pip install 'bodycensus[distributed]'") from err
+    return lambda dataset, workdir: check_on_dask(dataset, workdir, options, progress,
+                                                  scheduler=args.scheduler)
 
 
 def _sorted_findings(findings: pl.DataFrame) -> pl.DataFrame:

@@ -32,6 +32,9 @@ def _add_serve(commands: Commands) -> None:
                             "else ~/.local/share/bodycensus)")
     serve.add_argument("--demo", action="store_true",
                        help="load the bundled demo catalogue so a first look needs no file")
+    serve.add_argument("--add-run", action="append", default=[], type=Path, metavar="DIR",
+                       help="also show the run folder DIR (bodycensus check --out DIR), e.g. "
+                            "one a Dask cluster wrote (repeatable)")
     serve.add_argument("--token", default=None,
                        help="access token required on every request (or BODYCENSUS_TOKEN)")
     serve.add_argument("--allow-host", action="append", default=[], metavar="NAME",
@@ -105,6 +108,14 @@ def _serve(args: argparse.Namespace) -> int:
         host=args.host, port=args.port, data_dir=args.data_dir, demo=args.demo,
         token=args.token, allowed_hosts=tuple(args.allow_host),
         **{k: v for k, v in limits.items() if v is not None})
+    if args.add_run:
+        from bodycensus.storage.store import Store
+
+        store = Store(settings.data_dir)
+        for folder in args.add_run:
+            added = store.add_run(folder)
+            print(f"bodycensus serve: {folder} shown as catalogue {added.id} ({added.name})",
+                  file=sys.stderr)
     serve(settings)
     return 0
 

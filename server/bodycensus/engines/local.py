@@ -30,6 +30,7 @@ from bodycensus.engines.partition import (
     partition_numbers,
 )
 from bodycensus.engines.summary import build_summary
+from bodycensus.input.dataset import dataset_files, ingest_dataset
 from bodycensus.input.hosts import HostColumns
 from bodycensus.input.ingest import IngestLimits, IngestReport, ingest
 from bodycensus.progress import Progress, quiet
@@ -184,5 +185,28 @@ def check_file(source: Path, workdir: Path, options: CheckOptions = CheckOptions
     progress("read", 1.0, rows=report.rows)
     result = check_table(pl.scan_parquet(normalised), workdir, options, progress, report)
     normalised.unlink(missing_ok=True)
+    result.summary["seconds"] = round(time.monotonic() - started, 3)
+    return result
+
+
+def check_dataset(spec: str | Path, workdir: Path, options: CheckOptions = CheckOptions(),
+                  progress: Progress | None = None) -> CheckResult:
+    """Check a dataset (a file, a folder of files or a glob; ``input.dataset``) as one
+    catalogue: each file is ingested with the same mapping, then the whole is checked."""
+    files = dataset_files(spec)
+    if len(files) == 1:
+        return check_file(files[0], workdir, options, progress)
+    progress = progress or quiet
+    started = time.monotonic()
+    progress("read", 0.0)
+    parts, report = ingest_dataset(files, workdir / "normalised",
+                                   map_overrides=dict(options.map_overrides),
+                                   unit_overrides=dict(options.unit_overrides),
+                                   limits=options.limits)
+    progress("read", 1.0, rows=report.rows)
+    result = check_table(pl.scan_parquet(parts), workdir, options, progress, report)
+    for part in parts:
+        part.unlink(missing_ok=True)
+    (workdir / "normalised").rmdir()
     result.summary["seconds"] = round(time.monotonic() - started, 3)
     return result

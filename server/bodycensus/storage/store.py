@@ -105,6 +105,14 @@ class SavedView:
         return f"/v/{self.slug}"
 
 
+def _link_or_copy(source: str, dest: str) -> None:
+    """Hard-link a file (no second copy of a big run); copy it across file systems."""
+    try:
+        os.link(source, dest)
+    except OSError:
+        shutil.copy2(source, dest)
+
+
 class Store:
     """Catalogues on disk and saved views in SQLite; safe to share between threads."""
 
@@ -230,6 +238,32 @@ class Store:
             fsync_path(self.catalogues)
             self._remove(self.incoming / cat_id)
             return manifest
+
+    def add_run(self, folder: Path) -> Manifest:
+        """Show a run folder written elsewhere (``bodycensus check --out DIR``, e.g. by a Dask
+        cluster) as a ready catalogue: its files are hard-linked (copied across file systems)
+        into a new ``catalogues/<id>/``, so the folder itself is never changed or deleted here.
+        Adding the same folder again shows the catalogue it became (the manifest's id)."""
+        folder = Path(folder)
+        if not (folder / MANIFEST).is_file() or not (folder / "findings.parquet").is_file():
+            raise NotFound(f"{folder}: not a run folder (no manifest.json and findings.parquet); "
+                           "write one with bodycensus check DATASET --out DIR")
+        manifest = Manifest.from_json(json.loads((folder / MANIFEST).read_text(encoding="utf-8")))
+        if not _ID.match(manifest.id) or manifest.status != "ready":
+            raise Conflict(f"{folder}: its manifest is not a ready run; check the dataset again")
+        target = self.catalogues / manifest.id
+        if (target / MANIFEST).is_file():
+            return self.get(manifest.id)
+        staging = self.tmp / f"{manifest.id}.{secrets.token_hex(4)}.adding"
+        try:
+            shutil.copytree(folder, staging, copy_function=_link_or_copy)
+            fsync_path(staging)
+            os.replace(staging, target)
+            fsync_path(self.catalogues)
+        except OSError as err:
+            shutil.rmtree(staging, ignore_errors=True)
+            raise (storage_error(err) or err) from err
+        return self.get(manifest.id)
 
     def rename(self, cat_id: str, name: str) -> Manifest:
         """Give a catalogue another name (any status but ingesting)."""
