@@ -2,7 +2,8 @@
 
 Big catalogues arrive as many Parquet files (one per writer or per system bucket). The local and
 the Dask engine accept the same three forms: ``universe.parquet``, ``dump/`` (every catalogue file
-directly inside it, sorted by name) and ``'dump/part-*.parquet'``. Each file is ingested on its
+directly inside it, sorted by name; names starting with ``.`` or ``_``, such as ``_metadata``, are
+left out) and ``'dump/part-*.parquet'``. Each file is ingested on its
 own with the same column mapping (the files must share their columns), and their reports merge.
 """
 
@@ -29,8 +30,8 @@ def dataset_files(spec: str | Path) -> list[Path]:
     if path.is_file():
         return [path]
     if path.is_dir():
-        files = sorted(p for p in path.iterdir()
-                       if p.is_file() and catalogue_suffix(p.name) is not None)
+        files = sorted(p for p in path.iterdir() if p.is_file() and p.name[0] not in "._"
+                       and catalogue_suffix(p.name) is not None)
         if not files:
             raise IngestError(f"{path}: no catalogue files in this folder; give a file, a "
                               "folder of Parquet files or a glob such as 'dump/*.parquet'")
