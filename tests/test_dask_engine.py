@@ -14,7 +14,13 @@ from typing import Any
 
 import polars as pl
 import pytest
-from dask_support import findings_key, split_by_rows, split_by_system
+from dask_support import (
+    assert_same_aggregates,
+    assert_same_findings,
+    findings_key,
+    split_by_rows,
+    split_by_system,
+)
 
 from bodycensus.demo import write_demo
 from bodycensus.diagrams.aggregates import compute_aggregates
@@ -22,6 +28,7 @@ from bodycensus.engines.local import CheckResult, check_dataset, check_file
 from bodycensus.input.ingest import IngestError
 
 distributed = pytest.importorskip("distributed")
+from bodycensus.engines.dask.cluster import LOOPBACK_SCHEDULER  # noqa: E402
 from bodycensus.engines.dask.run import check_on_dask, spans_partitions  # noqa: E402
 
 BODIES = 3_000  # enough for every rule family and the artefact detector, small enough for CI
@@ -31,7 +38,8 @@ BODIES = 3_000  # enough for every rule family and the artefact detector, small 
 def client() -> Iterator[Any]:
     """Two worker processes, one thread each, on loopback, without Dask's dashboard."""
     with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
-                                  host="127.0.0.1", dashboard_address=None) as cluster, \
+                                  host="127.0.0.1", dashboard_address=None,
+                                  scheduler_kwargs=LOOPBACK_SCHEDULER) as cluster, \
             distributed.Client(cluster) as connected:
         yield connected
 
@@ -72,12 +80,12 @@ def test_findings_and_aggregates_equal_the_local_engine(
     result = check_on_dask(parts, tmp_path / "run", client=client, progress=_stages(stages))
     assert ("shuffle" in stages) is (split == "rows")  # the run says whether it shuffled
     assert ("systems" in stages) is (split == "system")
-    assert findings_key(result.findings).equals(findings_key(whole.findings))
+    assert_same_findings(result.findings, whole.findings)
     assert result.artefacts.equals(whole.artefacts)
     assert result.coverage.equals(whole.coverage)
     assert {k: v for k, v in result.summary.items() if k != "seconds"} == {
         k: v for k, v in whole.summary.items() if k != "seconds"}
-    assert compute_aggregates(tmp_path / "run") == compute_aggregates(whole_dir)
+    assert_same_aggregates(compute_aggregates(tmp_path / "run"), compute_aggregates(whole_dir))
 
 
 def test_a_split_by_rows_spans_partitions_and_one_by_system_does_not(
@@ -87,7 +95,7 @@ def test_a_split_by_rows_spans_partitions_and_one_by_system_does_not(
     by_system = split_by_system(pl.read_parquet(demo), tmp_path / "sys")
     for folder, spans in ((by_rows, True), (by_system, False)):
         frame = dd.read_parquet(str(folder), split_row_groups=False)
-        assert spans_partitions(frame) is spans
+        assert spans_partitions(frame, "system") is spans
 
 
 def test_a_worker_killed_mid_run_is_retried_and_the_result_is_unchanged(
@@ -97,7 +105,7 @@ def test_a_worker_killed_mid_run_is_retried_and_the_result_is_unchanged(
     killed: list[int] = []
 
     def kill_once(stage: str, done: float, /, rows: int | None = None) -> None:
-        if stage == "check" and not killed:  # partitions are being checked on the workers
+        if stage == "rules" and not killed:  # partitions are being checked on the workers
             killed.append(pids[0])
             os.kill(pids[0], signal.SIGKILL)
 

@@ -18,6 +18,11 @@ logging.getLogger("distributed.shuffle").setLevel(logging.ERROR)
 CONNECT_SECONDS = 10
 
 
+# The scheduler always serves HTTP (health and metrics): without an address it takes port 8787,
+# which a second local cluster cannot; here it takes a free port on loopback, with no dashboard.
+LOOPBACK_SCHEDULER = {"dashboard": False, "dashboard_address": "127.0.0.1:0"}
+
+
 @contextmanager
 def connect(scheduler: str | None = None, workers: int = LOCAL_WORKERS) -> Iterator[Client]:
     """A client of ``scheduler``, or of a local cluster started here and closed at the end."""
@@ -32,6 +37,7 @@ def connect(scheduler: str | None = None, workers: int = LOCAL_WORKERS) -> Itera
             yield client
         return
     with LocalCluster(n_workers=workers, threads_per_worker=1, processes=True,
-                      host="127.0.0.1", dashboard_address=None) as cluster, \
+                      host="127.0.0.1", dashboard_address=None,
+                      scheduler_kwargs=LOOPBACK_SCHEDULER) as cluster, \
             Client(cluster) as client:
         yield client

@@ -1,27 +1,31 @@
-"""A whole check on a Dask cluster: ingest each file on a worker, bring each system into one
-partition (Dask's own shuffle when the files are not split by system), check every partition on a
-worker, and write the run folder the local engine writes.
+"""A whole check on a Dask cluster: ingest each file on a worker, compute the catalogue-wide
+facts with Dask, bring each system into one partition (Dask's own shuffle when the files are not
+split by system), run ``engines.partition.check_partition`` on every partition on a worker, and
+write the run folder the local engine writes.
 
-Steps, each reported through ``progress``:
+Stages, each reported through ``progress`` (the local engine's names, plus two):
 
 1. ``read``: one task per file runs the local ingest (``input.dataset``); a bad file raises the
    same one-line ``IngestError`` the local engine raises, re-raised here by Dask.
-2. ``partition``: whether any system spans two files, from the per-file system keys (a Dask
-   reduction); if one does, ``shuffle`` on the system key (``DataFrame.shuffle``).
-3. ``check``: one task per partition derives the physics and runs the rules on whole systems,
-   writes its bodies to ``bodies/part-NNNNN.parquet`` and returns its findings.
-4. ``artefacts`` and ``write``: coverage, the artefact detector and the summary, read from the
-   written parts by the local code.
+2. ``derive``: the catalogue-wide facts (``engines.dask.facts``); then one task per file adds
+   each body's system bucket (``partition.with_partition``).
+3. ``systems`` (every system lies in one file: no shuffle) or ``shuffle`` (a system spans files:
+   ``DataFrame.shuffle`` on the bucket), from the per-file buckets (two Dask reductions).
+4. ``rules``: one task per partition checks whole systems, writes its bodies to
+   ``bodies/part-NNNNN.parquet`` and returns its findings and coverage counts, merged exactly as
+   the local engine merges them.
+5. ``artefacts`` and ``write``: the artefact detector and the summary, read from the written
+   parts by the local code (streaming, on the client).
 
-Workers must see the output folder at the same path as the client (a shared file system);
-a local cluster does.
+Workers must see the output folder at the same path as the client (a shared file system); a
+local cluster does.
 """
 
 from __future__ import annotations
 
 import os
 import time
-from collections.abc import Mapping, Sequence
+from collections.abc import Sequence
 from pathlib import Path
 
 import dask.dataframe as dd
@@ -33,21 +37,30 @@ from distributed import Client, Future, as_completed
 
 from bodycensus.durable import fsync_path
 from bodycensus.engines.dask.cluster import connect
-from bodycensus.engines.local import CheckOptions, CheckResult, with_families
+from bodycensus.engines.dask.facts import facts_on_dask
+from bodycensus.engines.local import CheckOptions, CheckResult
+from bodycensus.engines.partition import (
+    PART,
+    CatalogueFacts,
+    check_partition,
+    merge_findings,
+    partition_count,
+    with_partition,
+)
 from bodycensus.engines.summary import build_summary
 from bodycensus.input.dataset import dataset_files, merge_reports, row_offsets, shift_rows
 from bodycensus.input.ingest import IngestReport, ingest
 from bodycensus.progress import Progress, quiet
 from bodycensus.science import artefacts as artefact_detector
 from bodycensus.science.artefacts import ARTEFACT_FIELDS
-from bodycensus.science.families import family_mapping
-from bodycensus.science.rules import all_rules
-from bodycensus.science.rules.base import FINDING_SCHEMA, coverage, evaluate
-from bodycensus.science.rules.context import derive
-from bodycensus.science.rules.graph import cycle_members
-from bodycensus.science.rules.orbit import OrbitSettings
+from bodycensus.science.rules.base import coverage_table
+from bodycensus.science.rules.graph import Chains
+from bodycensus.storage.runs import scan_bodies
 
-SYSTEM_KEY = "_system_key"  # the system column; bodies without one share the key ""
+# Buckets of the system key: so many that two systems share one only by a hash collision (which
+# makes a shuffle more likely, never wrong); a partition then holds whole buckets.
+SYSTEM_BUCKETS = 2**32 - 1
+ROOTS = "roots.parquet"  # where each chain of parents ends, for the workers (removed at the end)
 
 
 def check_on_dask(spec: str | Path, workdir: Path, options: CheckOptions | None = None,
@@ -67,18 +80,26 @@ def _run(client: Client, files: Sequence[Path], workdir: Path, options: CheckOpt
     started = time.monotonic()
     workdir.mkdir(parents=True, exist_ok=True)
     parts, report = _ingest(client, files, workdir / "normalised", options, progress)
-    frame = dd.read_parquet([str(p) for p in parts], split_row_groups=False,
-                            dtype_backend="pyarrow")
-    labels = sorted(frame["label"].dropna().unique().compute().tolist())
-    families = family_mapping(labels, dict(options.family_overrides))
-    frame = _by_system(frame, progress)
-    findings = _check_partitions(client, frame, workdir, families, options, progress)
-    for part in parts:
+    progress("derive", 0.0)
+    frame = _read(parts)
+    facts, chains = facts_on_dask(frame, parts, options.family_overrides, options.orbit_settings)
+    _place_in_systems(client, parts, chains, workdir / ROOTS)
+    del chains
+    frame = _by_system(_read(parts), partition_count(report.rows, options.partition_rows),
+                       progress)
+    findings, counts = _check_partitions(client, frame, workdir, facts, progress)
+    for part in [*parts, workdir / ROOTS]:
         part.unlink(missing_ok=True)
     (workdir / "normalised").rmdir()
-    result = _finish(workdir, findings, families, report, options, progress)
+    result = _finish(workdir, findings, counts, facts, report, options, progress)
     result.summary["seconds"] = round(time.monotonic() - started, 3)
     return result
+
+
+def _read(parts: Sequence[Path]) -> dd.DataFrame:
+    """The normalised files as one Dask frame, a partition per file, nulls kept (Arrow types)."""
+    return dd.read_parquet([str(p) for p in parts], split_row_groups=False,
+                           dtype_backend="pyarrow")
 
 
 def _ingest(client: Client, files: Sequence[Path], folder: Path, options: CheckOptions,
@@ -97,81 +118,88 @@ def _ingest(client: Client, files: Sequence[Path], folder: Path, options: CheckO
     return parts, report
 
 
-def _system_keys(frame: pd.DataFrame) -> pd.DataFrame:
-    """The distinct system keys of one partition."""
-    keys = frame["system"].fillna("").astype("string[pyarrow]").drop_duplicates()
-    return pd.DataFrame({SYSTEM_KEY: keys.to_numpy()})
+def _add_bucket(part: Path, roots: Path, cycle_ids: pl.Series) -> None:
+    """Add each body's system bucket (``_part``) to one normalised file (a worker's task; the
+    file is replaced atomically, so a retried task does it again from the same input)."""
+    chains = Chains(pl.read_parquet(roots), cycle_ids)
+    placed = part.with_name(part.name + f".{os.getpid()}.placed")
+    with_partition(pl.scan_parquet(part).drop(PART, strict=False), chains,
+                   SYSTEM_BUCKETS).sink_parquet(placed)
+    os.replace(placed, part)
 
 
-def spans_partitions(frame: dd.DataFrame) -> bool:
-    """Whether any system has bodies in more than one partition: the partitions' distinct keys
-    counted together exceed the distinct keys of the whole (two Dask reductions)."""
-    keys = frame.map_partitions(_system_keys, meta={SYSTEM_KEY: "string[pyarrow]"})
-    per_partition, overall = compute(keys[SYSTEM_KEY].count(),
-                                          keys[SYSTEM_KEY].nunique())
+def _place_in_systems(client: Client, parts: Sequence[Path], chains: Chains,
+                      roots: Path) -> None:
+    """Write the chains' roots where the workers read them, then bucket every file there."""
+    chains.roots.write_parquet(roots)
+    fsync_path(roots)
+    client.gather(client.map(_add_bucket, parts, roots=roots, cycle_ids=chains.cycle_ids,
+                             pure=False))
+
+
+def spans_partitions(frame: dd.DataFrame, key: str = PART) -> bool:
+    """Whether any value of ``key`` lies in more than one partition: the partitions' distinct
+    values counted one partition at a time exceed the distinct values of the whole."""
+    distinct = frame[key].map_partitions(lambda values: values.drop_duplicates())
+    per_partition, overall = compute(distinct.count(), frame[key].nunique())
     return bool(per_partition > overall)
 
 
-def _by_system(frame: dd.DataFrame, progress: Progress) -> dd.DataFrame:
+def _by_system(frame: dd.DataFrame, partitions: int, progress: Progress) -> dd.DataFrame:
     """The frame with every system inside one partition: shuffled by Dask when needed."""
-    frame = frame.assign(**{SYSTEM_KEY: frame["system"].fillna("")})
     if not spans_partitions(frame):
-        progress("systems", 1.0)  # the files are split by system already: no shuffle
+        progress("systems", 1.0)  # each file holds whole systems already: no shuffle
         return frame
-    progress("shuffle", 0.0)  # a system spans files: Dask shuffles by system
-    return frame.shuffle(SYSTEM_KEY, npartitions=frame.npartitions)
+    progress("shuffle", 0.0)  # a system spans files: Dask shuffles the bodies by system
+    return frame.shuffle(PART, npartitions=max(partitions, frame.npartitions))
 
 
-def check_systems(part: pd.DataFrame, number: int, folder: Path,
-                  family_overrides: Mapping[str, str], orbit_settings: OrbitSettings
-                  ) -> pl.DataFrame:
-    """Derive and check one partition of whole systems (a worker's task); its bodies are
-    written to ``folder/part-NNNNN.parquet`` (atomically: a retried task writes it again)."""
-    table = pl.from_pandas(part.drop(columns=[SYSTEM_KEY]).reset_index(drop=True)).lazy()
-    labelled, _ = with_families(table, family_overrides)
-    context = derive(labelled, cycle_members(labelled))
+def check_systems(part: pd.DataFrame, number: int, folder: Path, facts: CatalogueFacts
+                  ) -> tuple[pl.DataFrame, pl.DataFrame]:
+    """Check one partition of whole systems (a worker's task): its bodies are written to
+    ``folder/part-NNNNN.parquet`` (atomically: a retried task writes it again); its findings
+    and coverage counts come back."""
+    result = check_partition(pl.from_pandas(part.reset_index(drop=True)), facts)
     dest = folder / f"part-{number:05d}.parquet"
     tmp = dest.with_name(dest.name + f".{os.getpid()}.tmp")
-    context.sink_parquet(tmp)
+    result.bodies.write_parquet(tmp)
     fsync_path(tmp)
     os.replace(tmp, dest)
-    return evaluate(pl.scan_parquet(dest), all_rules(orbit_settings)).collect()
+    return result.findings, result.coverage
 
 
 def _check_partitions(client: Client, frame: dd.DataFrame, workdir: Path,
-                      families: dict[str, str], options: CheckOptions,
-                      progress: Progress) -> pl.DataFrame:
-    """Run ``check_systems`` on every partition; the findings of all, in partition order."""
+                      facts: CatalogueFacts, progress: Progress
+                      ) -> tuple[pl.DataFrame, pl.DataFrame]:
+    """Run ``check_systems`` on every partition; the merged findings and coverage counts."""
     folder = workdir / "bodies"
     folder.mkdir(parents=True, exist_ok=True)
-    tasks = [delayed(check_systems)(part, number, folder, options.family_overrides,
-                                         options.orbit_settings)
+    tasks = [delayed(check_systems)(part, number, folder, facts)
              for number, part in enumerate(frame.to_delayed())]
-    futures: list[Future[pl.DataFrame]] = client.compute(tasks)
-    progress("check", 0.0)
+    futures: list[Future[tuple[pl.DataFrame, pl.DataFrame]]] = client.compute(tasks)
+    progress("rules", 0.0)
     for done, _ in enumerate(as_completed(futures), start=1):
-        progress("check", done / len(futures))
-    found: list[pl.DataFrame] = client.gather(futures)
-    return pl.concat(found, how="vertical_relaxed") if found else pl.DataFrame(
-        schema=FINDING_SCHEMA)
+        progress("rules", done / len(futures))
+    results: list[tuple[pl.DataFrame, pl.DataFrame]] = client.gather(futures)
+    findings = merge_findings([found for found, _ in results], facts.rules())
+    return findings, pl.concat([counts for _, counts in results])
 
 
-def _finish(workdir: Path, findings: pl.DataFrame, families: dict[str, str],
+def _finish(workdir: Path, findings: pl.DataFrame, counts: pl.DataFrame, facts: CatalogueFacts,
             report: IngestReport, options: CheckOptions, progress: Progress) -> CheckResult:
     """Coverage, artefacts and the summary over the written parts; every file in place."""
-    findings = findings.sort("_row", "rule")
     _write(findings, workdir / "findings.parquet")
-    bodies = pl.scan_parquet(sorted((workdir / "bodies").glob("part-*.parquet")))
-    rule_coverage = coverage(bodies, all_rules(options.orbit_settings))
+    rule_coverage = coverage_table(counts, facts.rules())
     _write(rule_coverage, workdir / "coverage.parquet")
     progress("artefacts", 0.0)
+    bodies = scan_bodies(workdir)
     found = (artefact_detector.detect_artefacts(bodies, ARTEFACT_FIELDS) if options.artefacts
              else pl.DataFrame(schema=artefact_detector.ARTEFACT_SCHEMA))
     _write(found, workdir / "artefacts.parquet")
     progress("write", 1.0)
-    summary = build_summary(bodies, findings, found, families, report)
+    summary = build_summary(bodies, findings, found, facts.families, report)
     return CheckResult(findings, found, rule_coverage, workdir / "bodies", summary, report,
-                       families)
+                       facts.families)
 
 
 def _write(frame: pl.DataFrame, path: Path) -> None:
