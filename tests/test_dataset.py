@@ -78,3 +78,28 @@ def test_reports_merge_their_unreadable_cells(tmp_path: Path, catalogue: Path) -
     assert first is not None and first.bad_cells == {"a (au)": 1}
     merged = merge_reports([bad, bad], [first, first])
     assert merged.bad_cells == {"a (au)": 2} and merged.rows == 2 * first.rows
+
+
+BLOCK_DASK = """
+import sys
+sys.modules["dask"] = sys.modules["distributed"] = None  # as in a base install without Dask
+from bodycensus.cli.main import main
+sys.exit(main(sys.argv[1:]))
+"""
+
+
+@pytest.mark.parametrize(("engine", "code", "words"), [
+    ("local", 0, ""),
+    ("dask", 2, "bodycensus check: --engine dask needs Dask (dask.dataframe is not installed); "
+                "pip install 'bodycensus[distributed]'"),
+])
+def test_the_base_install_checks_without_dask(catalogue: Path, engine: str, code: int,
+                                              words: str) -> None:
+    import subprocess
+    import sys
+
+    run = subprocess.run([sys.executable, "-c", BLOCK_DASK, "check", str(catalogue),
+                          "--engine", engine, "--quiet"], capture_output=True, text=True,
+                         check=False)
+    assert run.returncode == code, run.stderr
+    assert run.stderr.strip() == words
