@@ -194,8 +194,13 @@ def catalogue_info(result: CheckResult, source: Path) -> CatalogueInfo:
     """What was read and how: file, format, mapping, families (of a run from a file)."""
     if result.report is None:
         raise ValueError("catalogue_info needs a run from a file (check_file), not a table")
-    return {"file": str(source), "name": source.name, **result.report.to_json(),
+    return {"file": str(source), "name": _name(source), **result.report.to_json(),
             "label_families": result.families}
+
+
+def _name(source: Path) -> str:
+    """The catalogue's name in a report: the file's, or a dataset's folder and file count."""
+    return source.name if source.is_file() else describe(dataset_files(source))
 
 
 def json_document(result: CheckResult, source: Path, findings: pl.DataFrame,
@@ -211,7 +216,7 @@ def json_document(result: CheckResult, source: Path, findings: pl.DataFrame,
 def table_text(result: CheckResult, source: Path, findings: pl.DataFrame, limit: int) -> str:
     """A readable report: counts, the most serious findings, artefacts, rule coverage."""
     summary = result.summary
-    lines = [(f"{source.name}: {summary['rows']:,} bodies, {summary['findings']:,} findings "
+    lines = [(f"{_name(source)}: {summary['rows']:,} bodies, {summary['findings']:,} findings "
              f"on {summary['bodies_with_findings']:,} bodies, {summary['artefacts']} artefacts")]
     lines.append("  " + "  ".join(f"{sev} {n:,}" for sev, n in summary["by_severity"].items()))
     if summary["unmapped_labels"]:
