@@ -155,3 +155,27 @@ def test_cli_writes_a_run_folder_the_dashboard_lists(by_rows: Path, tmp_path: Pa
     assert store.add_run(out).id == added.id  # adding it again shows the same catalogue
     assert (store.ready_dir(added.id) / "findings.parquet").stat().st_ino == (
         out / "findings.parquet").stat().st_ino  # linked, not copied
+
+
+def test_cli_uses_an_existing_scheduler(client: Any, by_rows: Path, local: tuple[CheckResult, Path],
+                                        tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    from bodycensus.cli.main import main
+
+    def transitions(dask_scheduler: Any) -> int:
+        return int(dask_scheduler.transition_counter)
+
+    before = client.run_on_scheduler(transitions)
+    code = main(["check", str(by_rows), "--engine", "dask", "--scheduler",
+                 client.scheduler.address, "--format", "csv", "--quiet"])
+    captured = capsys.readouterr()
+    assert code == 0, captured.err
+    assert len(pl.read_csv(captured.out.encode())) == local[0].findings.height
+    assert client.run_on_scheduler(transitions) > before + 100  # its tasks ran on this cluster
+
+
+def test_scheduler_needs_the_dask_engine(by_rows: Path, capsys: pytest.CaptureFixture[str]
+                                         ) -> None:
+    from bodycensus.cli.main import main
+
+    assert main(["check", str(by_rows), "--scheduler", "tcp://127.0.0.1:8786"]) == 2
+    assert capsys.readouterr().err == "bodycensus check: --scheduler needs --engine dask\n"
