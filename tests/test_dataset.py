@@ -103,3 +103,14 @@ def test_the_base_install_checks_without_dask(catalogue: Path, engine: str, code
                          check=False)
     assert run.returncode == code, run.stderr
     assert run.stderr.strip() == words
+
+
+def test_numbering_a_part_twice_changes_nothing(tmp_path: Path, catalogue: Path) -> None:
+    from bodycensus.input.dataset import shift_rows
+    from bodycensus.input.ingest import ingest
+
+    part = tmp_path / "part.parquet"
+    ingest(catalogue, part)
+    for _ in range(2):  # as when Dask retries the task after it had finished once
+        shift_rows(part, 10)
+        assert pl.read_parquet(part)["_row"].to_list() == [11, 12, 13, 14]

@@ -76,12 +76,15 @@ def row_offsets(reports: Sequence[IngestReport]) -> list[int]:
 
 
 def shift_rows(part: Path, offset: int) -> None:
-    """Add ``offset`` to the row numbers of one normalised part, so a dataset's rows are
-    numbered on from file to file (the Dask engine does it once every file's count is known)."""
-    if offset:
-        shifted = part.with_name(part.name + ".shifted")
-        pl.scan_parquet(part).with_columns(pl.col("_row") + offset).sink_parquet(shifted)
-        shifted.replace(part)
+    """Number the rows of one normalised part from ``offset`` + 1 on, so a dataset's rows run on
+    from file to file (the Dask engine does it once every file's count is known). Doing it twice
+    gives the same numbers, so a task Dask retries after a lost worker cannot shift twice."""
+    if offset == 0:
+        return  # ingest numbers each file from 1
+    shifted = part.with_name(part.name + ".shifted")
+    first = pl.col("_row").min()
+    pl.scan_parquet(part).with_columns(pl.col("_row") - first + 1 + offset).sink_parquet(shifted)
+    shifted.replace(part)
 
 
 def ingest_dataset(files: Sequence[Path], folder: Path, *,
