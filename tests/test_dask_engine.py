@@ -179,3 +179,28 @@ def test_scheduler_needs_the_dask_engine(by_rows: Path, capsys: pytest.CaptureFi
 
     assert main(["check", str(by_rows), "--scheduler", "tcp://127.0.0.1:8786"]) == 2
     assert capsys.readouterr().err == "bodycensus check: --scheduler needs --engine dask\n"
+
+
+def test_facts_from_dask_reductions_equal_the_local_passes(client: Any, by_rows: Path,
+                                                           tmp_path: Path) -> None:
+    from polars.testing import assert_frame_equal, assert_series_equal
+
+    from bodycensus.engines.dask.facts import facts_on_dask
+    from bodycensus.engines.partition import catalogue_facts
+    from bodycensus.input.dataset import ingest_dataset
+    from bodycensus.science.rules.orbit import OrbitSettings
+
+    parts, _ = ingest_dataset(sorted(by_rows.glob("*.parquet")), tmp_path / "normalised")
+    local, _ = catalogue_facts(pl.scan_parquet(parts))
+    import dask.dataframe as dd
+
+    frame = dd.read_parquet([str(p) for p in parts], split_row_groups=False,
+                            dtype_backend="pyarrow")
+    on_dask, _ = facts_on_dask(frame, parts, {}, OrbitSettings())
+    assert on_dask.families == local.families
+    assert on_dask.context.duplicate_ids.height > 0  # the demo plants duplicated ids
+    assert_frame_equal(on_dask.context.duplicate_ids.sort("id"),
+                       local.context.duplicate_ids.sort("id"))
+    assert_frame_equal(on_dask.context.label_statistics.sort("label"),
+                       local.context.label_statistics.sort("label"), check_exact=True)
+    assert_series_equal(on_dask.context.cycle_ids.sort(), local.context.cycle_ids.sort())

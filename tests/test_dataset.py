@@ -114,3 +114,26 @@ def test_numbering_a_part_twice_changes_nothing(tmp_path: Path, catalogue: Path)
     for _ in range(2):  # as when Dask retries the task after it had finished once
         shift_rows(part, 10)
         assert pl.read_parquet(part)["_row"].to_list() == [11, 12, 13, 14]
+
+
+def test_a_run_folder_is_shown_by_the_store(tmp_path: Path, catalogue: Path) -> None:
+    import json
+
+    from bodycensus.cli.run_folder import write_run_folder
+    from bodycensus.engines.local import CheckOptions
+    from bodycensus.errors import NotFound
+    from bodycensus.storage.store import Store
+
+    run = tmp_path / "run"
+    result = check_dataset(catalogue, run)
+    manifest = write_run_folder(result, run, "tiny.csv", CheckOptions())
+    written = json.loads((run / "manifest.json").read_text())
+    assert written["id"] == manifest.id and written["status"] == "ready"
+    assert written["rows"] == 4 and written["summary"]["findings"] == result.findings.height
+    assert (run / "aggregates.json").is_file() and (run / "names.parquet").is_file()
+    store = Store(tmp_path / "data")
+    assert store.add_run(run).id == manifest.id
+    assert [m.name for m in store.list()] == ["tiny.csv"]
+    (tmp_path / "not-a-run").mkdir()
+    with pytest.raises(NotFound, match="not a run folder"):
+        store.add_run(tmp_path / "not-a-run")
