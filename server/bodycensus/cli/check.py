@@ -60,8 +60,8 @@ def add_check_parser(commands: Commands) -> None:
     """Register ``check`` and its options."""
     check = commands.add_parser(
         "check", help="check a catalogue file and print the findings",
-        description=f"Check a catalogue file ({accepted()}) and print what physics rules out or "
-                    "makes suspicious.")
+        description=f"Check a catalogue ({accepted()}; one file, a folder of files or a glob) "
+                    "and print what physics rules out or makes suspicious.")
     check.add_argument("file", type=Path, metavar="DATASET",
                        help="the catalogue: a file, a folder of files or a quoted glob of them")
     check.add_argument("--map", action="append", default=[], metavar="FIELD=COLUMN",
