@@ -202,7 +202,8 @@ def check_dataset(spec: str | Path, workdir: Path, options: CheckOptions = Check
     parts, report = ingest_dataset(files, workdir / "normalised",
                                    map_overrides=dict(options.map_overrides),
                                    unit_overrides=dict(options.unit_overrides),
-                                   limits=options.limits)
+                                   limits=options.limits, hosts=options.hosts,
+                                   nulls=options.nulls)
     progress("read", 1.0, rows=report.rows)
     result = check_table(pl.scan_parquet(parts), workdir, options, progress, report)
     for part in parts:

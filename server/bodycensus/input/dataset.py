@@ -17,6 +17,7 @@ from pathlib import Path
 import polars as pl
 
 from bodycensus.input.formats import catalogue_suffix
+from bodycensus.input.hosts import HostColumns
 from bodycensus.input.ingest import IngestLimits, IngestReport, ingest
 from bodycensus.input.readers import IngestError
 
@@ -90,15 +91,19 @@ def shift_rows(part: Path, offset: int) -> None:
 def ingest_dataset(files: Sequence[Path], folder: Path, *,
                    map_overrides: dict[str, str] | None = None,
                    unit_overrides: dict[str, str] | None = None,
-                   limits: IngestLimits | None = None) -> tuple[list[Path], IngestReport]:
+                   limits: IngestLimits | None = None, hosts: HostColumns | None = None,
+                   nulls: tuple[str, ...] = ()) -> tuple[list[Path], IngestReport]:
     """Ingest every file of a dataset into ``folder`` (``part-00000.parquet``, ...), one after
-    the other; the normalised parts and the merged report."""
+    the other, each with the same mapping, host columns and null sentinels; the normalised
+    parts and the merged report. Host rows are built per file, so a host whose planets span
+    files is listed once per file (a duplicate id)."""
     folder.mkdir(parents=True, exist_ok=True)
     parts, reports, offset = [], [], 0
     for number, source in enumerate(files):
         dest = folder / f"part-{number:05d}.parquet"
         reports.append(ingest(source, dest, map_overrides=map_overrides,
-                              unit_overrides=unit_overrides, limits=limits or IngestLimits()))
+                              unit_overrides=unit_overrides, limits=limits or IngestLimits(),
+                              hosts=hosts, nulls=nulls))
         shift_rows(dest, offset)
         offset += reports[-1].rows
         parts.append(dest)

@@ -110,7 +110,8 @@ def _ingest(client: Client, files: Sequence[Path], folder: Path, options: CheckO
     parts = [folder / f"part-{n:05d}.parquet" for n in range(len(files))]
     futures = client.map(ingest, files, parts, pure=False,
                          map_overrides=dict(options.map_overrides),
-                         unit_overrides=dict(options.unit_overrides), limits=options.limits)
+                         unit_overrides=dict(options.unit_overrides), limits=options.limits,
+                         hosts=options.hosts, nulls=options.nulls)
     reports: list[IngestReport] = client.gather(futures)
     report = merge_reports(files, reports)
     client.gather(client.map(shift_rows, parts, row_offsets(reports), pure=False))
