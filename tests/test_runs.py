@@ -7,8 +7,20 @@ from pathlib import Path
 import polars as pl
 import pytest
 
+from bodycensus.dashboard.screens.queries import body_detail
+from bodycensus.engines.local import CheckOptions, check_file
 from bodycensus.errors import NotFound
-from bodycensus.storage.runs import is_run, read_artefacts, scan_bodies, scan_findings
+from bodycensus.storage.runs import (
+    BODY_INDEX,
+    is_run,
+    read_artefacts,
+    scan_bodies,
+    scan_bodies_around,
+    scan_findings,
+    write_body_index,
+)
+
+SAMPLE = Path(__file__).resolve().parents[1] / "sample_data" / "varrow_shoals.csv"
 
 
 def _run(folder: Path, partitioned: bool) -> Path:
@@ -38,3 +50,34 @@ def test_a_folder_without_a_run_is_said_so(tmp_path: Path) -> None:
     assert not is_run(tmp_path) and not is_run(tmp_path / "missing")
     with pytest.raises(NotFound, match="holds no bodies"):
         scan_bodies(tmp_path)
+
+
+def test_the_body_index_reads_only_the_partition_of_a_body(tmp_path: Path) -> None:
+    run = _run(tmp_path / "run", partitioned=True)
+    assert write_body_index(run) == run / BODY_INDEX
+    index = pl.read_parquet(run / BODY_INDEX)
+    assert index.rows() == [("a", "part-00000.parquet"), ("b", "part-00000.parquet"),
+                            ("c", "part-00001.parquet")]
+    (run / "bodies" / "part-00000.parquet").unlink()  # a read of it would now fail
+    assert scan_bodies_around(run, ["c"]).collect()["id"].to_list() == ["c"]
+    assert scan_bodies_around(run, ["nobody"]).collect().height == 0
+    assert write_body_index(_run(tmp_path / "whole", partitioned=False)) is None
+
+
+def test_a_body_page_of_a_partitioned_run_needs_only_its_partition(tmp_path: Path) -> None:
+    # The sample in partitions of about 1,000 bodies: a moon's page (its planet, siblings and
+    # their findings) is whole when every other partition file is gone.
+    run = tmp_path / "run"
+    check_file(SAMPLE, run, CheckOptions(partition_rows=1_000))
+    bodies = scan_bodies(run).select("id", "parent").collect()
+    moon = bodies.filter(pl.col("parent").is_in(bodies.filter(pl.col("parent").is_not_null())
+                                                ["parent"].implode())).row(0, named=True)
+    before = body_detail(run, moon["id"], None)
+    write_body_index(run)
+    keep = pl.read_parquet(run / BODY_INDEX).filter(pl.col("id") == moon["id"])["part"][0]
+    others = [p for p in (run / "bodies").glob("*.parquet") if p.name != keep]
+    assert len(others) >= 10
+    for part in others:
+        part.unlink()
+    after = body_detail(run, moon["id"], None)
+    assert after == before and after["system"]["parent"] is not None

@@ -1,8 +1,9 @@
 """A checked run as a folder the dashboard opens: ``bodycensus check DATASET --out DIR``.
 
 The engine leaves its Parquet files (bodies, findings, artefacts, coverage) in DIR; this adds what
-a ready catalogue of the data directory holds beside them (``aggregates.json``, the name index and
-``manifest.json``), so ``bodycensus serve --add-run DIR`` shows it without reading raw rows again.
+a ready catalogue of the data directory holds beside them (``aggregates.json``, the name and body
+indexes and ``manifest.json``), so ``bodycensus serve --add-run DIR`` shows it without reading raw
+rows again.
 """
 
 from __future__ import annotations
@@ -13,16 +14,17 @@ from bodycensus.diagrams.aggregates import compute_aggregates
 from bodycensus.engines.local import CheckOptions, CheckResult
 from bodycensus.storage.manifest import Manifest
 from bodycensus.storage.names import write_name_index
-from bodycensus.storage.runs import scan_bodies
+from bodycensus.storage.runs import scan_bodies, write_body_index
 from bodycensus.storage.store import MANIFEST, new_slug, now, write_json_atomic
 
 
 def write_run_folder(result: CheckResult, folder: Path, name: str,
                      options: CheckOptions) -> Manifest:
-    """Write the aggregates, the name index and a ready manifest into the run's ``folder``."""
+    """Write the aggregates, the name and body indexes and a ready manifest into ``folder``."""
     write_json_atomic(folder / "aggregates.json",
                       compute_aggregates(folder, options.orbit_settings))
     write_name_index(scan_bodies(folder), folder)
+    write_body_index(folder)
     manifest = Manifest(
         id=new_slug(), name=name, status="ready", created=now(), source="",
         progress={"stage": "done", "fraction": 1.0}, rows=result.summary["rows"],

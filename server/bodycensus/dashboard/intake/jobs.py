@@ -27,7 +27,7 @@ from bodycensus.input.schema import guess_mapping
 from bodycensus.science.families import FAMILIES
 from bodycensus.storage.manifest import Manifest, OverridesRecord
 from bodycensus.storage.names import write_name_index
-from bodycensus.storage.runs import scan_bodies
+from bodycensus.storage.runs import scan_bodies, write_body_index
 from bodycensus.storage.store import Store, now, write_json_atomic
 
 log = logging.getLogger(__name__)
@@ -125,6 +125,7 @@ def run_check(store: Store, settings: Settings, cat_id: str, overrides: Override
     progress("aggregates", 0.0)
     write_json_atomic(work / "aggregates.json", compute_aggregates(work, options.orbit_settings))
     write_name_index(scan_bodies(work), work)
+    write_body_index(work)
     report = result.report.to_json() if result.report is not None else None
     return store.publish(cat_id, rows=result.summary["rows"], summary=result.summary,
                          mapping=report)

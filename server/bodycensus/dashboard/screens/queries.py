@@ -41,7 +41,7 @@ from bodycensus.science.severity import SEVERITIES, name_expr, rank_expr
 from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT
 from bodycensus.storage.csvsafe import neutralise_formulas
 from bodycensus.storage.decisions import Decision
-from bodycensus.storage.runs import scan_bodies
+from bodycensus.storage.runs import scan_bodies, scan_bodies_around
 from bodycensus.storage.store import json_ready, write_json_atomic
 from bodycensus.storage.triage import undecided, with_decisions
 
@@ -162,7 +162,7 @@ def _worst(cat_dir: Path, ids: list[str]) -> dict[str, str]:
 
 def _system(cat_dir: Path, body_id: str, parent: str | None) -> SystemAround:
     """The parent, siblings and children of a body, each with its worst severity."""
-    lf = _scan(cat_dir, "bodies")
+    lf = scan_bodies_around(cat_dir, [body_id])
     cols = [c for c in _SYSTEM_COLUMNS if c in lf.collect_schema()]
     related = pl.col("parent") == body_id  # children
     if parent is not None:
@@ -185,7 +185,8 @@ def body_detail(cat_dir: Path, body_id: str, mapping: Mapping[str, Any] | None,
                 decisions: Sequence[Decision] = ()) -> BodyDetail:
     """Everything about one body: fields (SI and original), derived values, findings (with
     their decisions), system."""
-    rows = _scan(cat_dir, "bodies").filter(pl.col("id") == body_id).head(100).collect()
+    rows = (scan_bodies_around(cat_dir, [body_id]).filter(pl.col("id") == body_id).head(100)
+            .collect())
     if rows.height == 0:
         raise NotFound(f"no body with id '{body_id}' in this catalogue")
     row = rows.row(0, named=True)
