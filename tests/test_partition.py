@@ -4,7 +4,7 @@ holding the whole catalogue gives.
 
 The one-partition run is the whole-table engine: every join and window sees every row. Against
 main's engine (before partitions) the same was checked by hand on the sample, a 50,000 and a
-1,000,000-body demo catalogue (``tests/same_answers.py``, /work/notes/issue10-results.md).
+1,000,000-body demo catalogue (``tests/same_answers.py``; figures in issue 10's note).
 """
 
 from __future__ import annotations

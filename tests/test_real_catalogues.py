@@ -8,8 +8,8 @@ line's options and the real engine (issue 12).
 
 Both are fetched with ``pip download`` into ~/.cache/bodycensus-test-data (``real_catalogues``).
 The false-alarm rates of issue 12 were judged finding by finding with an independent check (the
-other catalogue's values for the same planet; /work/notes/issue12-results.md): here the
-findings judged false there must stay gone, and the true problems found must stay found.
+other catalogue's values for the same planet; tests/real_judge.py): here the findings judged
+false there must stay gone, and the true problems found must stay found.
 """
 
 from __future__ import annotations
