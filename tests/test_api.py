@@ -65,8 +65,8 @@ def test_upload_answers_202_then_becomes_ready(tmp_path: Path, source: bytes) ->
     assert done["summary"]["rows"] == ROWS and done["mapping"]["mapping"]["choices"]["mass"][
         "unit"] == "earth_mass"
     assert sorted(p.name for p in (tmp_path / "catalogues" / accepted["id"]).iterdir()) == [
-        "aggregates.json", "artefacts.parquet", "bodies", "coverage.parquet",
-        "findings.parquet", "manifest.json", "names.parquet", "source.csv"]
+        "aggregates.json", "artefacts.parquet", "bodies", "body_index.parquet",
+        "coverage.parquet", "findings.parquet", "manifest.json", "names.parquet", "source.csv"]
     assert list((tmp_path / "incoming").iterdir()) == []
 
 

@@ -134,9 +134,10 @@ def test_names_are_sanitised_and_never_paths(corpus: dict[str, Path],
         assert done["name"] == (shown or done["name"]) and len(done["name"]) <= 120
         assert done["name"].endswith(".csv")
         files = {p.name for p in (data_dir / "catalogues" / cat_id).iterdir()}
+        # the upload kept under our name (source.csv), never the sender's
         assert files == {"manifest.json", "aggregates.json", "bodies", "names.parquet",
-                         "findings.parquet", "artefacts.parquet", "coverage.parquet",
-                         "source.csv"}  # the upload kept under our name, never the sender's
+                         "body_index.parquet", "findings.parquet", "artefacts.parquet",
+                         "coverage.parquet", "source.csv"}
         assert client.delete(f"/api/catalogues/{cat_id}").status_code == 204
     assert not (data_dir.parent / "x.csv").exists() and not (data_dir / "x.csv").exists()
 
