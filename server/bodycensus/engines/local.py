@@ -157,6 +157,14 @@ def check_table(table: pl.LazyFrame, workdir: Path, options: CheckOptions = Chec
         findings, counts = _check_partitions(folders, facts, workdir, progress)
     finally:
         shutil.rmtree(split, ignore_errors=True)
+    return finish_run(workdir, findings, counts, facts, report, options, progress)
+
+
+def finish_run(workdir: Path, findings: pl.DataFrame, counts: pl.DataFrame,
+               facts: CatalogueFacts, report: IngestReport | None, options: CheckOptions,
+               progress: Progress) -> CheckResult:
+    """After the partitions (of either engine): write the merged findings and coverage, find the
+    artefacts over the written bodies, and sum up the run; every file written atomically."""
     _write_atomic(findings, workdir / "findings.parquet")
     rule_coverage = coverage_table(counts, facts.rules())
     _write_atomic(rule_coverage, workdir / "coverage.parquet")

@@ -107,7 +107,8 @@ _KEYWORDS: tuple[tuple[str, tuple[str, ...]], ...] = (
               "yellow dwarf", "orange dwarf")),
 )
 # A ring, ringlet or ring system, as a word of its own ("ringed giant" is a planet): checked
-# before the keywords, so that "icy ring" or "dust ring" is a ring, not an icy body.
+# before the keywords, so that a label naming both a ring and its material is a ring, not a
+# body of that material.
 _RING = re.compile(r"\b(rings?|ringlets?|ring system|annulus)\b")
 # Stellar spectral classes on their own (e.g. "G2V", "M4.5V", "K0 V") are main-sequence stars.
 _SPECTRAL_CLASS = re.compile(r"^[obafgkm]\d?(\.\d)?\s*(v|iv)?$")

@@ -38,7 +38,7 @@ from distributed import Client, Future, as_completed
 from bodycensus.durable import fsync_path
 from bodycensus.engines.dask.cluster import connect
 from bodycensus.engines.dask.facts import facts_on_dask
-from bodycensus.engines.local import CheckOptions, CheckResult
+from bodycensus.engines.local import CheckOptions, CheckResult, finish_run
 from bodycensus.engines.partition import (
     PART,
     CatalogueFacts,
@@ -47,15 +47,10 @@ from bodycensus.engines.partition import (
     partition_count,
     with_partition,
 )
-from bodycensus.engines.summary import build_summary
 from bodycensus.input.dataset import dataset_files, merge_reports, row_offsets, shift_rows
 from bodycensus.input.ingest import IngestReport, ingest
 from bodycensus.progress import Progress, quiet
-from bodycensus.science import artefacts as artefact_detector
-from bodycensus.science.artefacts import ARTEFACT_FIELDS
-from bodycensus.science.rules.base import coverage_table
 from bodycensus.science.rules.graph import Chains
-from bodycensus.storage.runs import scan_bodies
 
 # Buckets of the system key: so many that two systems share one only by a hash collision (which
 # makes a shuffle more likely, never wrong); a partition then holds whole buckets.
@@ -91,7 +86,7 @@ def _run(client: Client, files: Sequence[Path], workdir: Path, options: CheckOpt
     for part in [*parts, workdir / ROOTS]:
         part.unlink(missing_ok=True)
     (workdir / "normalised").rmdir()
-    result = _finish(workdir, findings, counts, facts, report, options, progress)
+    result = finish_run(workdir, findings, counts, facts, report, options, progress)
     result.summary["seconds"] = round(time.monotonic() - started, 3)
     return result
 
@@ -184,28 +179,3 @@ def _check_partitions(client: Client, frame: dd.DataFrame, workdir: Path,
     results: list[tuple[pl.DataFrame, pl.DataFrame]] = client.gather(futures)
     findings = merge_findings([found for found, _ in results], facts.rules())
     return findings, pl.concat([counts for _, counts in results])
-
-
-def _finish(workdir: Path, findings: pl.DataFrame, counts: pl.DataFrame, facts: CatalogueFacts,
-            report: IngestReport, options: CheckOptions, progress: Progress) -> CheckResult:
-    """Coverage, artefacts and the summary over the written parts; every file in place."""
-    _write(findings, workdir / "findings.parquet")
-    rule_coverage = coverage_table(counts, facts.rules())
-    _write(rule_coverage, workdir / "coverage.parquet")
-    progress("artefacts", 0.0)
-    bodies = scan_bodies(workdir)
-    found = (artefact_detector.detect_artefacts(bodies, ARTEFACT_FIELDS) if options.artefacts
-             else pl.DataFrame(schema=artefact_detector.ARTEFACT_SCHEMA))
-    _write(found, workdir / "artefacts.parquet")
-    progress("write", 1.0)
-    summary = build_summary(bodies, findings, found, facts.families, report)
-    return CheckResult(findings, found, rule_coverage, workdir / "bodies", summary, report,
-                       facts.families)
-
-
-def _write(frame: pl.DataFrame, path: Path) -> None:
-    """Write Parquet to a temporary name, fsync, then rename into place."""
-    tmp = path.with_name(path.name + ".tmp")
-    frame.write_parquet(tmp)
-    fsync_path(tmp)
-    os.replace(tmp, path)
