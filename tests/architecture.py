@@ -32,6 +32,8 @@ FLOORS: tuple[tuple[str, str, str], ...] = (
     ("diagrams", "bodycensus.diagrams", "aggregates and the figures drawn from them"),
     ("demo", "bodycensus.demo", "the invented demo catalogue and its scoring"),
     ("dashboard", "bodycensus.dashboard", "the web application (FastAPI, jinja2)"),
+    ("bench", "bodycensus.bench", "the benchmark's measurements and the plain pandas reference "
+     "of the rules"),
     ("cli", "bodycensus.cli", "the command line"),
     ("entry", "bodycensus.__main__", "`python -m bodycensus`"),
 )
@@ -111,6 +113,12 @@ def modules() -> tuple[Module, ...]:
 
 # Modules with logic that no test imports directly, and the test that exercises them instead.
 TESTED_THROUGH: dict[str, str] = {
+    "bodycensus.bench.pandas_catalogue": "test_pandas_reference.py: the pandas reference's "
+                                         "findings equal the engine's",
+    "bodycensus.bench.pandas_context": "test_pandas_reference.py: the pandas reference's "
+                                       "findings equal the engine's",
+    "bodycensus.bench.pandas_rules": "test_pandas_reference.py: the pandas reference's findings "
+                                     "equal the engine's",
     "bodycensus.cli.compare": "test_gate_cli.py runs `python -m bodycensus compare` as a process",
     "bodycensus.cli.gate": "test_gate_cli.py runs check --decisions/--baseline as a process",
     "bodycensus.dashboard.routes.compare": "test_triage_api.py: the Compare screen and its JSON",
