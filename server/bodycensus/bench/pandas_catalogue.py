@@ -6,7 +6,8 @@ column mapping and units are this module's table, not the engine's header guessi
 reading are the ingest's: surrounding blanks are dropped and an empty cell is absent; a number
 that cannot be read, or that is not finite once in SI, is absent and its field is named in
 ``_bad``; true/false words (and prograde/retrograde) become flags. Written for pandas, plainly:
-one ``read_csv``, then one vectorised conversion per column.
+one ``read_csv`` (pandas parses the clean number columns itself), then one vectorised
+conversion per column.
 """
 
 from __future__ import annotations
@@ -81,35 +82,54 @@ def _flag(text: pd.Series, field: str) -> pd.Series:
 
 def _bad_names(bad: pd.DataFrame) -> pd.Series:
     """Comma-joined names of each row's bad fields, in field order; absent where none."""
-    names = pd.Series("", index=bad.index, dtype=object)
-    for field in bad.columns:
-        names = names + np.where(bad[field], field + ",", "")
-    return names.str.rstrip(",").where(bad.any(axis=1))
+    rows = bad[bad.any(axis=1)]
+    names = pd.Series("", index=rows.index, dtype=object)
+    for field in rows.columns:
+        names = names + np.where(rows[field], field + ",", "")
+    return names.str.rstrip(",").reindex(bad.index)
+
+
+def _text(column: pd.Series) -> pd.Series:
+    """Words without surrounding blanks; an empty cell is absent."""
+    stripped = column.str.strip()
+    return stripped.where(stripped != "")
+
+
+def _number(column: pd.Series) -> tuple[pd.Series, pd.Series]:
+    """A number column's values (NaN where unreadable) and whether each cell held anything.
+    ``read_csv`` parses a column of clean numbers itself; a column holding some text comes as
+    text and is read again here, cell by cell, vectorised."""
+    if pd.api.types.is_numeric_dtype(column):
+        return column.astype(float), column.notna()
+    text = _text(column)
+    return pd.to_numeric(text, errors="coerce"), text.notna()
 
 
 def read_catalogue(csv: Path) -> pd.DataFrame:
     """The demo catalogue ``csv`` as a frame of canonical fields in SI (ring edges in radii of
     their planet, ages in years), ``_row`` (1-based data row), ``_bad`` and ``_a_printed``."""
-    raw = pd.read_csv(csv, dtype=str, keep_default_na=False, na_filter=False)
+    words = [*TEXT_COLUMNS, *FLAG_COLUMNS, "a (au)"]  # the axis as printed, for its precision
+    # only an empty cell is absent: "n/a" and the like are unreadable numbers, said in _bad
+    raw = pd.read_csv(csv, keep_default_na=False, na_values=[""], dtype=dict.fromkeys(words, str),
+                      low_memory=False)  # one type per column, however long the file
     if tuple(raw.columns) != DEMO_COLUMNS:
         raise InputError(f"{Path(csv).name}: not a demo catalogue (its header differs from "
                          "`bodycensus demo`'s); the pandas reference reads only demo files")
-    cells = raw.apply(lambda column: column.str.strip())
-    present = cells != ""
-    cells = cells.where(present)  # an empty cell is absent, not bad
-    table = pd.DataFrame({field: cells[column] for column, field in TEXT_COLUMNS.items()})
+    table = pd.DataFrame({field: _text(raw[column]) for column, field in TEXT_COLUMNS.items()})
     bad = pd.DataFrame(False, index=raw.index, columns=list(_FIELD_ORDER))
     for column, (field, unit) in NUMBER_COLUMNS.items():
-        value = pd.to_numeric(cells[column], errors="coerce") * UNITS[unit].to_si
-        bad[field] = present[column] & ~np.isfinite(value)
+        number, present = _number(raw[column])
+        value = number * UNITS[unit].to_si
+        bad[field] = present & ~np.isfinite(value)
         table[field] = value.where(~bad[field])
     for column, field in FLAG_COLUMNS.items():
-        flag = _flag(cells[column], field)
-        bad[field] = present[column] & flag.isna()
+        text = _text(raw[column])
+        flag = _flag(text, field)
+        bad[field] = text.notna() & flag.isna()
         table[field] = flag
     for field in ABSENT_FIELDS:
         table[field] = np.nan
     table["_row"] = np.arange(1, len(raw) + 1, dtype=np.int64)
     table["_bad"] = _bad_names(bad)
-    table["_a_printed"] = _printed_precision(cells["a (au)"])
+    table["_a_printed"] = _printed_precision(_text(raw["a (au)"]))
     return table
