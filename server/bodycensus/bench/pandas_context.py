@@ -347,7 +347,8 @@ _INNER = {"id": "inner_id", "_a": "inner_a", "_mass": "inner_mass", "apoapsis": 
 def _siblings(t: pd.DataFrame) -> None:
     """The next body inward around the same parent (siblings ordered by semi-major axis, ties
     and absent axes by row); none without a parent."""
-    ordered = t.sort_values(["parent", "_a", "_row"], na_position="first", kind="stable")
+    ordered = t[["parent", "_row", *_INNER]].sort_values(["parent", "_a", "_row"],
+                                                          na_position="first", kind="stable")
     inner = ordered.groupby("parent", dropna=True)[list(_INNER)].shift(1)
     for source, name in _INNER.items():
         t[name] = inner[source].reindex(t.index)
