@@ -39,18 +39,18 @@ _CURVES = {"cold_hhe": bodies.cold_hhe_density, "white_dwarf": bodies.white_dwar
            "largest_star": bodies.largest_star_density}
 
 
-def _f(column: pd.Series) -> Floats:
+def floats(column: pd.Series) -> Floats:
     """A column as a float array (NaN where absent)."""
     return np.asarray(column.to_numpy(dtype=float, na_value=np.nan), dtype=np.float64)
 
 
 def _positive(column: pd.Series) -> Floats:
     """The column where it is a positive number, else NaN."""
-    values = _f(column)
+    values = floats(column)
     return np.where(values > 0, values, np.nan)
 
 
-def _flag(column: pd.Series) -> npt.NDArray[np.bool_]:
+def flags(column: pd.Series) -> npt.NDArray[np.bool_]:
     """A true/false/absent column as booleans, absent as false."""
     return np.asarray(column.fillna(False).to_numpy(dtype=bool), dtype=np.bool_)
 
@@ -69,7 +69,7 @@ def band_edge(band: DensityBand, side: str, mass: Floats) -> Floats:
 def _bands(t: pd.DataFrame) -> None:
     """``_band_low``, ``_band_high``: each family's density band at the body's mass (NaN for
     families without one, and where a curve is past its validity)."""
-    mass = _f(t["_mass"])
+    mass = floats(t["_mass"])
     for side in ("low", "high"):
         edge = np.full(len(t), np.nan)
         for family, params in FAMILY_PARAMETERS.items():
@@ -82,7 +82,7 @@ def _bands(t: pd.DataFrame) -> None:
 def _degenerate(t: pd.DataFrame) -> npt.NDArray[np.bool_]:
     """A ``star`` whose density is a white dwarf's at its mass (within ``DEGENERATE_SPREAD``)
     or a neutron star's."""
-    density, mass = _f(t["density"]), _f(t["_mass"])
+    density, mass = floats(t["density"]), floats(t["_mass"])
     curve = bodies.white_dwarf_density(mass)
     white = (density >= curve / DEGENERATE_SPREAD) & (density <= curve * DEGENERATE_SPREAD)
     neutron = FAMILY_PARAMETERS["neutron_star"].density_band
@@ -95,7 +95,7 @@ def _degenerate(t: pd.DataFrame) -> npt.NDArray[np.bool_]:
 def _unit_slips(t: pd.DataFrame) -> None:
     """``_slip``: the density misses its band by more than ``SLIP_TOLERANCE`` and one known unit
     factor brings it inside; ``_trusted_density`` is the density where it does not."""
-    density, low, high = _f(t["density"]), _f(t["_band_low"]), _f(t["_band_high"])
+    density, low, high = floats(t["density"]), floats(t["_band_low"]), floats(t["_band_high"])
     t["_degenerate"] = _degenerate(t)
     far_out = ((density < low / SLIP_TOLERANCE) | (density > high * SLIP_TOLERANCE)) \
         & ~t["_degenerate"].to_numpy()
@@ -111,18 +111,18 @@ def _unit_slips(t: pd.DataFrame) -> None:
 def _relative_error(t: pd.DataFrame, field: str, side: str) -> Floats:
     """The relative uncertainty of ``field`` on one side (the - side falls back on the symmetric
     or + one, and the other way round); NaN where none is given."""
-    low, high = np.abs(_f(t[f"{field}_error_low"])), np.abs(_f(t[f"{field}_error"]))
+    low, high = np.abs(floats(t[f"{field}_error_low"])), np.abs(floats(t[f"{field}_error"]))
     first, second = (low, high) if side == "low" else (high, low)
     error = np.where(np.isnan(first), second, first)
-    value = _f(t[field])
+    value = floats(t[field])
     return np.where(value > 0, error / value, np.nan)
 
 
 def _body_columns(t: pd.DataFrame) -> None:
     """Per-body physics that needs no other row: positive mass, radius and axis, a valid
     eccentricity, the uncertainties, density, periapsis and apoapsis, the orbit's sense."""
-    raw_mass, error = _f(t["mass"]), np.abs(_f(t["mass_error"]))
-    lower = np.abs(_f(t["mass_error_low"]))
+    raw_mass, error = floats(t["mass"]), np.abs(floats(t["mass_error"]))
+    lower = np.abs(floats(t["mass_error_low"]))
     lower = np.where(np.isnan(lower), error, lower)
     t["_mass_upper_limit"] = (((raw_mass > 0) & (lower >= raw_mass))
                               | ((raw_mass == 0) & (error > 0)))
@@ -132,22 +132,22 @@ def _body_columns(t: pd.DataFrame) -> None:
     t["_density_error"] = np.where(given, spread, np.nan)
     t["_mass_error"] = _relative_error(t, "mass", "high")
     a_error = _relative_error(t, "semi_major_axis", "high")
-    t["_a_error"] = np.where(np.isnan(a_error), _f(t["_a_printed"]), a_error)
+    t["_a_error"] = np.where(np.isnan(a_error), floats(t["_a_printed"]), a_error)
     t["_period_error"] = _relative_error(t, "period", "high")
     t["_mass"], t["_radius"] = _positive(t["mass"]), _positive(t["radius"])
-    e = _f(t["eccentricity"])
+    e = floats(t["eccentricity"])
     t["_e"] = np.where(np.isnan(e), 0.0, np.where((e >= 0) & (e < 1), e, np.nan))
     t["_a"] = _positive(t["semi_major_axis"])
     t["density"] = np.where(t["_mass_upper_limit"], np.nan,
-                            bodies.bulk_density(_f(t["_mass"]), _f(t["_radius"])))
-    t["periapsis"] = orbits.periapsis(_f(t["_a"]), _f(t["_e"]))
-    t["apoapsis"] = orbits.apoapsis(_f(t["_a"]), _f(t["_e"]))
-    inclined = _f(t["inclination"]) > math.pi / 2.0
-    t["_retrograde"] = np.where(t["retrograde"].isna(), inclined, _flag(t["retrograde"]))
+                            bodies.bulk_density(floats(t["_mass"]), floats(t["_radius"])))
+    t["periapsis"] = orbits.periapsis(floats(t["_a"]), floats(t["_e"]))
+    t["apoapsis"] = orbits.apoapsis(floats(t["_a"]), floats(t["_e"]))
+    inclined = floats(t["inclination"]) > math.pi / 2.0
+    t["_retrograde"] = np.where(t["retrograde"].isna(), inclined, flags(t["retrograde"]))
     t["_is_ring"] = t["family"].isin(RING_FAMILIES)
     in_metres = {"ring_inner": "_ring_inner_m", "ring_outer": "_ring_outer_m"}
     for field, name in in_metres.items():  # the ring a planet's row carries, in metres
-        t[name] = np.where(t["_is_ring"], np.nan, _positive(t[field]) * _f(t["_radius"]))
+        t[name] = np.where(t["_is_ring"], np.nan, _positive(t[field]) * floats(t["_radius"]))
 
 
 def _label_statistics(t: pd.DataFrame) -> None:
@@ -155,12 +155,12 @@ def _label_statistics(t: pd.DataFrame) -> None:
     own group): the density (against the band's high edge at its mass where the family has a
     band), and mass and radius where it has none."""
     banded = t["_band_low"].notna().to_numpy()
-    density = _f(t["density"])
+    density = floats(t["density"])
     values = {
-        "_z_density": np.where(banded, np.log10(density / _f(t["_band_high"])),
+        "_z_density": np.where(banded, np.log10(density / floats(t["_band_high"])),
                                np.log10(density)),
-        "_z_mass": np.log10(_f(t["_mass"])),
-        "_z_radius": np.log10(_f(t["_radius"])),
+        "_z_mass": np.log10(floats(t["_mass"])),
+        "_z_radius": np.log10(floats(t["_radius"])),
     }
     groups = t["label"]
     t["_label_size"] = t.groupby(groups, dropna=False)["_row"].transform("size")
@@ -168,7 +168,7 @@ def _label_statistics(t: pd.DataFrame) -> None:
         x = pd.Series(value, index=t.index)
         median = x.groupby(groups, dropna=False).transform("median")
         mad = (x - median).abs().groupby(groups, dropna=False).transform("median")
-        z = np.abs(MAD_TO_SIGMA * (value - _f(median)) / _f(mad))
+        z = np.abs(MAD_TO_SIGMA * (value - floats(median)) / floats(mad))
         t[score] = z if score == "_z_density" else np.where(banded, np.nan, z)
 
 
@@ -214,13 +214,14 @@ def _with_parent(t: pd.DataFrame) -> pd.DataFrame:
 def _derived_orbits(t: pd.DataFrame) -> None:
     """A body with a period and a parent of known mass but no semi-major axis gets one from
     Kepler's third law; ``orbit_derived`` names what was derived."""
-    period, parent_mass, a = _positive(t["period"]), _f(t["parent_mass"]), _f(t["_a"])
-    derived = orbits.kepler_semi_major_axis(period, parent_mass, np.nan_to_num(_f(t["_mass"])))
+    period, parent_mass, a = _positive(t["period"]), floats(t["parent_mass"]), floats(t["_a"])
+    derived = orbits.kepler_semi_major_axis(period, parent_mass, np.nan_to_num(floats(t["_mass"])))
     derive = np.isnan(a) & ~np.isnan(derived) & t["_parent_exists"].to_numpy()
     t["_a"] = np.where(derive, derived, a)
-    t["periapsis"] = np.where(derive, orbits.periapsis(_f(t["_a"]), _f(t["_e"])),
-                              _f(t["periapsis"]))
-    t["apoapsis"] = np.where(derive, orbits.apoapsis(_f(t["_a"]), _f(t["_e"])), _f(t["apoapsis"]))
+    t["periapsis"] = np.where(derive, orbits.periapsis(floats(t["_a"]), floats(t["_e"])),
+                              floats(t["periapsis"]))
+    t["apoapsis"] = np.where(derive, orbits.apoapsis(floats(t["_a"]), floats(t["_e"])),
+                             floats(t["apoapsis"]))
     what = pd.Series(None, index=t.index, dtype=object)
     what[np.isnan(period) & ~np.isnan(a) & ~np.isnan(parent_mass)] = "period"
     what[derive] = "semi_major_axis"
@@ -232,20 +233,20 @@ def _family_tides(family: pd.Series) -> tuple[Floats, Floats]:
     rigidity = family.map({f: p.rigidity for f, p in FAMILY_PARAMETERS.items()}).fillna(3e10)
     quality = family.map({f: p.quality_factor for f, p in FAMILY_PARAMETERS.items()}).fillna(
         100.0)
-    return _f(rigidity), _f(quality)
+    return floats(rigidity), floats(quality)
 
 
 def _orbit_columns(t: pd.DataFrame) -> None:
     """Roche limits, Hill spheres, the Kepler period, the barycentre and the despinning time."""
-    a, e, mass, radius = _f(t["_a"]), _f(t["_e"]), _f(t["_mass"]), _f(t["_radius"])
-    density, parent_density = _f(t["_trusted_density"]), _f(t["parent_density"])
-    parent_mass, parent_radius = _f(t["parent_mass"]), _f(t["parent_radius"])
-    parent_e = _f(t["parent_eccentricity"])
+    a, e, mass, radius = floats(t["_a"]), floats(t["_e"]), floats(t["_mass"]), floats(t["_radius"])
+    density, parent_density = floats(t["_trusted_density"]), floats(t["parent_density"])
+    parent_mass, parent_radius = floats(t["parent_mass"]), floats(t["parent_radius"])
+    parent_e = floats(t["parent_eccentricity"])
     t["roche_rigid"] = orbits.roche_rigid(parent_radius, parent_density, density)
     t["roche_fluid"] = orbits.roche_fluid(parent_radius, parent_density, density)
     t["hill_radius"] = orbits.hill_radius(a, e, mass, parent_mass)
-    parent_hill = orbits.hill_radius(_f(t["parent_semi_major_axis"]), parent_e, parent_mass,
-                                     _f(t["grandparent_mass"]))
+    parent_hill = orbits.hill_radius(floats(t["parent_semi_major_axis"]), parent_e, parent_mass,
+                                     floats(t["grandparent_mass"]))
     t["parent_hill_radius"] = parent_hill
     stable = np.where(t["_retrograde"], orbits.stable_hill_fraction(parent_e, e, retrograde=True),
                       orbits.stable_hill_fraction(parent_e, e))
@@ -263,26 +264,26 @@ def _orbit_columns(t: pd.DataFrame) -> None:
 def _tide_columns(t: pd.DataFrame) -> None:
     """Tidal heating of eccentric orbits, and the years a decaying orbit has left against its
     system's age."""
-    a, e, mass, radius = _f(t["_a"]), _f(t["_e"]), _f(t["_mass"]), _f(t["_radius"])
-    parent_mass, parent_radius = _f(t["parent_mass"]), _f(t["parent_radius"])
+    a, e, mass, radius = floats(t["_a"]), floats(t["_e"]), floats(t["_mass"]), floats(t["_radius"])
+    parent_mass, parent_radius = floats(t["parent_mass"]), floats(t["parent_radius"])
     rigidity, quality = _family_tides(t["family"])
     k2_over_q = orbits.love_number_k2(mass, radius, rigidity) / quality
     power = tides.tidal_heating_power(a, e, mass, radius, parent_mass, k2_over_q)
     t["tidal_heating"] = np.where(e > 0, power, np.nan)
-    t["tidal_heat_flux"] = tides.surface_heat_flux(_f(t["tidal_heating"]), radius)
+    t["tidal_heat_flux"] = tides.surface_heat_flux(floats(t["tidal_heating"]), radius)
     parent_rigidity, parent_quality = _family_tides(t["parent_family"])
     q_prime = tides.modified_quality_factor(
         orbits.love_number_k2(parent_mass, parent_radius, parent_rigidity), parent_quality)
     fluid = t["family"].isin(FLUID_FAMILIES).to_numpy()
-    roche = np.where(fluid, _f(t["roche_fluid"]), _f(t["roche_rigid"]))
+    roche = np.where(fluid, floats(t["roche_fluid"]), floats(t["roche_rigid"]))
     end = np.fmax(parent_radius + np.nan_to_num(radius), roche)
     years = tides.tidal_decay_time(a, end, parent_mass, parent_radius, mass, q_prime) / YEAR
     spin = _positive(t["parent_rotation_period"])
-    inside = _f(t["kepler_period"]) < (1.0 - SYNCHRONOUS_TOLERANCE) * spin
+    inside = floats(t["kepler_period"]) < (1.0 - SYNCHRONOUS_TOLERANCE) * spin
     decays = t["_retrograde"].to_numpy() | np.isnan(spin) | inside
     t["tidal_decay_time"] = np.where(decays & (a > end), years, np.nan)
     age, parent_age = _positive(t["age"]), _positive(t["parent_age"])
-    t["life_to_age"] = _f(t["tidal_decay_time"]) / np.where(np.isnan(age), parent_age, age)
+    t["life_to_age"] = floats(t["tidal_decay_time"]) / np.where(np.isnan(age), parent_age, age)
 
 
 def _edge(t: pd.DataFrame, field: str, planet_radius: Floats) -> Floats:
@@ -298,19 +299,20 @@ def _ring_columns(t: pd.DataFrame) -> None:
     t["_has_ring"] = has_ring
 
     def of_planet(on_ring: str, on_planet: str) -> Floats:
-        return np.where(has_ring, np.where(ring, _f(t[on_ring]), _f(t[on_planet])), np.nan)
+        return np.where(has_ring, np.where(ring, floats(t[on_ring]), floats(t[on_planet])), np.nan)
 
     t["ring_planet_radius"] = of_planet("parent_radius", "_radius")
     planet_density = of_planet("parent_density", "_trusted_density")
     t["_ring_planet_hill"] = of_planet("parent_hill_radius", "hill_radius")
-    parent_radius = _f(t["parent_radius"])
+    parent_radius = floats(t["parent_radius"])
     t["ring_inner_edge"] = np.where(ring, _edge(t, "ring_inner", parent_radius),
-                                    _f(t["_ring_inner_m"]))
+                                    floats(t["_ring_inner_m"]))
     t["ring_outer_edge"] = np.where(ring, _edge(t, "ring_outer", parent_radius),
-                                    _f(t["_ring_outer_m"]))
-    material = np.where(_f(t["ring_density"]) > 0, _f(t["ring_density"]), ASSUMED_RING_DENSITY)
+                                    floats(t["_ring_outer_m"]))
+    given = floats(t["ring_density"])
+    material = np.where(given > 0, given, ASSUMED_RING_DENSITY)
     t["ring_roche_fluid"] = np.where(has_ring, orbits.roche_fluid(
-        _f(t["ring_planet_radius"]), planet_density, material), np.nan)
+        floats(t["ring_planet_radius"]), planet_density, material), np.nan)
 
 
 def _rings_around(t: pd.DataFrame) -> pd.DataFrame:
@@ -330,13 +332,13 @@ def _rings_around(t: pd.DataFrame) -> pd.DataFrame:
                .drop_duplicates("_row", keep="first").drop(columns=["parent", "_a"]))
     joined = t.merge(nearest, on="_row", how="left")
     joined.index = t.index
-    low = _f(t["parent_ring_inner"].fillna(t["parent_radius"]))
-    high, a = _f(t["parent_ring_outer"]), _f(t["_a"])
+    low = floats(t["parent_ring_inner"].fillna(t["parent_radius"]))
+    high, a = floats(t["parent_ring_outer"]), floats(t["_a"])
     within = ~ring.to_numpy() & (a >= low) & (a <= high)
     use_parent = joined["ring_around"].isna().to_numpy() & within
     joined["ring_around"] = joined["ring_around"].where(~use_parent, joined["parent"])
-    joined["_ring_around_inner"] = np.where(use_parent, low, _f(joined["_ring_around_inner"]))
-    joined["_ring_around_outer"] = np.where(use_parent, high, _f(joined["_ring_around_outer"]))
+    joined["_ring_around_inner"] = np.where(use_parent, low, floats(joined["_ring_around_inner"]))
+    joined["_ring_around_outer"] = np.where(use_parent, high, floats(joined["_ring_around_outer"]))
     return joined
 
 

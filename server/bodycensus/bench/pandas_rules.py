@@ -17,7 +17,7 @@ import numpy as np
 import numpy.typing as npt
 import pandas as pd
 
-from bodycensus.bench.pandas_context import Floats, band_edge
+from bodycensus.bench.pandas_context import Floats, band_edge, flags, floats
 from bodycensus.science.families import (
     BODY_FAMILIES,
     FAMILY_PARAMETERS,
@@ -52,12 +52,12 @@ _POSITIVE_FIELDS = ("mass", "radius", "semi_major_axis", "period", "rotation_per
 
 def _f(t: pd.DataFrame, name: str) -> Floats:
     """A column as floats (NaN where absent)."""
-    return np.asarray(t[name].to_numpy(dtype=float, na_value=np.nan), dtype=np.float64)
+    return floats(t[name])
 
 
 def _b(t: pd.DataFrame, name: str) -> Bools:
     """A boolean column (absent as false)."""
-    return np.asarray(t[name].fillna(False).to_numpy(dtype=bool), dtype=np.bool_)
+    return flags(t[name])
 
 
 def _in(t: pd.DataFrame, families: Iterable[str]) -> Bools:
