@@ -63,7 +63,7 @@ _PLAIN_NUMBER = r"[+-]?\d*\.?\d+"
 def _printed_precision(text: pd.Series) -> pd.Series:
     """Half a unit of the last printed digit of the semi-major axis over its value (null for a
     number written with an exponent): the Kepler tolerance of an axis without uncertainty."""
-    plain = text.str.fullmatch(_PLAIN_NUMBER).fillna(False).astype(bool)
+    plain = text.fillna("").str.fullmatch(_PLAIN_NUMBER).astype(bool)
     decimals = text.str.extract(r"\.(\d+)$", expand=False).str.len().fillna(0).astype(float)
     number = pd.to_numeric(text, errors="coerce").abs()
     precision = 0.5 * np.power(10.0, -decimals) / number
