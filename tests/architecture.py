@@ -32,8 +32,8 @@ FLOORS: tuple[tuple[str, str, str], ...] = (
     ("diagrams", "bodycensus.diagrams", "aggregates and the figures drawn from them"),
     ("demo", "bodycensus.demo", "the invented demo catalogue and its scoring"),
     ("dashboard", "bodycensus.dashboard", "the web application (FastAPI, jinja2)"),
-    ("bench", "bodycensus.bench", "the benchmark's measurements and the plain pandas reference "
-     "of the rules"),
+    ("bench", "bodycensus.bench", "the benchmark: whole processes and a served dashboard "
+     "measured against baselines; the plain pandas reference of the rules"),
     ("cli", "bodycensus.cli", "the command line"),
     ("entry", "bodycensus.__main__", "`python -m bodycensus`"),
 )

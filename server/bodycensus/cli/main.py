@@ -12,6 +12,7 @@ from collections.abc import Sequence
 from pathlib import Path
 
 from bodycensus import __version__
+from bodycensus.cli.bench import add_bench_parser, run_bench_command
 from bodycensus.cli.check import Commands, add_check_parser, run_check
 from bodycensus.cli.compare import add_compare_parser, run_compare
 from bodycensus.errors import BodycensusError
@@ -71,16 +72,6 @@ def _add_demo(commands: Commands) -> None:
                            "clean bodies called impossible")
 
 
-def _add_bench(commands: Commands) -> None:
-    bench = commands.add_parser("bench", help="measure speed and memory against a baseline",
-                                description="Time ingest, rules and artefacts on a generated "
-                                            "catalogue and print ratios against a plain polars "
-                                            "baseline run in the same process.")
-    bench.add_argument("--bodies", type=int, default=1_000_000, help="catalogue size")
-    bench.add_argument("--seed", type=int, default=7, help="random seed")
-    bench.add_argument("--workdir", type=Path, default=None, help="scratch folder (default: temp)")
-
-
 def build_parser() -> argparse.ArgumentParser:
     """The argument parser for every command."""
     parser = argparse.ArgumentParser(
@@ -93,7 +84,7 @@ def build_parser() -> argparse.ArgumentParser:
     add_check_parser(commands)
     add_compare_parser(commands)
     _add_demo(commands)
-    _add_bench(commands)
+    add_bench_parser(commands)
     return parser
 
 
@@ -154,17 +145,11 @@ def score_demo(catalogue: Path, truth: Path) -> str:
                                 result.families))
 
 
-def _bench(args: argparse.Namespace) -> int:
-    from bodycensus.cli.bench import run_bench
-
-    return run_bench(args.bodies, args.seed, args.workdir)
-
-
 def main(argv: Sequence[str] | None = None) -> int:
     """Run one command; the exit code is 0, 1 (findings at --fail-on), or 2 (bad input)."""
     args = build_parser().parse_args(argv)
     handlers = {"serve": _serve, "check": run_check, "compare": run_compare, "demo": _demo,
-                "bench": _bench}
+                "bench": run_bench_command}
     try:
         return handlers[args.command](args)
     except _INPUT_ERRORS as error:

@@ -1,0 +1,203 @@
+"""One run of ``bodycensus bench``: for each catalogue size, the plain polars floors,
+``bodycensus check`` and the pandas reference, each a child process measured on its own (wall
+time, peak RSS); check's findings compared with the reference's; then the served dashboard's
+latency on the largest catalogue with each number of clients; one table and its ratios.
+
+Every figure comes from this run, on the same files, so the ratios hold whatever else the machine
+is doing; the absolute seconds do not.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import random
+import shutil
+import sys
+import tempfile
+import time
+from dataclasses import asdict, dataclass
+from importlib.metadata import version
+from pathlib import Path
+from typing import Any
+
+import httpx
+import polars as pl
+
+from bodycensus.bench import jobs
+from bodycensus.bench.children import Measured, measure
+from bodycensus.bench.latency import RequestKind, run_clients, timed_get
+from bodycensus.bench.latency import figures as latency_figures
+from bodycensus.bench.same_findings import compare_findings
+from bodycensus.bench.served import Server, picks, request_kinds, serve_run
+from bodycensus.bench.table import render
+from bodycensus.storage.runs import scan_findings
+
+MIXED = "mixed"
+
+
+@dataclass(frozen=True)
+class BenchOptions:
+    """What to measure: sizes, catalogues on disk, clients, seconds per latency phase."""
+
+    bodies: tuple[int, ...] = (1_000_000, 10_000_000)
+    catalogues: tuple[Path, ...] = ()
+    clients: tuple[int, ...] = (1, 16)
+    seconds: float = 10.0
+    seed: int = 5
+    workdir: Path | None = None
+    out: Path | None = None
+    pandas_max_bodies: int | None = None
+    latency: bool = True
+
+
+def say(text: str) -> None:
+    """A progress line on stderr (the table goes to stdout)."""
+    print(f"bench: {text}", file=sys.stderr, flush=True)
+
+
+def _rows(csv: Path) -> int:
+    """The data rows of a CSV catalogue."""
+    return int(pl.scan_csv(csv, infer_schema=False).select(pl.len()).collect().item())
+
+
+def catalogues(options: BenchOptions, folder: Path) -> list[tuple[int, Path, bool]]:
+    """(bodies, file, generated) for every size, smallest first: the files given, at their own
+    row counts, and a demo generated for each size none of them has."""
+    from bodycensus.demo import write_demo
+
+    given = {}
+    for path in options.catalogues:
+        say(f"counting the rows of {path}")
+        given[_rows(path)] = path
+    chosen = [(n, p, False) for n, p in given.items()]
+    for n in options.bodies:
+        if n not in given:
+            say(f"generating a demo catalogue of {n:,} bodies (seed {options.seed})")
+            csv, _ = write_demo(folder / f"demo-{n}.csv", n_bodies=n, seed=options.seed)
+            chosen.append((n, csv, True))
+    return sorted(chosen)
+
+
+def _child(*argv: str | Path) -> list[str | Path]:
+    return [sys.executable, "-m", *argv]
+
+
+def _as_row(measured: Measured) -> dict[str, Any]:
+    return asdict(measured)
+
+
+def measure_size(bodies: int, csv: Path, folder: Path, options: BenchOptions
+                 ) -> tuple[dict[str, Any], Path]:
+    """Every process on one catalogue; the results and the run folder check wrote."""
+    rows: dict[str, Any] = {}
+    scratch = folder / f"floor-{bodies}.parquet"
+    for job in ("floor-stream", "floor-eager"):
+        say(f"{bodies:,} bodies: {job}")
+        rows[job.replace("-", "_")] = _as_row(measure(_child("bodycensus.bench.jobs", job, csv,
+                                                             scratch)))
+        scratch.unlink(missing_ok=True)
+    run = folder / f"run-{bodies}"
+    say(f"{bodies:,} bodies: bodycensus check --format json --quiet --out {run}")
+    rows["check"] = _as_row(measure(_child("bodycensus", "check", csv, "--format", "json",
+                                           "--quiet", "--out", run)))
+    rows["pandas"], same = _pandas(bodies, csv, run, folder, options, rows["check"])
+    return {"bodies": bodies, "csv": str(csv), "csv_mib": csv.stat().st_size / 2**20,
+            "rows": rows, "same_findings": same}, run
+
+
+def _pandas(bodies: int, csv: Path, run: Path, folder: Path, options: BenchOptions,
+            check: dict[str, Any]) -> tuple[dict[str, Any], str]:
+    """The pandas reference's process and whether its findings equal check's."""
+    why = jobs.pandas_available()
+    if why is None and options.pandas_max_bodies is not None and \
+            bodies > options.pandas_max_bodies:
+        why = f"--pandas-max-bodies {options.pandas_max_bodies:,}"
+    if why is not None:
+        say(f"{bodies:,} bodies: pandas reference not run: {why}")
+        return {"not_run": why}, "not run"
+    say(f"{bodies:,} bodies: pandas reference")
+    found = folder / f"pandas-{bodies}.parquet"
+    measured = measure(_child("bodycensus.bench.jobs", "pandas", csv, found))
+    if not measured.ok or check["exit_code"] != 0:
+        found.unlink(missing_ok=True)
+        return _as_row(measured), "not compared (a process failed)"
+    agreement = compare_findings(scan_findings(run).collect(), pl.read_parquet(found))
+    found.unlink()
+    say(f"{bodies:,} bodies: findings of check and pandas {agreement.line()}")
+    return _as_row(measured), agreement.line()
+
+
+def _phase(server: Server, kinds: dict[str, RequestKind], name: str, clients: int,
+           seconds: float) -> dict[str, Any]:
+    """One kind of request (or all of them mixed) with ``clients`` clients for ``seconds``."""
+    chosen = kinds if name == MIXED else {name: kinds[name]}
+    tally = run_clients(server.base, chosen, clients, seconds, seed=clients)
+    if tally.errors:
+        say(f"  {tally.errors[0]}")
+    return {"kind": name, "clients": clients, "errors": len(tally.errors),
+            **latency_figures(tally.every())}
+
+
+def measure_latency(run: Path, bodies: int, folder: Path, options: BenchOptions
+                    ) -> dict[str, Any]:
+    """Serve the run folder and time each kind of request, then all mixed, per client count."""
+    data_dir = folder / "serve-data"
+    with serve_run(run, data_dir) as server:
+        kinds = request_kinds(server.catalogue, picks(run))
+        first = {}
+        with httpx.Client(base_url=server.base, timeout=600) as http:
+            for name, kind in kinds.items():  # a cold first request of each kind
+                seconds, error = timed_get(http, *kind(random.Random(0)))
+                first[name] = round(seconds * 1e3, 1)
+                if error:
+                    say(f"  first {name}: {error}")
+        phases = []
+        for clients in options.clients:
+            for name in [*kinds, MIXED]:
+                say(f"latency on {bodies:,} bodies: {name}, {clients} client(s), "
+                    f"{options.seconds:g} s")
+                phases.append(_phase(server, kinds, name, clients, options.seconds))
+        peak = server.peak_mib()
+    shutil.rmtree(data_dir, ignore_errors=True)
+    return {"bodies": bodies, "seconds": options.seconds, "kinds": [*kinds, MIXED],
+            "first_ms": first, "phases": phases, "server_peak_mib": peak}
+
+
+def _head() -> dict[str, Any]:
+    names = ("bodycensus", "polars", "pandas")
+    versions = []
+    for name in names:
+        try:
+            versions.append(f"{name} {version(name)}")
+        except Exception:  # noqa: BLE001 -- a missing package is named as such
+            versions.append(f"{name} missing")
+    return {"when": time.strftime("%Y-%m-%d %H:%M UTC", time.gmtime()),
+            "cores": os.cpu_count(), "load": os.getloadavg()[0], "versions": ", ".join(versions)}
+
+
+def run_bench(options: BenchOptions) -> int:
+    """Measure everything, print the table on stdout, save the results when asked."""
+    head = _head()
+    with tempfile.TemporaryDirectory(prefix="bodycensus-bench-", dir=options.workdir) as tmp:
+        folder = Path(tmp)
+        sizes, runs = [], []
+        for bodies, csv, _generated in catalogues(options, folder):
+            size, run = measure_size(bodies, csv, folder, options)
+            sizes.append(size)
+            runs.append((bodies, run))
+            if csv.parent == folder:
+                csv.unlink()
+        largest, run = runs[-1]
+        if not options.latency:
+            latency: dict[str, Any] = {"not_run": "--no-latency"}
+        elif sizes[-1]["rows"]["check"]["exit_code"] != 0:
+            latency = {"not_run": "check failed, so there is no run folder to serve"}
+        else:
+            latency = measure_latency(run, largest, folder, options)
+    results = {"head": head, "sizes": sizes, "latency": latency}
+    if options.out is not None:
+        options.out.write_text(json.dumps(results, indent=1), encoding="utf-8")
+    sys.stdout.write(render(results))
+    sys.stdout.flush()
+    return 0
