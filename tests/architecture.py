@@ -119,6 +119,9 @@ TESTED_THROUGH: dict[str, str] = {
                                        "findings equal the engine's",
     "bodycensus.bench.pandas_rules": "test_pandas_reference.py: the pandas reference's findings "
                                      "equal the engine's",
+    "bodycensus.bench.run": "test_bench_cli.py runs `python -m bodycensus bench` as a process",
+    "bodycensus.bench.served": "test_bench_cli.py: the served dashboard's latency table",
+    "bodycensus.cli.bench": "test_bench_cli.py runs `python -m bodycensus bench` as a process",
     "bodycensus.cli.compare": "test_gate_cli.py runs `python -m bodycensus compare` as a process",
     "bodycensus.cli.gate": "test_gate_cli.py runs check --decisions/--baseline as a process",
     "bodycensus.dashboard.routes.compare": "test_triage_api.py: the Compare screen and its JSON",

@@ -2,9 +2,10 @@
 
 ``bodycensus serve`` runs in a subprocess on 127.0.0.1 (so the clients do not share its GIL).
 A demo catalogue of ``BODYCENSUS_LOAD_BODIES`` bodies is uploaded through the API first; then
-16 threads read for ``BODYCENSUS_LOAD_SECONDS`` seconds (overview JSON, findings pages with
-filters, body detail, aggregates, CSV export of a filtered set, HTML screens) while a second
-catalogue is uploaded and checked. Bounded in time and in count; zero errors allowed. Figures
+16 clients (``bodycensus.bench.latency``, shared with ``bodycensus bench``) read for
+``BODYCENSUS_LOAD_SECONDS`` seconds (overview JSON, findings pages with filters, body
+detail, aggregates, CSV export of a filtered set, HTML screens) while a second catalogue is
+uploaded and checked. Bounded in time and in count; zero errors allowed. Figures
 go to stdout and to ``test-artifacts/load.json``.
 
 The default is the issue's 1,000,000 bodies: measured on the 2-core machine (shared with other
@@ -17,7 +18,6 @@ from __future__ import annotations
 import json
 import os
 import random
-import statistics
 import subprocess
 import sys
 import threading
@@ -30,12 +30,12 @@ import httpx
 import pytest
 from web_support import free_port, wait_done
 
+from bodycensus.bench.latency import figures, run_clients
 from bodycensus.demo import write_demo
 
 BODIES = int(os.environ.get("BODYCENSUS_LOAD_BODIES", "1000000"))
 SECONDS = float(os.environ.get("BODYCENSUS_LOAD_SECONDS", "60"))
 CLIENTS = 16
-MAX_REQUESTS = 200_000  # a hard cap on top of the time bound
 SECOND_UPLOAD_BODIES = 50_000
 ARTIFACT = Path(__file__).resolve().parents[1] / "test-artifacts" / "load.json"
 
@@ -118,74 +118,25 @@ def _requests(data: dict[str, Any]) -> dict[str, Callable[[random.Random], tuple
     }
 
 
-class _Tally:
-    """Latencies per endpoint and the errors, shared by the client threads."""
-
-    def __init__(self) -> None:
-        self.lock, self.latency, self.errors = threading.Lock(), {}, []
-        self.count = 0
-
-    def add(self, kind: str, seconds: float, error: str | None) -> bool:
-        """Record one request; False once the request cap is reached."""
-        with self.lock:
-            self.latency.setdefault(kind, []).append(seconds)
-            if error:
-                self.errors.append(f"{kind}: {error}")
-            self.count += 1
-            return self.count < MAX_REQUESTS
-
-
-def _client(base: str, kinds: dict, seed: int, until: float, tally: _Tally) -> None:
-    """One client: random reads until the deadline or the cap."""
-    rng, names = random.Random(seed), sorted(kinds)
-    with httpx.Client(base_url=base, timeout=60) as client:
-        while time.monotonic() < until:
-            kind = rng.choice(names)
-            path, query = kinds[kind](rng)
-            started = time.monotonic()
-            try:
-                response = client.get(path, params=query)
-                error = None if response.status_code == 200 else \
-                    f"{response.status_code} {path} {response.text[:120]}"
-            except httpx.HTTPError as exc:
-                error = f"{type(exc).__name__} {path}"
-            if not tally.add(kind, time.monotonic() - started, error):
-                return
-
-
-def _figures(values: list[float]) -> dict[str, float]:
-    """Count, median and 95th percentile in milliseconds."""
-    ordered = sorted(values)
-    p95 = ordered[min(len(ordered) - 1, int(0.95 * len(ordered)))]
-    return {"requests": len(ordered), "median_ms": round(statistics.median(ordered) * 1e3, 1),
-            "p95_ms": round(p95 * 1e3, 1)}
-
-
 def test_sixteen_clients_read_while_a_catalogue_uploads(server: str,
                                                        loaded: dict[str, Any]) -> None:
-    kinds, tally = _requests(loaded), _Tally()
+    kinds = _requests(loaded)
     upload_result: dict[str, Any] = {}
     uploader = threading.Thread(target=lambda: upload_result.update(
         _upload(server, loaded["second"], timeout=SECONDS + 600)))
     started = time.monotonic()
-    until = started + SECONDS
-    threads = [threading.Thread(target=_client, args=(server, kinds, i, until, tally))
-               for i in range(CLIENTS)]
     uploader.start()
-    for thread in threads:
-        thread.start()
-    for thread in threads:
-        thread.join(timeout=SECONDS + 120)
+    tally = run_clients(server, kinds, CLIENTS, SECONDS, timeout=60)
     elapsed = time.monotonic() - started
     uploader.join(timeout=600)
-    every = [s for values in tally.latency.values() for s in values]
+    every = tally.every()
     report = {"bodies": BODIES, "seconds": round(elapsed, 1), "clients": CLIENTS,
-              **_figures(every), "requests_per_s": round(len(every) / elapsed, 1),
+              **figures(every), "requests_per_s": round(len(every) / elapsed, 1),
               "errors": len(tally.errors), "generate_s": round(loaded["generate_s"], 1),
               "upload_and_check_s": round(loaded["ingest_s"], 1),
               "second_upload": {"bodies": SECOND_UPLOAD_BODIES,
                                 "status": upload_result.get("status")},
-              "endpoints": {k: _figures(v) for k, v in sorted(tally.latency.items())}}
+              "endpoints": {k: figures(v) for k, v in sorted(tally.latency.items())}}
     ARTIFACT.parent.mkdir(parents=True, exist_ok=True)
     ARTIFACT.write_text(json.dumps(report, indent=1), encoding="utf-8")
     print("\nload:", json.dumps(report, indent=1))

@@ -61,31 +61,36 @@ def timed_get(client: httpx.Client, path: str, query: Mapping[str, Any]
     return time.monotonic() - started, error
 
 
-def client(base: str, kinds: Mapping[str, RequestKind], seed: int, until: float, tally: Tally,
-           timeout: float = 600.0) -> None:
+def client(http: httpx.Client, kinds: Mapping[str, RequestKind], seed: int, until: float,
+           tally: Tally) -> None:
     """One client: random requests, one at a time, until the deadline or the tally's cap."""
     rng, names = random.Random(seed), sorted(kinds)
-    with httpx.Client(base_url=base, timeout=timeout) as http:
-        while time.monotonic() < until:
-            kind = rng.choice(names)
-            path, query = kinds[kind](rng)
-            seconds, error = timed_get(http, path, query)
-            if not tally.add(kind, seconds, error):
-                return
+    while time.monotonic() < until:
+        kind = rng.choice(names)
+        path, query = kinds[kind](rng)
+        seconds, error = timed_get(http, path, query)
+        if not tally.add(kind, seconds, error):
+            return
 
 
 def run_clients(base: str, kinds: Mapping[str, RequestKind], clients: int, seconds: float,
                 seed: int = 0, tally: Tally | None = None, timeout: float = 600.0) -> Tally:
-    """``clients`` threads send requests for ``seconds``; returns their tally (each thread
-    finishes the request it has started, so a slow kind can run past the deadline)."""
+    """``clients`` threads send requests for ``seconds``; returns their tally. Their HTTP
+    clients are made before the clock starts; each thread finishes the request it has started,
+    so a slow kind can run past the deadline."""
     tally = tally if tally is not None else Tally()
-    until = time.monotonic() + seconds
-    threads = [threading.Thread(target=client, args=(base, kinds, seed + n, until, tally, timeout))
-               for n in range(clients)]
-    for thread in threads:
-        thread.start()
-    for thread in threads:
-        thread.join()
+    https = [httpx.Client(base_url=base, timeout=timeout) for _ in range(clients)]
+    try:
+        until = time.monotonic() + seconds
+        threads = [threading.Thread(target=client, args=(http, kinds, seed + n, until, tally))
+                   for n, http in enumerate(https)]
+        for thread in threads:
+            thread.start()
+        for thread in threads:
+            thread.join()
+    finally:
+        for http in https:
+            http.close()
     return tally
 
 

@@ -67,9 +67,9 @@ def process_lines(results: Results) -> list[str]:
     for key, name in ROWS:
         rows = [s["rows"].get(key) for s in sizes]
         first, final = rows[0], rows[-1]
-        last = (f"{_ratio(_figure(final, 'seconds'), _figure(first, 'seconds'))}, "
-                f"{_ratio(_figure(final, 'peak_mib'), _figure(first, 'peak_mib'))}"
-                if growth else "")
+        ratios = [_ratio(_figure(final, key), _figure(first, key)) for key in ("seconds",
+                                                                              "peak_mib")]
+        last = ", ".join(ratios) if growth and ratios != ["-", "-"] else ""
         lines.append(_line(name, [_cell(r) for r in rows], last))
         notes += [f"  {name} at {s['bodies']:,}: {r.get('not_run') or r.get('error')}"
                   for s, r in zip(sizes, rows, strict=True)

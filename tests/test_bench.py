@@ -1,0 +1,75 @@
+"""The benchmark's parts: a child process measured from outside, the comparison of two sets of
+findings, the floors' view of the demo's columns and the shared latency clients."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import polars as pl
+import pytest
+
+from bodycensus.bench import jobs
+from bodycensus.bench.children import measure
+from bodycensus.bench.latency import Tally, figures
+from bodycensus.bench.same_findings import compare_findings
+from bodycensus.demo import COLUMNS, write_demo
+
+
+def test_a_child_reports_its_own_peak_memory_and_its_last_error() -> None:
+    grow = "b = bytearray(300 * 2**20); b[::4096] = b'x' * len(b[::4096])"
+    big = measure([sys.executable, "-c", grow])
+    small = measure([sys.executable, "-c", "pass"])
+    assert big.ok and big.peak_mib >= 300 > small.peak_mib
+    failed = measure([sys.executable, "-c", "raise SystemExit('no such catalogue')"])
+    assert failed.exit_code == 1 and failed.error == "no such catalogue"
+
+
+FINDINGS = pl.DataFrame({
+    "body": ["a", "a", "b", "c"], "rule": ["r1", "r2", "r1", "r1"],
+    "severity": ["suspect", "note", "impossible", "note"],
+    "value": [1.0, 2.5e30, None, 3.0], "limit": [2.0, 1e30, 7.0, None]})
+
+
+def test_the_same_findings_in_another_order_and_type_agree() -> None:
+    theirs = FINDINGS.reverse().with_columns(pl.col("value") * (1 + 1e-12))
+    agreement = compare_findings(FINDINGS, theirs)
+    assert agreement.same and agreement.line() == "identical (4 findings)"
+
+
+@pytest.mark.parametrize("change", [
+    pl.col("value").fill_null(5.0),                                    # a null became a number
+    pl.when(pl.col("body") == "a").then(pl.col("limit") * (1 + 1e-7)).otherwise(pl.col("limit"))
+    .alias("limit"),                                                   # past the tolerance
+    pl.when(pl.col("body") == "c").then(pl.lit("suspect")).otherwise(pl.col("severity"))
+    .alias("severity"),                                                # another severity
+])
+def test_a_changed_value_limit_or_severity_is_a_difference(change: pl.Expr) -> None:
+    agreement = compare_findings(FINDINGS, FINDINGS.with_columns(change))
+    assert not agreement.same and agreement.line().startswith("DIFFERENT (4 vs 4 findings): ")
+
+
+def test_a_missing_or_repeated_finding_is_named() -> None:
+    theirs = pl.concat([FINDINGS.head(3), FINDINGS.head(1)])
+    agreement = compare_findings(FINDINGS, theirs)
+    assert agreement.differences == ["a r1 suspect: 1 vs 2", "c r1 note: 1 vs 0"]
+
+
+def test_the_floors_cast_every_demo_column_but_the_words(tmp_path: Path) -> None:
+    csv, _ = write_demo(tmp_path / "demo.csv", n_bodies=300, seed=3)
+    assert set(jobs.TEXT_COLUMNS) < set(COLUMNS)
+    assert jobs.numeric_columns(csv) == [c for c in COLUMNS if c not in jobs.TEXT_COLUMNS]
+    for job in (jobs.floor_stream, jobs.floor_eager):
+        job(csv, tmp_path / "out.parquet")
+        written = pl.read_parquet(tmp_path / "out.parquet")
+        assert written.height == 300 and written.columns == list(COLUMNS)
+        assert written.schema["mass (earth_mass)"] == pl.Float64
+        assert written.schema["id"] == pl.String
+
+
+def test_latency_figures_are_nearest_rank_in_milliseconds() -> None:
+    tally = Tally(cap=3)
+    assert tally.add("a", 0.010, None) and tally.add("b", 0.030, "500 /x")
+    assert not tally.add("a", 0.020, None)  # the cap
+    assert tally.errors == ["b: 500 /x"] and sorted(tally.every()) == [0.010, 0.020, 0.030]
+    assert figures(tally.every()) == {"requests": 3, "median_ms": 20.0, "p95_ms": 30.0}
