@@ -73,3 +73,11 @@ def test_latency_figures_are_nearest_rank_in_milliseconds() -> None:
     assert not tally.add("a", 0.020, None)  # the cap
     assert tally.errors == ["b: 500 /x"] and sorted(tally.every()) == [0.010, 0.020, 0.030]
     assert figures(tally.every()) == {"requests": 3, "median_ms": 20.0, "p95_ms": 30.0}
+
+
+def test_a_child_past_the_memory_limit_is_killed_and_said_to_be() -> None:
+    grow = ("import time\nb = bytearray(600 * 2**20)\nb[::4096] = b'x' * len(b[::4096])\n"
+            "time.sleep(30)")
+    killed = measure([sys.executable, "-c", grow], max_mib=200)
+    assert killed.exit_code == -9 and killed.error.startswith("killed: resident memory ")
+    assert killed.error.endswith("MiB passed 200 MiB") and killed.seconds < 25

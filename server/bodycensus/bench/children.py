@@ -8,8 +8,10 @@ that could miss a short peak.
 from __future__ import annotations
 
 import os
+import signal
 import subprocess
 import tempfile
+import threading
 import time
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
@@ -32,18 +34,63 @@ class Measured:
         return self.exit_code == 0
 
 
+def resident_mib(pid: int, field: str = "VmRSS") -> float:
+    """A process's resident memory now (VmRSS) or at its peak (VmHWM), from /proc; NaN when
+    the process is gone."""
+    try:
+        lines = Path(f"/proc/{pid}/status").read_text().splitlines()
+    except OSError:
+        return float("nan")
+    for line in lines:
+        if line.startswith(f"{field}:"):
+            return int(line.split()[1]) / 1024
+    return float("nan")
+
+
+class Watchdog:
+    """Kills one child process of ours whose resident memory passes a limit, so a benchmark
+    never takes the memory other work on the machine needs; ``killed`` says what it saw."""
+
+    def __init__(self, pid: int, limit_mib: float | None, every: float = 0.2) -> None:
+        self.pid, self.limit, self.every = pid, limit_mib, every
+        self.killed: str | None = None
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._watch, daemon=True)
+        if limit_mib is not None:
+            self._thread.start()
+
+    def _watch(self) -> None:
+        while not self._stop.wait(self.every):
+            rss = resident_mib(self.pid)
+            if rss > (self.limit or 0):
+                os.kill(self.pid, signal.SIGKILL)
+                self.killed = (f"killed: resident memory {rss:,.0f} MiB passed "
+                               f"{self.limit:,.0f} MiB")
+                return
+
+    def stop(self) -> None:
+        """Stop watching (before the process is reaped, so its id is still ours)."""
+        self._stop.set()
+        if self._thread.is_alive():
+            self._thread.join()
+
+
 def measure(argv: Sequence[str | Path], stdout: IO[bytes] | int = subprocess.DEVNULL,
-            env: Mapping[str, str] | None = None) -> Measured:
-    """Run ``argv`` to its end; stderr is kept aside and its last line reported on failure."""
+            env: Mapping[str, str] | None = None, max_mib: float | None = None) -> Measured:
+    """Run ``argv`` to its end; stderr is kept aside and its last line reported on failure.
+    A child whose resident memory passes ``max_mib`` is killed and said to be."""
     with tempfile.TemporaryFile() as errors:
         started = time.perf_counter()
         child = subprocess.Popen([str(a) for a in argv], stdout=stdout, stderr=errors,
                                  env=None if env is None else dict(env))
-        _, status, usage = os.wait4(child.pid, 0)
+        watchdog = Watchdog(child.pid, max_mib)
+        os.waitid(os.P_PID, child.pid, os.WEXITED | os.WNOWAIT)  # ended, not yet reaped
         seconds = time.perf_counter() - started
+        watchdog.stop()
+        _, status, usage = os.wait4(child.pid, 0)
         child.returncode = code = os.waitstatus_to_exitcode(status)  # reaped here, not by Popen
-        error = ""
-        if code != 0:
+        error = watchdog.killed or ""
+        if code != 0 and not error:
             errors.seek(0)
             lines = errors.read().decode("utf-8", "replace").strip().splitlines()
             error = lines[-1] if lines else f"exit code {code}"

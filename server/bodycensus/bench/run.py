@@ -49,6 +49,7 @@ class BenchOptions:
     out: Path | None = None
     pandas_max_bodies: int | None = None
     latency: bool = True
+    max_mib: float | None = 16_384.0  # any measured process above this is killed
 
 
 def say(text: str) -> None:
@@ -94,13 +95,13 @@ def measure_size(bodies: int, csv: Path, folder: Path, options: BenchOptions
     scratch = folder / f"floor-{bodies}.parquet"
     for job in ("floor-stream", "floor-eager"):
         say(f"{bodies:,} bodies: {job}")
-        rows[job.replace("-", "_")] = _as_row(measure(_child("bodycensus.bench.jobs", job, csv,
-                                                             scratch)))
+        rows[job.replace("-", "_")] = _as_row(measure(
+            _child("bodycensus.bench.jobs", job, csv, scratch), max_mib=options.max_mib))
         scratch.unlink(missing_ok=True)
     run = folder / f"run-{bodies}"
     say(f"{bodies:,} bodies: bodycensus check --format json --quiet --out {run}")
     rows["check"] = _as_row(measure(_child("bodycensus", "check", csv, "--format", "json",
-                                           "--quiet", "--out", run)))
+                                           "--quiet", "--out", run), max_mib=options.max_mib))
     rows["pandas"], same = _pandas(bodies, csv, run, folder, options, rows["check"])
     return {"bodies": bodies, "csv": str(csv), "csv_mib": csv.stat().st_size / 2**20,
             "rows": rows, "same_findings": same}, run
@@ -118,7 +119,8 @@ def _pandas(bodies: int, csv: Path, run: Path, folder: Path, options: BenchOptio
         return {"not_run": why}, "not run"
     say(f"{bodies:,} bodies: pandas reference")
     found = folder / f"pandas-{bodies}.parquet"
-    measured = measure(_child("bodycensus.bench.jobs", "pandas", csv, found))
+    measured = measure(_child("bodycensus.bench.jobs", "pandas", csv, found),
+                       max_mib=options.max_mib)
     if not measured.ok or check["exit_code"] != 0:
         found.unlink(missing_ok=True)
         return _as_row(measured), "not compared (a process failed)"
@@ -143,7 +145,8 @@ def measure_latency(run: Path, bodies: int, folder: Path, options: BenchOptions
                     ) -> dict[str, Any]:
     """Serve the run folder and time each kind of request, then all mixed, per client count."""
     data_dir = folder / "serve-data"
-    with serve_run(run, data_dir) as server:
+    stopped = ""
+    with serve_run(run, data_dir, options.max_mib) as server:
         kinds = request_kinds(server.catalogue, picks(run))
         first = {}
         with httpx.Client(base_url=server.base, timeout=600) as http:
@@ -158,10 +161,16 @@ def measure_latency(run: Path, bodies: int, folder: Path, options: BenchOptions
                 say(f"latency on {bodies:,} bodies: {name}, {clients} client(s), "
                     f"{options.seconds:g} s")
                 phases.append(_phase(server, kinds, name, clients, options.seconds))
+                stopped = server.watchdog.killed or ""
+                if stopped:
+                    say(f"the server was {stopped}; latency stops here")
+                    break
+            if stopped:
+                break
         peak = server.peak_mib()
     shutil.rmtree(data_dir, ignore_errors=True)
     return {"bodies": bodies, "seconds": options.seconds, "kinds": [*kinds, MIXED],
-            "first_ms": first, "phases": phases, "server_peak_mib": peak}
+            "first_ms": first, "phases": phases, "server_peak_mib": peak, "stopped": stopped}
 
 
 def _head() -> dict[str, Any]:

@@ -24,6 +24,7 @@ from urllib.parse import quote
 import httpx
 import polars as pl
 
+from bodycensus.bench.children import Watchdog, resident_mib
 from bodycensus.bench.latency import RequestKind
 from bodycensus.science.severity import SEVERITIES
 from bodycensus.storage.runs import scan_findings
@@ -34,18 +35,17 @@ SAMPLE = 500  # bodies, systems and labels the requests pick from
 
 @dataclass(frozen=True)
 class Server:
-    """A running ``bodycensus serve``: its address, the catalogue it shows and its process."""
+    """A running ``bodycensus serve``: its address, the catalogue it shows, its process and
+    the watchdog that kills it if its memory passes the bench's limit."""
 
     base: str
     catalogue: str
     pid: int
+    watchdog: Watchdog
 
     def peak_mib(self) -> float:
         """The server process's peak resident memory so far (VmHWM)."""
-        for line in Path(f"/proc/{self.pid}/status").read_text().splitlines():
-            if line.startswith("VmHWM:"):
-                return int(line.split()[1]) / 1024
-        return float("nan")
+        return resident_mib(self.pid, "VmHWM")
 
 
 def free_port() -> int:
@@ -70,8 +70,10 @@ def _wait_ready(base: str, process: subprocess.Popen[bytes]) -> None:
 
 
 @contextmanager
-def serve_run(run_folder: Path, data_dir: Path) -> Iterator[Server]:
-    """``bodycensus serve --add-run run_folder`` on a free loopback port, stopped on exit."""
+def serve_run(run_folder: Path, data_dir: Path, max_mib: float | None = None
+              ) -> Iterator[Server]:
+    """``bodycensus serve --add-run run_folder`` on a free loopback port, stopped on exit;
+    killed as soon as its resident memory passes ``max_mib``."""
     port = free_port()
     env = {k: v for k, v in os.environ.items() if k != "BODYCENSUS_TOKEN"}
     process = subprocess.Popen(
@@ -79,11 +81,13 @@ def serve_run(run_folder: Path, data_dir: Path) -> Iterator[Server]:
          "--data-dir", str(data_dir), "--add-run", str(run_folder)],
         env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     base = f"http://127.0.0.1:{port}"
+    watchdog = Watchdog(process.pid, max_mib)
     try:
         _wait_ready(base, process)
         catalogue = json.loads((run_folder / "manifest.json").read_text(encoding="utf-8"))["id"]
-        yield Server(base, catalogue, process.pid)
+        yield Server(base, catalogue, process.pid, watchdog)
     finally:
+        watchdog.stop()
         process.terminate()
         try:
             process.wait(timeout=30)

@@ -97,13 +97,19 @@ def latency_lines(latency: Results) -> list[str]:
     for kind in latency["kinds"]:
         cells = []
         for n in clients:
-            phase = next(p for p in latency["phases"] if p["kind"] == kind and p["clients"] == n)
+            phase = next((p for p in latency["phases"] if p["kind"] == kind and
+                          p["clients"] == n), None)
+            if phase is None:
+                cells.append("not run")
+                continue
             text = f"{phase['median_ms']:.0f} / {phase['p95_ms']:.0f} ({phase['requests']})"
             cells.append(text + (f" {phase['errors']} errors" if phase["errors"] else ""))
         first = latency["first_ms"].get(kind)
         lines.append(f"{kind:<16}{'' if first is None else f'{first:.0f}':>8}"
                      + "".join(f"{c:>24}" for c in cells))
     lines.append(f"server peak memory {latency['server_peak_mib']:,.0f} MiB")
+    if latency.get("stopped"):
+        lines.append(f"the server was {latency['stopped']}; the phases after it did not run")
     return lines
 
 

@@ -35,6 +35,10 @@ def add_bench_parser(commands: Commands) -> None:
                             "(default: every size)")
     bench.add_argument("--no-latency", action="store_true",
                        help="skip serving the largest catalogue and timing the dashboard")
+    bench.add_argument("--max-mib", type=float, default=16_384.0, metavar="MIB",
+                       help="kill any measured process (or the server) whose resident memory "
+                            "passes MIB, so the machine stays usable; the table says so "
+                            "(default 16384)")
     bench.add_argument("--workdir", type=Path, default=None,
                        help="folder for scratch files, removed afterwards (default: system temp)")
     bench.add_argument("--out", type=Path, default=None, metavar="FILE.json",
@@ -48,4 +52,5 @@ def run_bench_command(args: argparse.Namespace) -> int:
     return run_bench(BenchOptions(
         bodies=tuple(args.bodies), catalogues=tuple(args.catalogue), clients=tuple(args.clients),
         seconds=args.seconds, seed=args.seed, workdir=args.workdir, out=args.out,
-        pandas_max_bodies=args.pandas_max_bodies, latency=not args.no_latency))
+        pandas_max_bodies=args.pandas_max_bodies, latency=not args.no_latency,
+        max_mib=args.max_mib))
