@@ -186,7 +186,8 @@ def _head() -> dict[str, Any]:
 
 
 def run_bench(options: BenchOptions) -> int:
-    """Measure everything, print the table on stdout, save the results when asked."""
+    """Measure everything, print the table on stdout, save the results when asked; exit code
+    1 when the pandas reference's findings differ from check's (the table says where)."""
     head = _head()
     with tempfile.TemporaryDirectory(prefix="bodycensus-bench-", dir=options.workdir) as tmp:
         folder = Path(tmp)
@@ -209,4 +210,7 @@ def run_bench(options: BenchOptions) -> int:
         options.out.write_text(json.dumps(results, indent=1), encoding="utf-8")
     sys.stdout.write(render(results))
     sys.stdout.flush()
-    return 0
+    differ = [s["bodies"] for s in sizes if s["same_findings"].startswith("DIFFERENT")]
+    if differ:
+        say(f"the pandas reference's findings differ from check's at {differ} bodies")
+    return 1 if differ else 0

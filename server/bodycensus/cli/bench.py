@@ -17,7 +17,8 @@ def add_bench_parser(commands: Commands) -> None:
                     "(scan_csv + cast + sink_parquet; read_csv + write_parquet), bodycensus "
                     "check and a plain pandas reference of the rules (wall time and peak memory "
                     "of each process, findings compared), the dashboard's latency on the largest "
-                    "catalogue, and their ratios. Progress goes to stderr, the table to stdout.")
+                    "catalogue, and their ratios. Progress goes to stderr, the table to stdout; "
+                    "the exit code is 1 when pandas' findings differ from check's.")
     bench.add_argument("--bodies", type=int, nargs="+", default=[1_000_000, 10_000_000],
                        metavar="N", help="catalogue sizes (default 1000000 10000000); a demo "
                                          "catalogue is generated for each size no --catalogue has")
