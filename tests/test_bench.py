@@ -67,11 +67,13 @@ def test_the_floors_cast_every_demo_column_but_the_words(tmp_path: Path) -> None
         assert written.schema["id"] == pl.String
 
 
-def test_latency_figures_are_nearest_rank_in_milliseconds() -> None:
-    tally = Tally(cap=3)
-    assert tally.add("a", 0.010, None) and tally.add("b", 0.030, "500 /x")
-    assert not tally.add("a", 0.020, None)  # the cap
-    assert tally.errors == ["b: 500 /x"] and sorted(tally.every()) == [0.010, 0.020, 0.030]
+def test_latency_figures_count_answers_only_and_are_nearest_rank_in_milliseconds() -> None:
+    tally = Tally(cap=4)
+    assert tally.add("a", 0.010, None) and tally.add("b", 30.0, "ConnectError /x")
+    assert tally.add("a", 0.030, None)
+    assert not tally.add("b", 0.020, None)  # the cap
+    assert tally.errors == ["b: ConnectError /x"]  # a failed request's time is no latency
+    assert sorted(tally.every()) == [0.010, 0.020, 0.030]
     assert figures(tally.every()) == {"requests": 3, "median_ms": 20.0, "p95_ms": 30.0}
 
 

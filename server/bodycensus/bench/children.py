@@ -48,21 +48,23 @@ def resident_mib(pid: int, field: str = "VmRSS") -> float:
 
 
 class Watchdog:
-    """Kills one child process of ours whose resident memory passes a limit, so a benchmark
-    never takes the memory other work on the machine needs; ``killed`` says what it saw."""
+    """Watches one child process of ours: keeps its peak resident memory (``peak``, which
+    outlives the process) and kills it when its memory passes a limit, so a benchmark never
+    takes the memory other work on the machine needs; ``killed`` says what it saw."""
 
     def __init__(self, pid: int, limit_mib: float | None, every: float = 0.2) -> None:
         self.pid, self.limit, self.every = pid, limit_mib, every
         self.killed: str | None = None
+        self.peak = 0.0
         self._stop = threading.Event()
         self._thread = threading.Thread(target=self._watch, daemon=True)
-        if limit_mib is not None:
-            self._thread.start()
+        self._thread.start()
 
     def _watch(self) -> None:
         while not self._stop.wait(self.every):
-            rss = resident_mib(self.pid)
-            if rss > (self.limit or 0):
+            rss, high = resident_mib(self.pid), resident_mib(self.pid, "VmHWM")
+            self.peak = max(self.peak, high if high == high else 0.0)  # NaN once it is gone
+            if self.limit is not None and rss > self.limit:
                 os.kill(self.pid, signal.SIGKILL)
                 self.killed = (f"killed: resident memory {rss:,.0f} MiB passed "
                                f"{self.limit:,.0f} MiB")

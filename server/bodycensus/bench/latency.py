@@ -35,16 +35,18 @@ class Tally:
     lock: threading.Lock = field(default_factory=threading.Lock)
 
     def add(self, kind: str, seconds: float, error: str | None) -> bool:
-        """Record one request; False once the cap is reached."""
+        """Record one request (the latency of an answered one, the error of another); False
+        once the cap is reached."""
         with self.lock:
-            self.latency.setdefault(kind, []).append(seconds)
             if error:
                 self.errors.append(f"{kind}: {error}")
+            else:
+                self.latency.setdefault(kind, []).append(seconds)
             self.count += 1
             return self.count < self.cap
 
     def every(self) -> list[float]:
-        """Every latency recorded, of whichever kind."""
+        """Every answered request's latency, of whichever kind."""
         return [s for values in self.latency.values() for s in values]
 
 

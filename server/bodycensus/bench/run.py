@@ -29,9 +29,8 @@ from bodycensus.bench.children import Measured, measure
 from bodycensus.bench.latency import RequestKind, run_clients, timed_get
 from bodycensus.bench.latency import figures as latency_figures
 from bodycensus.bench.same_findings import compare_findings
-from bodycensus.bench.served import Server, picks, request_kinds, serve_run
+from bodycensus.bench.served import KINDS, Server, picks, request_kinds, serve_run
 from bodycensus.bench.table import render
-from bodycensus.storage.runs import scan_findings
 
 MIXED = "mixed"
 
@@ -88,9 +87,20 @@ def _as_row(measured: Measured) -> dict[str, Any]:
     return asdict(measured)
 
 
-def measure_size(bodies: int, csv: Path, folder: Path, options: BenchOptions
-                 ) -> tuple[dict[str, Any], Path]:
-    """Every process on one catalogue; the results and the run folder check wrote."""
+def _check(csv: Path, folder: Path, options: BenchOptions, *extra: str | Path
+           ) -> tuple[dict[str, Any], Path]:
+    """``bodycensus check CSV --format json --quiet [extra]`` measured, its JSON kept."""
+    document = folder / f"check-{csv.stem}.json"
+    with document.open("wb") as out:
+        measured = measure(_child("bodycensus", "check", csv, "--format", "json", "--quiet",
+                                  *extra), stdout=out, max_mib=options.max_mib)
+    return _as_row(measured), document
+
+
+def measure_size(bodies: int, csv: Path, folder: Path, options: BenchOptions, served: bool
+                 ) -> tuple[dict[str, Any], Path | None]:
+    """Every process on one catalogue; the results and, when ``served``, the run folder a
+    second check wrote with ``--out`` for the dashboard."""
     rows: dict[str, Any] = {}
     scratch = folder / f"floor-{bodies}.parquet"
     for job in ("floor-stream", "floor-eager"):
@@ -98,16 +108,29 @@ def measure_size(bodies: int, csv: Path, folder: Path, options: BenchOptions
         rows[job.replace("-", "_")] = _as_row(measure(
             _child("bodycensus.bench.jobs", job, csv, scratch), max_mib=options.max_mib))
         scratch.unlink(missing_ok=True)
-    run = folder / f"run-{bodies}"
-    say(f"{bodies:,} bodies: bodycensus check --format json --quiet --out {run}")
-    rows["check"] = _as_row(measure(_child("bodycensus", "check", csv, "--format", "json",
-                                           "--quiet", "--out", run), max_mib=options.max_mib))
-    rows["pandas"], same = _pandas(bodies, csv, run, folder, options, rows["check"])
+    say(f"{bodies:,} bodies: bodycensus check --format json --quiet")
+    rows["check"], document = _check(csv, folder, options)
+    rows["pandas"], same = _pandas(bodies, csv, document, folder, options, rows["check"])
+    document.unlink()
+    run = None
+    if served:
+        run = folder / f"run-{bodies}"
+        say(f"{bodies:,} bodies: bodycensus check --format json --quiet --out {run}")
+        rows["check_out"], document = _check(csv, folder, options, "--out", run)
+        document.unlink()
     return {"bodies": bodies, "csv": str(csv), "csv_mib": csv.stat().st_size / 2**20,
             "rows": rows, "same_findings": same}, run
 
 
-def _pandas(bodies: int, csv: Path, run: Path, folder: Path, options: BenchOptions,
+def check_findings(document: Path) -> pl.DataFrame:
+    """The findings of check's JSON document (body, rule, severity, value, limit)."""
+    found = json.loads(document.read_text(encoding="utf-8"))["findings"]
+    schema = {"body": pl.String, "rule": pl.String, "severity": pl.String,
+              "value": pl.Float64, "limit": pl.Float64}
+    return pl.DataFrame([{k: f[k] for k in schema} for f in found], schema=schema)
+
+
+def _pandas(bodies: int, csv: Path, document: Path, folder: Path, options: BenchOptions,
             check: dict[str, Any]) -> tuple[dict[str, Any], str]:
     """The pandas reference's process and whether its findings equal check's."""
     why = jobs.pandas_available()
@@ -124,7 +147,7 @@ def _pandas(bodies: int, csv: Path, run: Path, folder: Path, options: BenchOptio
     if not measured.ok or check["exit_code"] != 0:
         found.unlink(missing_ok=True)
         return _as_row(measured), "not compared (a process failed)"
-    agreement = compare_findings(scan_findings(run).collect(), pl.read_parquet(found))
+    agreement = compare_findings(check_findings(document), pl.read_parquet(found))
     found.unlink()
     say(f"{bodies:,} bodies: findings of check and pandas {agreement.line()}")
     return _as_row(measured), agreement.line()
@@ -136,41 +159,50 @@ def _phase(server: Server, kinds: dict[str, RequestKind], name: str, clients: in
     chosen = kinds if name == MIXED else {name: kinds[name]}
     tally = run_clients(server.base, chosen, clients, seconds, seed=clients)
     if tally.errors:
-        say(f"  {tally.errors[0]}")
+        say(f"  {len(tally.errors)} errors, the first: {tally.errors[0]}")
     return {"kind": name, "clients": clients, "errors": len(tally.errors),
             **latency_figures(tally.every())}
 
 
+def _first_requests(server: Server, kinds: dict[str, RequestKind]) -> dict[str, float]:
+    """The latency (ms) of a cold first request of each kind, one after the other."""
+    first = {}
+    with httpx.Client(base_url=server.base, timeout=600) as http:
+        for name, kind in kinds.items():
+            seconds, error = timed_get(http, *kind(random.Random(0)))
+            first[name] = round(seconds * 1e3, 1)
+            if error:
+                say(f"  first {name}: {error}")
+    return first
+
+
 def measure_latency(run: Path, bodies: int, folder: Path, options: BenchOptions
                     ) -> dict[str, Any]:
-    """Serve the run folder and time each kind of request, then all mixed, per client count."""
-    data_dir = folder / "serve-data"
-    stopped = ""
-    with serve_run(run, data_dir, options.max_mib) as server:
-        kinds = request_kinds(server.catalogue, picks(run))
-        first = {}
-        with httpx.Client(base_url=server.base, timeout=600) as http:
-            for name, kind in kinds.items():  # a cold first request of each kind
-                seconds, error = timed_get(http, *kind(random.Random(0)))
-                first[name] = round(seconds * 1e3, 1)
-                if error:
-                    say(f"  first {name}: {error}")
-        phases = []
-        for clients in options.clients:
-            for name in [*kinds, MIXED]:
+    """Serve the run folder and time each kind of request, then all mixed, per client count.
+    A server the watchdog kills (memory past ``--max-mib``) marks its phase and is started
+    again for the phases left."""
+    data_dir, chosen = folder / "serve-data", picks(run)
+    plan = [(clients, name) for clients in options.clients for name in [*KINDS, MIXED]]
+    phases: list[dict[str, Any]] = []
+    first: dict[str, float] = {}
+    peak = 0.0
+    while plan:
+        with serve_run(run, data_dir, options.max_mib) as server:
+            kinds = request_kinds(server.catalogue, chosen)
+            first = first or _first_requests(server, kinds)
+            while plan:
+                clients, name = plan.pop(0)
                 say(f"latency on {bodies:,} bodies: {name}, {clients} client(s), "
                     f"{options.seconds:g} s")
                 phases.append(_phase(server, kinds, name, clients, options.seconds))
-                stopped = server.watchdog.killed or ""
-                if stopped:
-                    say(f"the server was {stopped}; latency stops here")
+                if server.watchdog.killed:
+                    phases[-1]["killed"] = server.watchdog.killed
+                    say(f"  the server was {server.watchdog.killed}; starting it again")
                     break
-            if stopped:
-                break
-        peak = server.peak_mib()
+            peak = max(peak, server.peak_mib())
     shutil.rmtree(data_dir, ignore_errors=True)
-    return {"bodies": bodies, "seconds": options.seconds, "kinds": [*kinds, MIXED],
-            "first_ms": first, "phases": phases, "server_peak_mib": peak, "stopped": stopped}
+    return {"bodies": bodies, "seconds": options.seconds, "kinds": [*KINDS, MIXED],
+            "first_ms": first, "phases": phases, "server_peak_mib": peak}
 
 
 def _head() -> dict[str, Any]:
@@ -191,20 +223,21 @@ def run_bench(options: BenchOptions) -> int:
     head = _head()
     with tempfile.TemporaryDirectory(prefix="bodycensus-bench-", dir=options.workdir) as tmp:
         folder = Path(tmp)
-        sizes, runs = [], []
-        for bodies, csv, _generated in catalogues(options, folder):
-            size, run = measure_size(bodies, csv, folder, options)
+        sizes = []
+        chosen = catalogues(options, folder)
+        run = None
+        for bodies, csv, _generated in chosen:
+            served = options.latency and bodies == chosen[-1][0]
+            size, run = measure_size(bodies, csv, folder, options, served)
             sizes.append(size)
-            runs.append((bodies, run))
             if csv.parent == folder:
                 csv.unlink()
-        largest, run = runs[-1]
         if not options.latency:
             latency: dict[str, Any] = {"not_run": "--no-latency"}
-        elif sizes[-1]["rows"]["check"]["exit_code"] != 0:
-            latency = {"not_run": "check failed, so there is no run folder to serve"}
+        elif run is None or sizes[-1]["rows"]["check_out"]["exit_code"] != 0:
+            latency = {"not_run": "check --out failed, so there is no run folder to serve"}
         else:
-            latency = measure_latency(run, largest, folder, options)
+            latency = measure_latency(run, chosen[-1][0], folder, options)
     results = {"head": head, "sizes": sizes, "latency": latency}
     if options.out is not None:
         options.out.write_text(json.dumps(results, indent=1), encoding="utf-8")

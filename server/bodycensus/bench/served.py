@@ -31,6 +31,7 @@ from bodycensus.storage.runs import scan_findings
 
 START_SECONDS = 120.0  # a server that does not answer by then has failed
 SAMPLE = 500  # bodies, systems and labels the requests pick from
+KINDS = ("overview", "findings", "histogram", "mass-radius", "body", "system", "systems")
 
 
 @dataclass(frozen=True)
@@ -44,8 +45,8 @@ class Server:
     watchdog: Watchdog
 
     def peak_mib(self) -> float:
-        """The server process's peak resident memory so far (VmHWM)."""
-        return resident_mib(self.pid, "VmHWM")
+        """The server process's peak resident memory so far (VmHWM), also once killed."""
+        return max(self.watchdog.peak, resident_mib(self.pid, "VmHWM"))
 
 
 def free_port() -> int:
@@ -119,9 +120,9 @@ def picks(run_folder: Path, seed: int = 0) -> Picks:
 
 
 def request_kinds(catalogue: str, chosen: Picks) -> dict[str, RequestKind]:
-    """Each kind of request the bench measures: a function from a random generator to (path,
-    query). JSON where the dashboard's pages fetch JSON; the diagram pages as HTML, since they
-    draw their figure on the server."""
+    """Each kind of request the bench measures (``KINDS``, in that order): a function from a
+    random generator to (path, query). JSON where the dashboard's pages fetch JSON; the
+    diagram pages as HTML, since they draw their figure on the server."""
     api, page = f"/api/catalogues/{quote(catalogue)}", f"/catalogues/{quote(catalogue)}"
     sorts = ("-margin", "severity", "value", "-limit", "body")
 

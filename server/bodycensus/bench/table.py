@@ -13,11 +13,13 @@ from collections.abc import Mapping
 from typing import Any
 
 LABEL, CELL = 44, 22
+WIDE = 32  # a latency cell: median / p95 (requests), errors
 ROWS = (  # key in a size's "rows", how the table names it
     ("floor_stream", "floor A: scan_csv, cast, sink_parquet"),
     ("floor_eager", "floor B: read_csv, cast, write_parquet"),
-    ("check", "check --format json --quiet --out DIR"),
+    ("check", "check --format json --quiet"),
     ("pandas", "pandas reference of the rules"),
+    ("check_out", "check ... --out DIR (the served run)"),
 )
 RATIOS = (  # name, numerator row, denominator row, figure, target
     ("check / floor A, time", "check", "floor_stream", "seconds", "target <= 3.0"),
@@ -93,7 +95,7 @@ def latency_lines(latency: Results) -> list[str]:
              f"{latency['seconds']:g} s per kind and number of clients), ms: "
              "median / p95 (requests)",
              f"{'request':<16}{'first':>8}" + "".join(
-                 f"{f'{n} client' + ('s' if n > 1 else ''):>24}" for n in clients)]
+                 f"{f'{n} client' + ('s' if n > 1 else ''):>{WIDE}}" for n in clients)]
     for kind in latency["kinds"]:
         cells = []
         for n in clients:
@@ -103,13 +105,16 @@ def latency_lines(latency: Results) -> list[str]:
                 cells.append("not run")
                 continue
             text = f"{phase['median_ms']:.0f} / {phase['p95_ms']:.0f} ({phase['requests']})"
-            cells.append(text + (f" {phase['errors']} errors" if phase["errors"] else ""))
+            if phase["errors"]:
+                text += f" {phase['errors']} err"
+            cells.append(text + (" KILLED" if phase.get("killed") else ""))
         first = latency["first_ms"].get(kind)
         lines.append(f"{kind:<16}{'' if first is None else f'{first:.0f}':>8}"
-                     + "".join(f"{c:>24}" for c in cells))
+                     + "".join(f"{c:>{WIDE}}" for c in cells))
     lines.append(f"server peak memory {latency['server_peak_mib']:,.0f} MiB")
-    if latency.get("stopped"):
-        lines.append(f"the server was {latency['stopped']}; the phases after it did not run")
+    lines += [f"KILLED: during {p['kind']} with {p['clients']} clients the server was "
+              f"{p['killed']}; it was started again for the phases after it"
+              for p in latency["phases"] if p.get("killed")]
     return lines
 
 
