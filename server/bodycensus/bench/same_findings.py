@@ -30,10 +30,10 @@ class Agreement:
         return not self.differences
 
     def line(self) -> str:
-        """One line for the table."""
+        """One line: "identical (N)" (N findings) or what differs, first three differences."""
         if self.same:
-            return f"identical ({self.ours:,} findings)"
-        return f"DIFFERENT ({self.ours:,} vs {self.theirs:,} findings): " + \
+            return f"identical ({self.ours:,})"
+        return f"DIFFERENT ({self.ours:,} vs {self.theirs:,}): " + \
             "; ".join(self.differences[:3])
 
 

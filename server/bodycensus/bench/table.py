@@ -81,7 +81,11 @@ def process_lines(results: Results) -> list[str]:
         cells = [_ratio(_figure(s["rows"].get(top), key), _figure(s["rows"].get(bottom), key))
                  for s in sizes]
         lines.append(_line(f"  {name}", cells, target))
-    lines.append(_line("  findings, check vs pandas", [s["same_findings"] for s in sizes]))
+    same = [s["same_findings"] for s in sizes]
+    lines.append(_line("  findings, check vs pandas", [text.split(":")[0][:CELL - 1]
+                                                          for text in same]))
+    notes += [f"  findings at {s['bodies']:,}: {text}" for s, text in zip(sizes, same, strict=True)
+              if text.startswith("DIFFERENT")]
     return lines + notes
 
 
