@@ -13,6 +13,7 @@ from bodycensus.bench import jobs
 from bodycensus.bench.children import measure
 from bodycensus.bench.latency import Tally, figures
 from bodycensus.bench.same_findings import compare_findings
+from bodycensus.bench.table import LABEL, render
 from bodycensus.demo import COLUMNS, write_demo
 
 
@@ -83,3 +84,26 @@ def test_a_child_past_the_memory_limit_is_killed_and_said_to_be() -> None:
     killed = measure([sys.executable, "-c", grow], max_mib=200)
     assert killed.exit_code == -9 and killed.error.startswith("killed: resident memory ")
     assert killed.error.endswith("MiB passed 200 MiB") and killed.seconds < 25
+
+
+def _row(seconds: float, mib: float, code: int = 0, error: str = "") -> dict[str, object]:
+    return {"seconds": seconds, "peak_mib": mib, "exit_code": code, "error": error}
+
+
+def test_the_table_bounds_the_ratios_of_a_process_killed_for_memory() -> None:
+    killed = _row(50.0, 16_400.0, -9, "killed: resident memory 16,400 MiB passed 16,384 MiB")
+    size = {"bodies": 10, "csv": "demo.csv", "csv_mib": 1.0, "same_findings": "not compared",
+            "rows": {"floor_stream": _row(2.0, 100.0), "floor_eager": _row(4.0, 400.0),
+                     "check": _row(5.0, 1_640.0), "pandas": killed}}
+    results = {"head": {"when": "now", "cores": 2, "load": 1.0, "versions": "v"},
+               "sizes": [size], "latency": {"not_run": "--no-latency"}}
+    text = render(results)
+    pandas_line = next(line for line in text.splitlines() if line.startswith("pandas"))
+    assert pandas_line.split()[-2:] == [">50.00", ">16,400"]
+    ratios = {line[:LABEL].strip(): line[LABEL:].split()[0] for line in text.splitlines()
+              if line.startswith("  ") and line[LABEL:].strip()}
+    assert ratios["check / floor A, time"] == "2.50"
+    assert ratios["pandas / check, time"] == ">10.00"
+    assert ratios["check / pandas, peak memory"] == "<0.10"
+    assert "pandas reference of the rules at 10: killed: resident memory" in text
+    assert "dashboard latency: not run (--no-latency)" in text

@@ -31,26 +31,41 @@ RATIOS = (  # name, numerator row, denominator row, figure, target
 Results = Mapping[str, Any]
 
 
-def _figure(row: Mapping[str, Any] | None, key: str) -> float | None:
-    """A measured figure, or None when the row did not run or failed."""
-    if not row or row.get("exit_code") != 0:
+Figure = tuple[float, bool]  # a measured value, and whether it is only a lower bound
+
+
+def _figure(row: Mapping[str, Any] | None, key: str) -> Figure | None:
+    """A measured figure; a lower bound for a process the watchdog killed (it needed more time
+    and memory than it had); None when the row did not run or failed otherwise."""
+    if not row or "not_run" in row:
         return None
-    return float(row[key])
+    if row["exit_code"] == 0:
+        return float(row[key]), False
+    if str(row.get("error", "")).startswith("killed:"):
+        return float(row[key]), True
+    return None
 
 
-def _ratio(a: float | None, b: float | None) -> str:
-    return f"{a / b:.2f}" if a is not None and b and not math.isnan(a / b) else "-"
+def _ratio(top: Figure | None, bottom: Figure | None) -> str:
+    """top / bottom; '>' or '<' when one side is a lower bound, '-' when it cannot be said."""
+    if top is None or bottom is None or not bottom[0] or (top[1] and bottom[1]) or \
+            math.isnan(top[0] / bottom[0]):
+        return "-"
+    return (">" if top[1] else "<" if bottom[1] else "") + f"{top[0] / bottom[0]:.2f}"
 
 
 def _cell(row: Mapping[str, Any] | None) -> str:
-    """'seconds  MiB' of one process, or why there is none."""
+    """'seconds  MiB' of one process ('>' on both for one killed past the memory limit), or
+    why there is none."""
     if row is None:
         return "-"
     if "not_run" in row:
         return "not run"
-    if row["exit_code"] != 0:
+    figure = _figure(row, "seconds")
+    if figure is None:
         return f"failed ({row['exit_code']})"
-    return f"{row['seconds']:>9.2f}{row['peak_mib']:>10,.0f}"
+    mark = ">" if figure[1] else ""
+    return f"{mark + format(row['seconds'], '.2f'):>9}{mark + format(row['peak_mib'], ',.0f'):>10}"
 
 
 def _line(label: str, cells: list[str], last: str = "") -> str:
