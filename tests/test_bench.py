@@ -3,7 +3,6 @@ findings, the floors' view of the demo's columns and the shared latency clients.
 
 from __future__ import annotations
 
-import sys
 from pathlib import Path
 
 import polars as pl
@@ -12,18 +11,35 @@ import pytest
 from bodycensus.bench import jobs
 from bodycensus.bench.children import measure
 from bodycensus.bench.latency import Tally, figures
+from bodycensus.bench.peak import own_peak_mib
 from bodycensus.bench.same_findings import compare_findings
 from bodycensus.bench.table import LABEL, render
 from bodycensus.demo import COLUMNS, write_demo
 
 
-def test_a_child_reports_its_own_peak_memory_and_its_last_error() -> None:
-    grow = "b = bytearray(300 * 2**20); b[::4096] = b'x' * len(b[::4096])"
-    big = measure([sys.executable, "-c", grow])
-    small = measure([sys.executable, "-c", "pass"])
-    assert big.ok and big.peak_mib >= 300 > small.peak_mib
-    failed = measure([sys.executable, "-c", "raise SystemExit('no such catalogue')"])
+def _script(folder: Path, code: str) -> Path:
+    path = folder / "child.py"
+    path.write_text(code, encoding="utf-8")
+    return path
+
+
+GROW = "b = bytearray(300 * 2**20)\nb[::4096] = b'x' * len(b[::4096])\n"
+
+
+def test_a_child_reports_its_own_peak_memory_not_its_parents(tmp_path: Path) -> None:
+    ballast = bytearray(700 * 2**20)
+    ballast[::4096] = b"x" * len(ballast[::4096])  # the parent resident at 700 MiB or more
+    assert own_peak_mib() >= 700
+    big = measure(_script(tmp_path, GROW))
+    small = measure(_script(tmp_path, "pass\n"))
+    assert big.ok and small.ok and big.peak_mib >= 300 > small.peak_mib, (big, small)
+    del ballast
+
+
+def test_a_failed_child_says_its_last_words(tmp_path: Path) -> None:
+    failed = measure(_script(tmp_path, "raise SystemExit('no such catalogue')\n"))
     assert failed.exit_code == 1 and failed.error == "no such catalogue"
+    assert 0 < failed.peak_mib < 300  # reported even though it failed
 
 
 FINDINGS = pl.DataFrame({
@@ -78,12 +94,13 @@ def test_latency_figures_count_answers_only_and_are_nearest_rank_in_milliseconds
     assert figures(tally.every()) == {"requests": 3, "median_ms": 20.0, "p95_ms": 30.0}
 
 
-def test_a_child_past_the_memory_limit_is_killed_and_said_to_be() -> None:
+def test_a_child_past_the_memory_limit_is_killed_and_said_to_be(tmp_path: Path) -> None:
     grow = ("import time\nb = bytearray(600 * 2**20)\nb[::4096] = b'x' * len(b[::4096])\n"
-            "time.sleep(30)")
-    killed = measure([sys.executable, "-c", grow], max_mib=200)
+            "time.sleep(30)\n")
+    killed = measure(_script(tmp_path, grow), max_mib=200)
     assert killed.exit_code == -9 and killed.error.startswith("killed: resident memory ")
     assert killed.error.endswith("MiB passed 200 MiB") and killed.seconds < 25
+    assert killed.peak_mib > 200  # the watchdog's last sample stands for its peak
 
 
 def _row(seconds: float, mib: float, code: int = 0, error: str = "") -> dict[str, object]:

@@ -1,8 +1,10 @@
-"""A child process measured from outside: its wall time and its own peak resident memory.
+"""A child process measured: its wall time from outside and its own peak resident memory.
 
-The peak comes from the kernel's resource usage of that one child (``os.wait4``), so it is the
-child's own high-water mark, not the parent's carried through fork and exec, and not a sample
-that could miss a short peak.
+The child runs its Python module under ``bench.peak``, which writes the process's own VmHWM when
+it ends: not ``ru_maxrss`` from ``os.wait4``, which also counts the parent's memory at the fork
+(a 1.2 GiB parent made ``python -c pass`` report 1,279 MiB), and not a sample that could miss a
+short peak. A child killed for memory has no report; the watchdog's last sample of its
+high-water mark stands for it.
 """
 
 from __future__ import annotations
@@ -10,11 +12,12 @@ from __future__ import annotations
 import os
 import signal
 import subprocess
+import sys
 import tempfile
 import threading
 import time
-from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from collections.abc import Mapping
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import IO
 
@@ -77,23 +80,36 @@ class Watchdog:
             self._thread.join()
 
 
-def measure(argv: Sequence[str | Path], stdout: IO[bytes] | int = subprocess.DEVNULL,
-            env: Mapping[str, str] | None = None, max_mib: float | None = None) -> Measured:
-    """Run ``argv`` to its end; stderr is kept aside and its last line reported on failure.
-    A child whose resident memory passes ``max_mib`` is killed and said to be."""
-    with tempfile.TemporaryFile() as errors:
-        started = time.perf_counter()
-        child = subprocess.Popen([str(a) for a in argv], stdout=stdout, stderr=errors,
-                                 env=None if env is None else dict(env))
-        watchdog = Watchdog(child.pid, max_mib)
-        os.waitid(os.P_PID, child.pid, os.WEXITED | os.WNOWAIT)  # ended, not yet reaped
-        seconds = time.perf_counter() - started
-        watchdog.stop()
-        _, status, usage = os.wait4(child.pid, 0)
-        child.returncode = code = os.waitstatus_to_exitcode(status)  # reaped here, not by Popen
-        error = watchdog.killed or ""
-        if code != 0 and not error:
-            errors.seek(0)
-            lines = errors.read().decode("utf-8", "replace").strip().splitlines()
-            error = lines[-1] if lines else f"exit code {code}"
-    return Measured(seconds, usage.ru_maxrss / 1024, code, error)  # ru_maxrss: KiB on Linux
+def measure(target: str | Path, *args: str | Path,
+            stdout: IO[bytes] | int = subprocess.DEVNULL, env: Mapping[str, str] | None = None,
+            max_mib: float | None = None) -> Measured:
+    """Run the Python module (or script) ``target`` with ``args`` in a child process to its
+    end; stderr is kept aside and its last line reported on failure. A child whose resident
+    memory passes ``max_mib`` is killed and said to be."""
+    with tempfile.TemporaryDirectory(prefix="bodycensus-child-") as tmp:
+        report, errors_path = Path(tmp) / "peak", Path(tmp) / "stderr"
+        argv = [sys.executable, "-m", "bodycensus.bench.peak", str(report), str(target),
+                *map(str, args)]
+        with errors_path.open("wb") as errors:
+            measured = _run(argv, stdout, errors, env, max_mib, report)
+        if measured.exit_code != 0 and not measured.error:
+            lines = errors_path.read_text("utf-8", "replace").strip().splitlines()
+            measured = replace(measured, error=lines[-1] if lines else
+                               f"exit code {measured.exit_code}")
+    return measured
+
+
+def _run(argv: list[str], stdout: IO[bytes] | int, errors: IO[bytes],
+         env: Mapping[str, str] | None, max_mib: float | None, report: Path) -> Measured:
+    """Start, watch and reap one child; its time, peak (reported, else sampled) and exit."""
+    started = time.perf_counter()
+    child = subprocess.Popen(argv, stdout=stdout, stderr=errors,
+                             env=None if env is None else dict(env))
+    watchdog = Watchdog(child.pid, max_mib)
+    os.waitid(os.P_PID, child.pid, os.WEXITED | os.WNOWAIT)  # ended, not yet reaped
+    seconds = time.perf_counter() - started
+    watchdog.stop()
+    _, status = os.waitpid(child.pid, 0)
+    child.returncode = code = os.waitstatus_to_exitcode(status)  # reaped here, not by Popen
+    peak = float(report.read_text()) if report.is_file() else watchdog.peak
+    return Measured(seconds, peak, code, watchdog.killed or "")

@@ -79,10 +79,6 @@ def catalogues(options: BenchOptions, folder: Path) -> list[tuple[int, Path, boo
     return sorted(chosen)
 
 
-def _child(*argv: str | Path) -> list[str | Path]:
-    return [sys.executable, "-m", *argv]
-
-
 def _as_row(measured: Measured) -> dict[str, Any]:
     return asdict(measured)
 
@@ -92,8 +88,8 @@ def _check(csv: Path, folder: Path, options: BenchOptions, *extra: str | Path
     """``bodycensus check CSV --format json --quiet [extra]`` measured, its JSON kept."""
     document = folder / f"check-{csv.stem}.json"
     with document.open("wb") as out:
-        measured = measure(_child("bodycensus", "check", csv, "--format", "json", "--quiet",
-                                  *extra), stdout=out, max_mib=options.max_mib)
+        measured = measure("bodycensus", "check", csv, "--format", "json", "--quiet", *extra,
+                           stdout=out, max_mib=options.max_mib)
     return _as_row(measured), document
 
 
@@ -106,7 +102,7 @@ def measure_size(bodies: int, csv: Path, folder: Path, options: BenchOptions, se
     for job in ("floor-stream", "floor-eager"):
         say(f"{bodies:,} bodies: {job}")
         rows[job.replace("-", "_")] = _as_row(measure(
-            _child("bodycensus.bench.jobs", job, csv, scratch), max_mib=options.max_mib))
+            "bodycensus.bench.jobs", job, csv, scratch, max_mib=options.max_mib))
         scratch.unlink(missing_ok=True)
     say(f"{bodies:,} bodies: bodycensus check --format json --quiet")
     rows["check"], document = _check(csv, folder, options)
@@ -142,8 +138,7 @@ def _pandas(bodies: int, csv: Path, document: Path, folder: Path, options: Bench
         return {"not_run": why}, "not run"
     say(f"{bodies:,} bodies: pandas reference")
     found = folder / f"pandas-{bodies}.parquet"
-    measured = measure(_child("bodycensus.bench.jobs", "pandas", csv, found),
-                       max_mib=options.max_mib)
+    measured = measure("bodycensus.bench.jobs", "pandas", csv, found, max_mib=options.max_mib)
     if not measured.ok or check["exit_code"] != 0:
         found.unlink(missing_ok=True)
         return _as_row(measured), "not compared"
