@@ -69,5 +69,7 @@ def test_bench_prints_one_table_with_every_process_ratio_and_latency(tmp_path: P
     phases = results["latency"]["phases"]
     assert {(p["kind"], p["clients"]) for p in phases} == {(k, n) for k in KINDS for n in (1, 16)}
     assert all(p["requests"] > 0 and p["errors"] == 0 for p in phases)
+    mixed = next(p for p in phases if p["kind"] == "mixed" and p["clients"] == 16)
+    assert sum(f["requests"] for f in mixed["by_kind"].values()) == mixed["requests"]
     assert results["latency"]["server_peak_mib"] > 30
     assert list(tmp_path.iterdir()) == [saved]  # the scratch catalogues and runs are removed

@@ -155,8 +155,11 @@ def _phase(server: Server, kinds: dict[str, RequestKind], name: str, clients: in
     tally = run_clients(server.base, chosen, clients, seconds, seed=clients)
     if tally.errors:
         say(f"  {len(tally.errors)} errors, the first: {tally.errors[0]}")
-    return {"kind": name, "clients": clients, "errors": len(tally.errors),
-            **latency_figures(tally.every())}
+    phase = {"kind": name, "clients": clients, "errors": len(tally.errors),
+             **latency_figures(tally.every())}
+    if name == MIXED:  # which kinds made the mix slow (kept in the JSON, not in the table)
+        phase["by_kind"] = {k: latency_figures(v) for k, v in sorted(tally.latency.items())}
+    return phase
 
 
 def _first_requests(server: Server, kinds: dict[str, RequestKind]) -> dict[str, float]:
