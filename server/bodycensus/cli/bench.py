@@ -13,12 +13,14 @@ def add_bench_parser(commands: Commands) -> None:
     """Register ``bench`` and its options."""
     bench = commands.add_parser(
         "bench", help="measure speed, memory and dashboard latency against baselines",
-        description="Print one table for demo catalogues of each size: plain polars floors "
-                    "(scan_csv + cast + sink_parquet; read_csv + write_parquet), bodycensus "
-                    "check and a plain pandas reference of the rules (wall time and peak memory "
-                    "of each process, findings compared), the dashboard's latency on the largest "
-                    "catalogue, and their ratios. Progress goes to stderr, the table to stdout; "
-                    "the exit code is 1 when pandas' findings differ from check's.")
+        description="Print one table for demo catalogues of each size: two plain polars "
+                    "floors (scan_csv, cast, sink_parquet; read_csv, cast, write_parquet), "
+                    "bodycensus check --format json --quiet and a plain pandas reference of the "
+                    "rules (wall time and peak memory of each process; pandas' findings compared "
+                    "with check's), then the dashboard's latency on the largest catalogue, "
+                    "served from the run folder of a second check --out, and the ratios. "
+                    "Progress goes to stderr, the table to stdout; the exit code is 1 when "
+                    "pandas' findings differ from check's.")
     bench.add_argument("--bodies", type=int, nargs="+", default=[1_000_000, 10_000_000],
                        metavar="N", help="catalogue sizes (default 1000000 10000000); a demo "
                                          "catalogue is generated for each size no --catalogue has")
