@@ -6,7 +6,6 @@ from __future__ import annotations
 
 from typing import Any
 
-import polars as pl
 import pytest
 from catalogue_builder import normalised
 from solar_system import solar_system_frame
@@ -80,10 +79,9 @@ def test_inner_sibling_is_the_next_body_inward(solar: dict[str, dict[str, Any]])
     assert solar["deimos"]["inner_id"] == "phobos"
 
 
-def _derived(rows: list[dict[str, Any]], cycle: list[str] | None = None) -> dict[str, Any]:
-    ids = pl.Series("id", cycle, dtype=pl.String) if cycle is not None else None
+def _derived(rows: list[dict[str, Any]]) -> dict[str, Any]:
     table = normalised(rows).lazy()
-    frame = derive(table, context_facts(table, ids)).collect()
+    frame = derive(table, context_facts(table)).collect()
     return {row["id"]: row for row in frame.iter_rows(named=True)}
 
 
@@ -107,8 +105,7 @@ def test_duplicates_loops_and_unit_slips_are_flagged_for_the_rules() -> None:
     slipped = {"id": "slip", "parent": "S", "family": "rock", "mass": 6e24, "radius": 6.4e3,
                "semi_major_axis": 1.5e11}  # radius in km where metres are expected
     rows = _derived([STAR, {**STAR, "id": "twin"}, {**STAR, "id": "twin"},
-                     {"id": "a", "parent": "b"}, {"id": "b", "parent": "a"}, slipped],
-                    cycle=["a", "b"])
+                     {"id": "a", "parent": "b"}, {"id": "b", "parent": "a"}, slipped])
     assert rows["twin"]["_id_count"] == 2 and rows["S"]["_id_count"] == 1
     assert rows["a"]["_in_cycle"] and not rows["S"]["_in_cycle"]
     assert rows["slip"]["_slip_hint"].startswith("radius looks 1000x too small")

@@ -3,8 +3,15 @@
 from __future__ import annotations
 
 import polars as pl
+from polars.testing import assert_frame_equal
 
-from bodycensus.science.rules.graph import cycle_members
+from bodycensus.science.rules.graph import (
+    HASH_SEED,
+    _exact_chains,
+    chain_roots,
+    cycle_members,
+    id_hash,
+)
 
 
 def _members(pairs: list[tuple[str | None, str | None]]) -> list[str]:
@@ -42,3 +49,24 @@ def test_rows_without_id_or_parent_are_ignored() -> None:
     assert _members([(None, "a"), ("a", None), (None, None)]) == []
     empty = pl.LazyFrame(schema={"id": pl.String, "parent": pl.String})
     assert cycle_members(empty).to_list() == []
+
+
+def test_the_walk_on_the_ids_text_finds_the_chains_the_walk_on_hashes_finds() -> None:
+    # the text walk runs when two ids share a 64-bit hash (too rare to plant): same roots and
+    # loops, the first row of a duplicated id deciding its parent in both
+    table = pl.LazyFrame(
+        [("sun", None), ("earth", "sun"), ("moon", "earth"), ("moon", "mars"), ("a", "b"),
+         ("b", "a"), ("c", "a"), ("o1", "ghost"), ("o2", "o1"), (None, "sun"), ("lone", None),
+         *[(f"b{i}", f"b{i - 1}" if i else "sun") for i in range(40)]],
+        schema={"id": pl.String, "parent": pl.String}, orient="row")
+    hashed = chain_roots(table)
+    text = _exact_chains(table, hashed.repeated.to_numpy())
+    assert hashed.hashed and not text.hashed
+    assert hashed.repeated.to_list() == [pl.select(pl.lit("moon").hash(seed=HASH_SEED)).item()]
+    named = text.roots.sort("id")
+    assert named.filter(pl.col("id") == "moon")["root"].item() == "sun"
+    assert named.filter(pl.col("id") == "o2")["root"].item() == "ghost"
+    assert_frame_equal(hashed.roots.sort("id"), named.select(
+        id_hash("id").alias("id"), id_hash("root").alias("root")).sort("id"))
+    assert sorted(hashed.cycle_ids.to_list()) == sorted(text.cycle_ids.to_list()) == [
+        "a", "b", "c"]

@@ -11,12 +11,16 @@ on one partition of whole systems at a time and give the same columns as on the 
 from __future__ import annotations
 
 import math
+import tempfile
 from dataclasses import dataclass
+from pathlib import Path
 
 import polars as pl
 
 from bodycensus.science.physics import bodies, orbits
 from bodycensus.science.rules.bands import band_columns, unit_slip_hint
+from bodycensus.science.rules.graph import Chains, chain_roots, id_hash
+from bodycensus.science.rules.medians import VALUE, binned_medians
 from bodycensus.science.rules.ring_context import own_ring_edges, ring_columns, rings_around
 from bodycensus.science.rules.tide_context import family_tides, tide_columns
 from bodycensus.science.rules.uncertainty_context import mass_upper_limit, uncertainty_columns
@@ -216,47 +220,60 @@ def _scored(table: pl.LazyFrame) -> pl.LazyFrame:
 
 
 def label_statistics(table: pl.LazyFrame) -> pl.DataFrame:
-    """Per label: its size, and the median and MAD of each score's value. The scores are
-    collected once, each label as a 4-byte code (a median needs every value of its group, a MAD
-    its group's median first: one group-by does both), so memory is 28 bytes a body, not the
-    table's columns."""
+    """Per label: its size, and the median and MAD of each score's value, exact, from streaming
+    passes of binned counts (``medians``: memory follows the labels and the few values near
+    each median, not the catalogue). The scores (a label's 4-byte code and three floats a body)
+    are written once to a temporary file that the four passes read."""
     labels = (table.select(pl.col("label").unique()).collect(engine="streaming")
               .with_row_index("_code"))
-    code = pl.col("label").replace_strict(labels["label"].drop_nulls(),
-                                          labels.drop_nulls("label")["_code"], default=None)
-    null_code = labels.filter(pl.col("label").is_null())["_code"]
-    coded = pl.coalesce(code, pl.lit(null_code.item() if null_code.len() else None,
-                                     pl.UInt32)).alias("_code")
-    scored = _scored(table.with_columns(coded)).collect(engine="streaming")
-    statistics = scored.group_by("_code").agg(
-        pl.len().cast(pl.UInt32).alias("_label_size"),
-        *[pl.col(score).median().alias(f"{score}_median") for score in OUTLIER_SCORES],
-        *[(pl.col(score) - pl.col(score).median()).abs().median().alias(f"{score}_mad")
-          for score in OUTLIER_SCORES])
-    return (labels.join(statistics, on="_code").drop("_code")
-            .select("label", "_label_size", *[f"{score}_{what}" for score in OUTLIER_SCORES
-                                              for what in ("median", "mad")]))
+    # a join on the small label table streams; replace_strict held the whole column
+    coded = table.join(labels.lazy(), on="label", how="left", nulls_equal=True)
+    keys = ["_code", "_score"]
+    with tempfile.TemporaryDirectory(prefix="bodycensus-scores-") as folder:
+        scored = Path(folder) / "scores.parquet"
+        # common-subexpression elimination made this pass 4x slower (polars 2.1, 10M bodies)
+        _scored(coded).sink_parquet(scored, optimizations=pl.QueryOptFlags(comm_subexpr_elim=False))
+
+        def scores() -> pl.LazyFrame:
+            return pl.concat([pl.scan_parquet(scored).select(
+                "_code", pl.lit(i, pl.UInt8).alias("_score"), pl.col(score).alias(VALUE))
+                for i, score in enumerate(OUTLIER_SCORES)])
+
+        medians = binned_medians(scores, keys)
+
+        def deviations() -> pl.LazyFrame:
+            return scores().join(medians.lazy(), on=keys).select(
+                *keys, (pl.col(VALUE) - pl.col("median")).abs().alias(VALUE))
+
+        mads = binned_medians(deviations, keys).rename({"median": "mad"})
+        sizes = (pl.scan_parquet(scored).group_by("_code")
+                 .agg(pl.len().cast(pl.UInt32).alias("_label_size")).collect(engine="streaming"))
+    both = medians.join(mads, on=keys, how="left")
+    per_label = labels.join(sizes, on="_code")
+    for i, score in enumerate(OUTLIER_SCORES):
+        mine = both.filter(pl.col("_score") == i).select(
+            "_code", pl.col("median").alias(f"{score}_median"), pl.col("mad").alias(f"{score}_mad"))
+        per_label = per_label.join(mine, on="_code", how="left")
+    return per_label.select("label", "_label_size", *[f"{score}_{what}" for score in
+                                                      OUTLIER_SCORES for what in ("median", "mad")])
 
 
-def duplicate_ids(table: pl.LazyFrame) -> pl.DataFrame:
-    """Ids that appear on more than one row, with their row counts. Ids are counted by their
-    64-bit hash first (8 bytes a body instead of the id's text); only ids whose hash repeats
-    are then counted by their text, so two ids that merely share a hash are not reported."""
-    ids = table.filter(pl.col("id").is_not_null())
-    repeated = (ids.group_by(pl.col("id").hash(seed=0).alias("_hash")).agg(pl.len().alias("n"))
-                .filter(pl.col("n") > 1).collect(engine="streaming")["_hash"])
-    return (ids.filter(pl.col("id").hash(seed=0).is_in(repeated.implode()))
+def duplicate_ids(table: pl.LazyFrame, repeated: pl.Series) -> pl.DataFrame:
+    """Ids that appear on more than one row, with their row counts. ``repeated``: the hashes
+    of ids on more than one row (``Chains.repeated``, from one sort of 8 bytes a body instead
+    of the ids' text); only those rows' ids are counted by their text, so two ids that merely
+    share a hash are not reported."""
+    return (table.filter(pl.col("id").is_not_null() & id_hash("id").is_in(repeated.implode()))
             .group_by("id").agg(pl.len().cast(pl.UInt32).alias("_id_count"))
             .filter(pl.col("_id_count") > 1).collect(engine="streaming"))
 
 
-def context_facts(table: pl.LazyFrame, cycle_ids: pl.Series | None = None) -> ContextFacts:
-    """Every catalogue-wide fact of ``table`` (cycles from ``graph`` when not given), one
-    after the other so their peaks of memory do not add up."""
-    if cycle_ids is None:
-        from bodycensus.science.rules.graph import chain_roots
-        cycle_ids = chain_roots(table).cycle_ids
-    return ContextFacts(duplicate_ids(table), label_statistics(table), cycle_ids)
+def context_facts(table: pl.LazyFrame, chains: Chains | None = None) -> ContextFacts:
+    """Every catalogue-wide fact of ``table`` (its chains of parents from ``graph`` when not
+    given), one after the other so their peaks of memory do not add up."""
+    chains = chain_roots(table) if chains is None else chains
+    return ContextFacts(duplicate_ids(table, chains.repeated), label_statistics(table),
+                        chains.cycle_ids)
 
 
 def _robust_z(score: str, value: pl.Expr) -> pl.Expr:
