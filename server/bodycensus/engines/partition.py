@@ -92,7 +92,7 @@ def catalogue_facts(table: pl.LazyFrame, overrides: Mapping[str, str] = {},
     parents ends (the partitioning needs it; the partitions do not)."""
     families = label_families(table, overrides)
     filled = fill_families(table, families, overrides)
-    chains = chain_roots(filled)
+    chains = chain_roots(table)  # ids and parents only: no families needed
     context = context_facts(filled, chains)
     facts = CatalogueFacts(families, dict(overrides), context,
                            orbit_settings or OrbitSettings())

@@ -136,9 +136,11 @@ def _exact_chains(table: pl.LazyFrame, repeated: Keys) -> Chains:
 def chain_roots(table: pl.LazyFrame) -> Chains:
     """Where each chain of parents in ``table`` (id, parent) ends, walked on id hashes."""
     keys = _hash_keys(table)
-    walked = _walk(keys["id"].to_numpy(), keys["parent"].to_numpy(),
-                   keys["has_parent"].to_numpy())
-    del keys
+    ids, parents = keys["id"].to_numpy(), keys["parent"].to_numpy()
+    has_parent = keys["has_parent"].to_numpy()
+    del keys  # the arrays are copies: hold one form at a time
+    walked = _walk(ids, parents, has_parent)
+    del ids, parents, has_parent
     if _colliding(table, walked.repeated):
         return _exact_chains(table, walked.repeated)
     ended = ~walked.looped
