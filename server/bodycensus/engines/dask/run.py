@@ -117,7 +117,8 @@ def _ingest(client: Client, files: Sequence[Path], folder: Path, options: CheckO
 def _add_bucket(part: Path, roots: Path, cycle_ids: pl.Series) -> None:
     """Add each body's system bucket (``_part``) to one normalised file (a worker's task; the
     file is replaced atomically, so a retried task does it again from the same input)."""
-    chains = Chains(pl.read_parquet(roots), cycle_ids)
+    # bucketing reads the roots and loops only; the repeated hashes served the facts
+    chains = Chains(pl.read_parquet(roots), cycle_ids, pl.Series("_hash", [], pl.UInt64))
     placed = part.with_name(part.name + f".{os.getpid()}.placed")
     with_partition(pl.scan_parquet(part).drop(PART, strict=False), chains,
                    SYSTEM_BUCKETS).sink_parquet(placed)
