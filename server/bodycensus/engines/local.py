@@ -41,7 +41,7 @@ from bodycensus.science.rules.graph import Chains
 from bodycensus.science.rules.orbit import OrbitSettings
 from bodycensus.science.severity import SEVERITY_RANK
 from bodycensus.storage.manifest import RunSummary
-from bodycensus.storage.runs import scan_bodies
+from bodycensus.storage.runs import scan_bodies, write_findings
 
 
 @dataclass(frozen=True)
@@ -165,7 +165,7 @@ def finish_run(workdir: Path, findings: pl.DataFrame, counts: pl.DataFrame,
                progress: Progress) -> CheckResult:
     """After the partitions (of either engine): write the merged findings and coverage, find the
     artefacts over the written bodies, and sum up the run; every file written atomically."""
-    _write_atomic(findings, workdir / "findings.parquet")
+    write_findings(findings, workdir)
     rule_coverage = coverage_table(counts, facts.rules())
     _write_atomic(rule_coverage, workdir / "coverage.parquet")
     progress("artefacts", 0.0)

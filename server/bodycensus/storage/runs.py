@@ -3,6 +3,10 @@
 A folder written by ``engines.local`` holds ``bodies.parquet`` (one file) or ``bodies/*.parquet``
 (one file per partition), with ``findings.parquet`` and ``artefacts.parquet`` beside them. Triage
 and comparison read only through these functions, so a change of layout is made here once.
+
+The findings are stored in the order the Findings list shows by default (most serious first,
+then furthest past the limit, then body), in small row groups with statistics: a page of that
+list is a slice that decodes one or two row groups, and a severity filter skips the others.
 """
 
 from __future__ import annotations
@@ -15,14 +19,19 @@ import polars as pl
 
 from bodycensus.durable import fsync_path
 from bodycensus.errors import NotFound
+from bodycensus.science.severity import rank_expr
 
 BODY_INDEX = "body_index.parquet"  # id -> the partition file that holds it (partitioned runs)
 INDEX_ROW_GROUP = 8192  # ids per row group: a look-up decodes one or two of them
+FINDINGS = "findings.parquet"
+FINDINGS_ROW_GROUP = 2048  # findings per row group: a page of 50 decodes one or two
+ORDER_KEY = "bodycensus.order"  # the findings file's metadata: the order its rows are in
+LIST_ORDER = "severity"  # ... the Findings list's default order (``in_list_order``)
 
 
 def is_run(folder: Path) -> bool:
     """Whether ``folder`` holds a checked catalogue (``check --keep`` or the data directory)."""
-    return folder.is_dir() and (folder / "findings.parquet").is_file()
+    return folder.is_dir() and (folder / FINDINGS).is_file()
 
 
 def scan_bodies(folder: Path) -> pl.LazyFrame:
@@ -41,6 +50,42 @@ def _parts(folder: Path) -> list[Path]:
     return sorted((folder / "bodies").glob("*.parquet"))
 
 
+def _write_atomic(frame: pl.LazyFrame | pl.DataFrame, dest: Path, row_group_size: int,
+                  metadata: dict[str, str] | None = None) -> Path:
+    """Write Parquet in row groups of ``row_group_size`` with statistics to a temporary name,
+    fsync it, then rename it into place."""
+    tmp = dest.with_name(dest.name + ".tmp")
+    if isinstance(frame, pl.LazyFrame):
+        frame.sink_parquet(tmp, row_group_size=row_group_size, statistics=True)
+    else:
+        frame.write_parquet(tmp, row_group_size=row_group_size, statistics=True,
+                            metadata=metadata)
+    fsync_path(tmp)
+    os.replace(tmp, dest)
+    return dest
+
+
+def in_list_order(findings: pl.LazyFrame, descending: bool = False) -> pl.LazyFrame:
+    """Findings in the Findings list's severity order: most serious first (last when
+    ``descending``), then furthest past the limit, then by body; ties keep their order."""
+    return findings.sort([rank_expr(), "margin", "body"], descending=[descending, True, False],
+                         nulls_last=True, maintain_order=True)
+
+
+def write_findings(findings: pl.DataFrame, folder: Path) -> Path:
+    """Write the run's findings as ``findings.parquet`` in the list's default order, in small
+    row groups with statistics, the order named in the file's metadata (fsync, then rename)."""
+    ordered = in_list_order(findings.lazy()).collect()
+    return _write_atomic(ordered, folder / FINDINGS, FINDINGS_ROW_GROUP, {ORDER_KEY: LIST_ORDER})
+
+
+def in_stored_order(folder: Path, sort: str) -> bool:
+    """Whether the findings file is stored in the order ``sort`` asks (a sort it can skip)."""
+    if sort != LIST_ORDER:
+        return False
+    return pl.read_parquet_metadata(folder / FINDINGS).get(ORDER_KEY) == LIST_ORDER
+
+
 def write_body_index(folder: Path) -> Path | None:
     """Write ``body_index.parquet`` for a partitioned run: every id with the name of the
     partition file that holds it, sorted by id in small row groups with statistics, so a body's
@@ -49,13 +94,8 @@ def write_body_index(folder: Path) -> Path | None:
     if not parts:
         return None
     ids = [pl.scan_parquet(p).select("id", part=pl.lit(p.name)) for p in parts]
-    dest = folder / BODY_INDEX
-    tmp = dest.with_name(dest.name + ".tmp")
-    (pl.concat(ids).filter(pl.col("id").is_not_null()).sort("id")
-     .sink_parquet(tmp, row_group_size=INDEX_ROW_GROUP, statistics=True))
-    fsync_path(tmp)
-    os.replace(tmp, dest)
-    return dest
+    return _write_atomic(pl.concat(ids).filter(pl.col("id").is_not_null()).sort("id"),
+                         folder / BODY_INDEX, INDEX_ROW_GROUP)
 
 
 def scan_bodies_around(folder: Path, ids: Sequence[str]) -> pl.LazyFrame:
@@ -74,7 +114,7 @@ def scan_bodies_around(folder: Path, ids: Sequence[str]) -> pl.LazyFrame:
 
 def scan_findings(folder: Path) -> pl.LazyFrame:
     """Every finding of the run, lazily."""
-    return pl.scan_parquet(folder / "findings.parquet")
+    return pl.scan_parquet(folder / FINDINGS)
 
 
 def read_artefacts(folder: Path) -> pl.DataFrame:

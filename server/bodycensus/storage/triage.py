@@ -34,8 +34,11 @@ def _table(decisions: Sequence[Decision], scope: Scope) -> pl.LazyFrame:
 
 def _with_systems(findings: pl.LazyFrame, decisions: Sequence[Decision],
                   bodies: Bodies | None) -> pl.LazyFrame:
-    """The findings with their body's system (only bodies of decided systems are looked up)."""
+    """The findings with their body's system: the system each finding carries (its body's
+    row), else looked up in the bodies (only bodies of decided systems)."""
     wanted = sorted({d.target for d in decisions if d.scope == "system"})
+    if wanted and "system" in findings.collect_schema():
+        return findings.with_columns(pl.col("system").alias(SYSTEM))
     if not wanted or bodies is None:
         return findings.with_columns(pl.lit(None, pl.String).alias(SYSTEM))
     members = (bodies().filter(pl.col("system").is_in(wanted))
@@ -71,7 +74,9 @@ def matched_keys(findings: pl.LazyFrame, decisions: Sequence[Decision],
     """The (scope, rule, target) of each decision that covers at least one finding, whether
     or not a more specific decision wins there."""
     found: set[tuple[str, str, str]] = set()
-    with_systems = _with_systems(findings.select("body", "rule", "label"), decisions, bodies)
+    have = findings.collect_schema()
+    with_systems = _with_systems(findings.select(c for c in ("body", "rule", "label", "system")
+                                                 if c in have), decisions, bodies)
     for scope in SCOPES:
         if not any(d.scope == scope for d in decisions):
             continue

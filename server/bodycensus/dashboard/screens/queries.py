@@ -41,7 +41,12 @@ from bodycensus.science.severity import SEVERITIES, name_expr, rank_expr
 from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT
 from bodycensus.storage.csvsafe import neutralise_formulas
 from bodycensus.storage.decisions import Decision
-from bodycensus.storage.runs import scan_bodies, scan_bodies_around
+from bodycensus.storage.runs import (
+    in_list_order,
+    in_stored_order,
+    scan_bodies,
+    scan_bodies_around,
+)
 from bodycensus.storage.store import json_ready, write_json_atomic
 from bodycensus.storage.triage import undecided, with_decisions
 
@@ -78,11 +83,13 @@ def _filters(state: ViewState) -> list[pl.Expr]:
     return exprs
 
 
-def filtered_findings(cat_dir: Path, state: ViewState, decisions: Sequence[Decision] = ()
-                      ) -> pl.LazyFrame:
+def filtered_findings(cat_dir: Path, state: ViewState, decisions: Sequence[Decision] = (),
+                      decided: bool = True) -> pl.LazyFrame:
     """The findings that pass the view's filters, in the view's order, with the triage decision
-    that covers each (lazy); only the undecided ones when the view asks; a diagram's region
-    keeps the findings of the bodies drawn inside it."""
+    that covers each (lazy; without it when not ``decided``, unless the view asks for the
+    undecided only); a diagram's region keeps the findings of the bodies drawn inside it. The
+    default order is the stored one, so a page of it is a slice of the file
+    (``storage.runs.write_findings``), not a sort."""
     lf = _scan(cat_dir, "findings")
     for expr in _filters(state):
         lf = lf.filter(expr)
@@ -90,24 +97,31 @@ def filtered_findings(cat_dir: Path, state: ViewState, decisions: Sequence[Decis
     if region is not None:
         inside = tables.bodies(cat_dir).filter(region).select(pl.col("id").alias("body"))
         lf = lf.join(inside, on="body", how="semi", maintain_order="left")
-    lf = with_decisions(lf, decisions, lambda: scan_bodies(cat_dir))
     if state.undecided:
-        lf = undecided(lf)
+        lf = undecided(with_decisions(lf, decisions, lambda: scan_bodies(cat_dir)))
     key, descending = state.sort_key()
-    if key == "severity":
-        return lf.sort([rank_expr(), "margin", "body"], descending=[descending, True, False],
-                       nulls_last=True)
-    return lf.sort([key, "body"], descending=[descending, False], nulls_last=True)
+    if in_stored_order(cat_dir, state.sort):
+        pass
+    elif key == "severity":
+        lf = in_list_order(lf, descending)
+    else:
+        lf = lf.sort([key, "body"], descending=[descending, False], nulls_last=True)
+    if decided and not state.undecided:
+        lf = with_decisions(lf, decisions, lambda: scan_bodies(cat_dir))
+    return lf
 
 
 def findings_page(cat_dir: Path, state: ViewState, decisions: Sequence[Decision] = ()
                   ) -> FindingsPage:
-    """One page of the filtered findings: ``{"total", "offset", "limit", "items"}``."""
-    lf = filtered_findings(cat_dir, state, decisions)
+    """One page of the filtered findings: ``{"total", "offset", "limit", "items"}``; the
+    decisions are laid over the page's findings only."""
+    lf = filtered_findings(cat_dir, state, decisions, decided=state.undecided)
     total = lf.select(pl.len()).collect().item()
-    items = lf.slice(state.offset, state.limit).collect().to_dicts()
+    page = lf.slice(state.offset, state.limit)
+    if not state.undecided:
+        page = with_decisions(page, decisions, lambda: scan_bodies(cat_dir))
     return {"total": total, "offset": state.offset, "limit": state.limit,
-            "items": json_ready(items)}
+            "items": json_ready(page.collect().to_dicts())}
 
 
 def export_findings(cat_dir: Path, state: ViewState, fmt: Literal["csv", "parquet"],
