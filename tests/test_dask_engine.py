@@ -150,6 +150,7 @@ def test_cli_writes_a_run_folder_the_dashboard_lists(by_rows: Path, tmp_path: Pa
     assert manifest["status"] == "ready" and manifest["name"] == "rows0/ (8 files)"
     assert (out / "aggregates.json").is_file() and (out / "names.parquet").is_file()
     assert (out / "body_index.parquet").is_file()  # a body's page reads its partition only
+    assert (out / "systems.parquet").is_file() and (out / "system_index.parquet").is_file()
     store = Store(tmp_path / "data")
     added = store.add_run(out)
     assert [m.id for m in store.list()] == [added.id == manifest["id"] and added.id]

@@ -2,14 +2,15 @@
 
 The engine leaves its Parquet files (bodies, findings, artefacts, coverage) in DIR; this adds what
 a ready catalogue of the data directory holds beside them (``aggregates.json``, the name and body
-indexes and ``manifest.json``), so ``bodycensus serve --add-run DIR`` shows it without reading raw
-rows again.
+indexes, the table and index of systems and ``manifest.json``), so ``bodycensus serve --add-run
+DIR`` shows it without reading raw rows again.
 """
 
 from __future__ import annotations
 
 from pathlib import Path
 
+from bodycensus.dashboard.screens.systems import write_systems
 from bodycensus.diagrams.aggregates import compute_aggregates
 from bodycensus.engines.local import CheckOptions, CheckResult
 from bodycensus.storage.manifest import Manifest
@@ -20,11 +21,13 @@ from bodycensus.storage.store import MANIFEST, new_slug, now, write_json_atomic
 
 def write_run_folder(result: CheckResult, folder: Path, name: str,
                      options: CheckOptions) -> Manifest:
-    """Write the aggregates, the name and body indexes and a ready manifest into ``folder``."""
+    """Write the aggregates, the name and body indexes, the systems' table and index and a
+    ready manifest into ``folder``."""
     write_json_atomic(folder / "aggregates.json",
                       compute_aggregates(folder, options.orbit_settings))
     write_name_index(scan_bodies(folder), folder)
     write_body_index(folder)
+    write_systems(folder)
     manifest = Manifest(
         id=new_slug(), name=name, status="ready", created=now(), source="",
         progress={"stage": "done", "fraction": 1.0}, rows=result.summary["rows"],

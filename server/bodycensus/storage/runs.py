@@ -12,6 +12,7 @@ list is a slice that decodes one or two row groups, and a severity filter skips 
 from __future__ import annotations
 
 import os
+import secrets
 from collections.abc import Sequence
 from pathlib import Path
 
@@ -50,11 +51,24 @@ def _parts(folder: Path) -> list[Path]:
     return sorted((folder / "bodies").glob("*.parquet"))
 
 
-def _write_atomic(frame: pl.LazyFrame | pl.DataFrame, dest: Path, row_group_size: int,
+def bodies_files(folder: Path) -> list[Path]:
+    """The files that hold the run's bodies, in order: its partitions, or its one file."""
+    whole = folder / "bodies.parquet"
+    return [whole] if whole.is_file() else _parts(folder)
+
+
+def scan_parts(folder: Path, names: Sequence[str]) -> pl.LazyFrame:
+    """The bodies of the named partition files only (lazy; no rows when none is named)."""
+    if not names:
+        return scan_bodies(folder).head(0)
+    return pl.scan_parquet([folder / "bodies" / name for name in sorted(set(names))])
+
+
+def write_parquet_atomic(frame: pl.LazyFrame | pl.DataFrame, dest: Path, row_group_size: int,
                   metadata: dict[str, str] | None = None) -> Path:
     """Write Parquet in row groups of ``row_group_size`` with statistics to a temporary name,
     fsync it, then rename it into place."""
-    tmp = dest.with_name(dest.name + ".tmp")
+    tmp = dest.with_name(f"{dest.name}.{secrets.token_hex(4)}.tmp")  # one per writer
     if isinstance(frame, pl.LazyFrame):
         frame.sink_parquet(tmp, row_group_size=row_group_size, statistics=True)
     else:
@@ -76,7 +90,8 @@ def write_findings(findings: pl.DataFrame, folder: Path) -> Path:
     """Write the run's findings as ``findings.parquet`` in the list's default order, in small
     row groups with statistics, the order named in the file's metadata (fsync, then rename)."""
     ordered = in_list_order(findings.lazy()).collect()
-    return _write_atomic(ordered, folder / FINDINGS, FINDINGS_ROW_GROUP, {ORDER_KEY: LIST_ORDER})
+    return write_parquet_atomic(ordered, folder / FINDINGS, FINDINGS_ROW_GROUP,
+                                {ORDER_KEY: LIST_ORDER})
 
 
 def in_stored_order(folder: Path, sort: str) -> bool:
@@ -94,7 +109,7 @@ def write_body_index(folder: Path) -> Path | None:
     if not parts:
         return None
     ids = [pl.scan_parquet(p).select("id", part=pl.lit(p.name)) for p in parts]
-    return _write_atomic(pl.concat(ids).filter(pl.col("id").is_not_null()).sort("id"),
+    return write_parquet_atomic(pl.concat(ids).filter(pl.col("id").is_not_null()).sort("id"),
                          folder / BODY_INDEX, INDEX_ROW_GROUP)
 
 
@@ -107,9 +122,7 @@ def scan_bodies_around(folder: Path, ids: Sequence[str]) -> pl.LazyFrame:
         return scan_bodies(folder)
     names = (pl.scan_parquet(index).filter(pl.col("id").is_in(list(ids))).select("part")
              .unique().collect()["part"].to_list())
-    if not names:
-        return scan_bodies(folder).head(0)
-    return pl.scan_parquet([folder / "bodies" / name for name in sorted(names)])
+    return scan_parts(folder, names)
 
 
 def scan_findings(folder: Path) -> pl.LazyFrame:

@@ -16,6 +16,7 @@ from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from bodycensus.dashboard.screens.systems import write_systems
 from bodycensus.dashboard.settings import Settings
 from bodycensus.diagrams.aggregates import compute_aggregates
 from bodycensus.engines.local import CheckOptions, check_file
@@ -126,6 +127,7 @@ def run_check(store: Store, settings: Settings, cat_id: str, overrides: Override
     write_json_atomic(work / "aggregates.json", compute_aggregates(work, options.orbit_settings))
     write_name_index(scan_bodies(work), work)
     write_body_index(work)
+    write_systems(work)
     report = result.report.to_json() if result.report is not None else None
     return store.publish(cat_id, rows=result.summary["rows"], summary=result.summary,
                          mapping=report)

@@ -14,6 +14,7 @@ from typing import Literal, TypedDict, cast
 import polars as pl
 
 from bodycensus.dashboard.screens.queries import filtered_findings
+from bodycensus.dashboard.screens.systems import scan_systems
 from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.errors import BadInput
 from bodycensus.science.severity import name_expr, rank_expr
@@ -90,7 +91,8 @@ def counts_by(cat_dir: Path, decisions: Sequence[Decision], by: Literal["body", 
         own = scan_findings(cat_dir).filter(pl.col("body").is_in(list(targets)))
         keyed = with_decisions(own, decisions, lambda: scan_bodies(cat_dir)).rename({"body": "key"})
     else:
-        members = (scan_bodies(cat_dir).filter(pl.col("system").is_in(list(targets)))
+        members = (scan_systems(cat_dir, list(targets))
+                   .filter(pl.col("system").is_in(list(targets)))
                    .select(pl.col("id").alias("body"), pl.col("system").alias("key"))
                    .unique())  # an id given twice counts in each system that lists it
         own = scan_findings(cat_dir).join(members.select("body"), on="body", how="semi")
@@ -103,9 +105,12 @@ def counts_by(cat_dir: Path, decisions: Sequence[Decision], by: Literal["body", 
 
 
 def _with_targets(cat_dir: Path, lf: pl.LazyFrame, by: Grouping) -> pl.LazyFrame:
-    """The findings with ``target``: their label, or their body's system."""
+    """The findings with ``target``: their label, or their body's system (the one each finding
+    carries, else looked up in the bodies)."""
     if by == "label":
         return lf.with_columns(pl.col("label").alias("target"))
+    if "system" in lf.collect_schema():
+        return lf.with_columns(pl.col("system").alias("target"))
     systems = (scan_bodies(cat_dir).select(pl.col("id").alias("body"),
                                            pl.col("system").alias("target"))
                .unique(subset=["body"], keep="first"))
@@ -148,8 +153,9 @@ def triage_groups(cat_dir: Path, decisions: Sequence[Decision], state: ViewState
 
 
 def system_groups(cat_dir: Path, decisions: Sequence[Decision], system: str) -> list[Group]:
-    """The findings of one system's bodies per rule: the System screen's decide table."""
-    members = (scan_bodies(cat_dir).filter(pl.col("system") == system)
+    """The findings of one system's bodies per rule: the System screen's decide table (the
+    bodies read from the system's own partitions)."""
+    members = (scan_systems(cat_dir, [system]).filter(pl.col("system") == system)
                .select(pl.col("id").alias("body")).unique())
     own = scan_findings(cat_dir).join(members, on="body", how="semi")
     lf = with_decisions(own, decisions, lambda: scan_bodies(cat_dir))

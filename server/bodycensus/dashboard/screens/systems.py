@@ -1,0 +1,125 @@
+"""The Systems list and one system's bodies from what a run keeps beside its files: a table of
+every system (``systems.parquet``: bodies, primary, findings per severity, the worst and the body
+that carries it) stored in the list's order, and an index from each system to the partition files
+holding its bodies (``system_index.parquet``, sorted by system in small row groups). Both are
+written after a run (or on the first request to an older one), so a page of the list reads a
+slice of the small table and a system's page reads only its own partitions, never every body.
+
+The table is counted one partition file at a time and the partial counts merged (a system may
+span partitions when its ``system`` cells and its chains of parents disagree), so memory follows
+a partition, not the catalogue.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import polars as pl
+
+from bodycensus.science.severity import SEVERITIES, name_expr, rank_expr
+from bodycensus.storage.runs import (
+    bodies_files,
+    scan_bodies,
+    scan_findings,
+    scan_parts,
+    write_parquet_atomic,
+)
+
+SYSTEMS = "systems.parquet"
+SYSTEM_INDEX = "system_index.parquet"
+VERSION = "1"  # in the table's metadata: a table of another version is counted again
+ROW_GROUP = 4096  # systems per row group: a page of 50 decodes one or two
+NO_SYSTEM = "(no system)"  # the group of bodies whose system is blank
+_LIST_ORDER = (["_rank", "findings", "system"], [False, True, False])  # worst, most, by name
+_BEST_PRIMARY = (["primary_mass", "primary"], [True, False])  # heaviest, then by id
+_WORST_BODY = (["worst_rank", "worst_findings"], [False, True])  # worst, then most findings
+
+
+def system_key(lf: pl.LazyFrame) -> pl.Expr:
+    """The system of each body, blanks (or a catalogue without the column) as NO_SYSTEM."""
+    column = pl.col("system") if "system" in lf.collect_schema() else pl.lit(None, pl.String)
+    return column.fill_null(NO_SYSTEM).alias("system")
+
+
+def body_findings(findings: pl.LazyFrame) -> pl.LazyFrame:
+    """Per body: number of findings, the rank of its worst, and a count per severity."""
+    return (findings.with_columns(_rank=rank_expr()).group_by("body")
+            .agg(pl.len().alias("findings"), pl.col("_rank").min(),
+                 *[(pl.col("severity") == s).sum().alias(s) for s in SEVERITIES]))
+
+
+def _first(column: str, order: tuple[list[str], list[bool]]) -> pl.Expr:
+    """The first value of ``column`` in the group, in ``order`` (nulls last; ties by row)."""
+    keys, descending = order
+    return pl.col(column).sort_by(keys, descending=descending, nulls_last=True,
+                                  maintain_order=True).first()
+
+
+def _partial(bodies: pl.LazyFrame, per_body: pl.LazyFrame) -> pl.LazyFrame:
+    """One file's bodies counted per system, with the candidates for its primary (the
+    heaviest parentless body) and its worst body, each with what ranks it."""
+    top = pl.col("parent").is_null()
+    return (bodies.select("id", "parent", "mass", system_key(bodies))
+            .join(per_body, left_on="id", right_on="body", how="left", maintain_order="left")
+            .with_columns(primary=pl.when(top).then(pl.col("id")),
+                          primary_mass=pl.when(top).then(pl.col("mass")),
+                          worst_rank=pl.col("_rank"), worst_findings=pl.col("findings"))
+            .group_by("system", maintain_order=True)
+            .agg(pl.len().alias("bodies"),
+                 *[_first(c, _BEST_PRIMARY) for c in ("primary", "primary_mass")],
+                 pl.col("findings").sum(), *[pl.col(s).sum() for s in SEVERITIES],
+                 pl.col("_rank").min(),
+                 *[_first(c, _WORST_BODY) for c in ("id", "worst_rank", "worst_findings")])
+            .rename({"id": "worst_body"}))
+
+
+def _merged(partials: pl.LazyFrame) -> pl.LazyFrame:
+    """The partial counts of every file merged per system, in the list's order."""
+    keys, descending = _LIST_ORDER
+    return (partials.group_by("system", maintain_order=True)
+            .agg(pl.col("bodies").sum(), _first("primary", _BEST_PRIMARY),
+                 pl.col("findings").sum(), *[pl.col(s).sum() for s in SEVERITIES],
+                 pl.col("_rank").min(), _first("worst_body", _WORST_BODY))
+            .with_columns(worst=name_expr("_rank"))
+            .with_columns(pl.when(pl.col("worst").is_null()).then(None)
+                          .otherwise(pl.col("worst_body")).alias("worst_body"))
+            .sort(keys, descending=descending, nulls_last=True, maintain_order=True)
+            .select("system", "bodies", "primary", "findings", *SEVERITIES, "_rank", "worst",
+                    "worst_body"))
+
+
+def write_systems(folder: Path) -> Path:
+    """Write ``systems.parquet`` (and, for a partitioned run, ``system_index.parquet``) into a
+    checked run's folder, one partition file at a time (fsync, then rename)."""
+    per_body = body_findings(scan_findings(folder)).collect().lazy()
+    partials = [_partial(pl.scan_parquet(path), per_body)
+                .with_columns(part=pl.lit(path.name)).collect() for path in bodies_files(folder)]
+    every = pl.concat(partials, how="vertical_relaxed")
+    if (folder / "bodies").is_dir():
+        write_parquet_atomic(every.select("system", "part").unique().sort("system", "part"),
+                             folder / SYSTEM_INDEX, ROW_GROUP)
+    table = _merged(every.lazy().drop("part"))
+    return write_parquet_atomic(table.collect(), folder / SYSTEMS, ROW_GROUP,
+                                {"bodycensus.systems": VERSION})
+
+
+def systems_table(folder: Path) -> pl.LazyFrame:
+    """Every system of the run in the list's order (lazy), written first when missing or of
+    another version."""
+    path = folder / SYSTEMS
+    if not path.is_file() or pl.read_parquet_metadata(path).get("bodycensus.systems") != VERSION:
+        write_systems(folder)
+    return pl.scan_parquet(path)
+
+
+def scan_systems(folder: Path, systems: list[str]) -> pl.LazyFrame:
+    """The bodies of the partition files that hold ``systems`` (lazy, unfiltered: the caller
+    keeps the systems' own bodies), through the system index where the run has one."""
+    index = folder / SYSTEM_INDEX
+    if not (folder / "bodies").is_dir():
+        return scan_bodies(folder)
+    if not index.is_file():
+        systems_table(folder)
+    parts = (pl.scan_parquet(index).filter(pl.col("system").is_in(systems)).select("part")
+             .unique().collect()["part"].to_list())
+    return scan_parts(folder, parts)
