@@ -84,18 +84,23 @@ def triage_counts(cat_dir: Path, decisions: Sequence[Decision]) -> TriageCounts:
 def counts_by(cat_dir: Path, decisions: Sequence[Decision], by: Literal["body", "system"],
               targets: Sequence[str]) -> dict[str, TriageCounts]:
     """Findings, undecided and decided per status of each listed body or system: the decision
-    badges of a list that shows bodies or systems (only the listed ones are read)."""
+    badges of a list that shows bodies or systems (only the listed ones are counted; a system's
+    findings are those whose body row is in it)."""
     if not targets:
         return {}
+    findings = scan_findings(cat_dir)
     if by == "body":
-        own = scan_findings(cat_dir).filter(pl.col("body").is_in(list(targets)))
+        own = findings.filter(pl.col("body").is_in(list(targets)))
         keyed = with_decisions(own, decisions, lambda: scan_bodies(cat_dir)).rename({"body": "key"})
+    elif "system" in findings.collect_schema():  # the system each finding carries
+        own = findings.filter(pl.col("system").is_in(list(targets)))
+        keyed = with_decisions(own, decisions).with_columns(key=pl.col("system"))
     else:
         members = (scan_systems(cat_dir, list(targets))
                    .filter(pl.col("system").is_in(list(targets)))
                    .select(pl.col("id").alias("body"), pl.col("system").alias("key"))
                    .unique())  # an id given twice counts in each system that lists it
-        own = scan_findings(cat_dir).join(members.select("body"), on="body", how="semi")
+        own = findings.join(members.select("body"), on="body", how="semi")
         keyed = (with_decisions(own, decisions, lambda: scan_bodies(cat_dir))
                  .join(members, on="body", how="left"))
     rows = (keyed.group_by("key").agg(pl.len().alias("findings"), pl.col("decision").is_null()
