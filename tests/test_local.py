@@ -13,6 +13,7 @@ from polars.testing import assert_frame_equal
 from bodycensus.engines.local import CheckOptions, check_file, check_table, with_families
 from bodycensus.science.artefacts import ARTEFACT_SCHEMA
 from bodycensus.science.rules.orbit import OrbitSettings
+from bodycensus.storage.runs import in_list_order
 
 # Earth about a Sun-like star, plus a body whose period is 4 % off Kepler's third law
 CSV = ("id,type,orbits,mass (earth_mass),radius_km,a (au),e,period_days\n"
@@ -35,7 +36,8 @@ def test_check_file_writes_the_engine_files_and_keeps_no_temporary(catalogue: Pa
     assert sorted(p.name for p in work.iterdir()) == [
         "artefacts.parquet", "bodies", "coverage.parquet", "findings.parquet"]
     assert [p.name for p in (work / "bodies").iterdir()] == ["part-00000.parquet"]
-    assert_frame_equal(pl.read_parquet(work / "findings.parquet"), result.findings)
+    assert_frame_equal(pl.read_parquet(work / "findings.parquet"),  # in the list's order
+                       in_list_order(result.findings.lazy()).collect())
     assert_frame_equal(pl.read_parquet(work / "coverage.parquet"), result.coverage)
     assert result.bodies == work / "bodies"
     assert result.report is not None and result.report.rows == 3
