@@ -155,3 +155,14 @@ def test_the_largest_pages_stay_under_two_megabytes(site: tuple[SyncClient, str]
         assert len(response.content) < MAX_RESPONSE, (path, len(response.content))
     found = client.get(f"{api}/findings", params={"limit": 1000}).json()
     assert len(found["items"]) == min(1000, found["total"]) > 500
+
+
+def test_the_overview_lists_the_strongest_artefacts_only(run: Path,
+                                                          monkeypatch: pytest.MonkeyPatch) -> None:
+    # A 10M demo finds ~10,800 artefacts: 3.4 MB of JSON when the overview carried them all.
+    everything = queries.artefacts(run)
+    assert len(everything) >= 3
+    monkeypatch.setattr(queries, "ARTEFACTS_SHOWN", 2)
+    found = queries.overview(run, {})
+    assert found["artefacts"] == everything[:2] and found["artefacts_total"] == len(everything)
+    assert queries.artefacts(run, offset=1, limit=1) == everything[1:2]

@@ -185,6 +185,7 @@ class Overview(BaseModel):
     summary: dict[str, Any]
     coverage: list[dict[str, Any]]
     artefacts: list[dict[str, Any]]
+    artefacts_total: int
 
 
 class DiagramOut(BaseModel):

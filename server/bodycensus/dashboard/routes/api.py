@@ -292,9 +292,11 @@ def get_overview(catalogue_id: str, cat_dir: ReadyDir, store: StoreDep) -> shape
 
 
 @router.get("/catalogues/{catalogue_id}/artefacts")
-def get_artefacts(cat_dir: ReadyDir) -> Sequence[Mapping[str, Any]]:
-    """Distribution artefacts: hard cutoffs, gaps and spikes, per label or family and field."""
-    return queries.artefacts(cat_dir)
+def get_artefacts(cat_dir: ReadyDir, offset: int = Query(0, ge=0, le=10**12),
+                  limit: int = Query(MAX_LIMIT, ge=1, le=MAX_LIMIT)) -> Sequence[Mapping[str, Any]]:
+    """Distribution artefacts: hard cutoffs, gaps and spikes, per label or family and field,
+    strongest evidence first; ``limit`` of them (at most 1000) from ``offset``."""
+    return queries.artefacts(cat_dir, offset, limit)
 
 
 @router.get("/catalogues/{catalogue_id}/coverage")

@@ -130,6 +130,8 @@ def overview_context(store: Store, manifest: Manifest, state: ViewState | None =
         "reading_notes": list(summary.get("reading_notes") or []),
         "artefacts": artefact_rows(cat_id, overview["artefacts"], cat_url,
                                    summary.get("label_families"), state.display),
+        "more_artefacts": overview["artefacts_total"] - len(overview["artefacts"]),
+        "artefacts_href": f"/api/catalogues/{quote(cat_id, safe='')}/artefacts",
         "diagrams": diagram_links(cat_id, cat_url),
         "views": [{**v.__dict__, "url": v.url} for v in store.list_views(cat_id)],
         "triage": triage_counts(cat_dir, decisions_of(store, cat_id)[1]),

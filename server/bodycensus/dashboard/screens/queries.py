@@ -233,12 +233,16 @@ def coverage(cat_dir: Path) -> list[CoverageRow]:
     return cast(list[CoverageRow], json_ready(_scan(cat_dir, "coverage").collect().to_dicts()))
 
 
-def artefacts(cat_dir: Path) -> list[Artefact]:
-    """The distribution artefacts found (cutoffs, gaps, spikes), strongest evidence first."""
+ARTEFACTS_SHOWN = 200  # artefacts on the overview: a 10M demo has ~10,800 (3.4 MB as JSON)
+
+
+def artefacts(cat_dir: Path, offset: int = 0, limit: int | None = None) -> list[Artefact]:
+    """The distribution artefacts found (cutoffs, gaps, spikes), strongest evidence first;
+    ``limit`` of them from ``offset`` when given."""
     lf = _scan(cat_dir, "artefacts")
     if "p_value" in lf.collect_schema():
-        lf = lf.sort("p_value", nulls_last=True)
-    return cast(list[Artefact], json_ready(lf.collect().to_dicts()))
+        lf = lf.sort("p_value", nulls_last=True, maintain_order=True)
+    return cast(list[Artefact], json_ready(lf.slice(offset, limit).collect().to_dicts()))
 
 
 @functools.lru_cache(maxsize=8)
@@ -269,8 +273,10 @@ def aggregates(cat_dir: Path) -> Aggregates:
 
 
 def overview(cat_dir: Path, manifest: Mapping[str, Any]) -> Overview:
-    """The catalogue's overview: summary counts, rule coverage, artefacts and ingest problems."""
-    found = artefacts(cat_dir)
+    """The catalogue's overview: summary counts, rule coverage, the strongest artefacts and
+    ingest problems."""
+    found = artefacts(cat_dir, limit=ARTEFACTS_SHOWN)
+    total = pl.scan_parquet(cat_dir / "artefacts.parquet").select(pl.len()).collect().item()
     return {
         "catalogue": {"id": manifest.get("id"), "name": manifest.get("name"),
                       "rows": manifest.get("rows"), "created": manifest.get("created"),
@@ -278,6 +284,7 @@ def overview(cat_dir: Path, manifest: Mapping[str, Any]) -> Overview:
         "summary": manifest.get("summary") or {},
         "coverage": coverage(cat_dir),
         "artefacts": found,
+        "artefacts_total": total,
     }
 
 

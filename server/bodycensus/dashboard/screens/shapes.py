@@ -117,12 +117,14 @@ class CatalogueBrief(TypedDict):
 
 
 class Overview(TypedDict):
-    """A catalogue's overview: its run's summary, rule coverage and artefacts."""
+    """A catalogue's overview: its run's summary, rule coverage and its strongest artefacts
+    (``ARTEFACTS_SHOWN`` at most, of ``artefacts_total``)."""
 
     catalogue: CatalogueBrief
     summary: dict[str, Any]
     coverage: list[CoverageRow]
     artefacts: list[Artefact]
+    artefacts_total: int
 
 
 class SystemRow(TypedDict):
