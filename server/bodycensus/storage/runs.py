@@ -65,12 +65,13 @@ def scan_parts(folder: Path, names: Sequence[str]) -> pl.LazyFrame:
 
 
 def write_parquet_atomic(frame: pl.LazyFrame | pl.DataFrame, dest: Path, row_group_size: int,
-                  metadata: dict[str, str] | None = None) -> Path:
-    """Write Parquet in row groups of ``row_group_size`` with statistics to a temporary name,
-    fsync it, then rename it into place."""
+                         metadata: dict[str, str] | None = None) -> Path:
+    """Write Parquet in row groups of ``row_group_size`` with statistics (and ``metadata``) to
+    a temporary name, fsync it, then rename it into place."""
     tmp = dest.with_name(f"{dest.name}.{secrets.token_hex(4)}.tmp")  # one per writer
     if isinstance(frame, pl.LazyFrame):
-        frame.sink_parquet(tmp, row_group_size=row_group_size, statistics=True)
+        frame.sink_parquet(tmp, row_group_size=row_group_size, statistics=True,
+                           metadata=metadata)
     else:
         frame.write_parquet(tmp, row_group_size=row_group_size, statistics=True,
                             metadata=metadata)
@@ -110,7 +111,7 @@ def write_body_index(folder: Path) -> Path | None:
         return None
     ids = [pl.scan_parquet(p).select("id", part=pl.lit(p.name)) for p in parts]
     return write_parquet_atomic(pl.concat(ids).filter(pl.col("id").is_not_null()).sort("id"),
-                         folder / BODY_INDEX, INDEX_ROW_GROUP)
+                                folder / BODY_INDEX, INDEX_ROW_GROUP)
 
 
 def scan_bodies_around(folder: Path, ids: Sequence[str]) -> pl.LazyFrame:
