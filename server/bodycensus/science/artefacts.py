@@ -149,9 +149,9 @@ def _lattice_step(distinct: np.ndarray) -> float:
     if len(distinct) < 2:
         return 0.0
     step = float(np.min(np.diff(distinct)))
-    units = (distinct - distinct[0]) / step
-    if units[-1] > 1e7:  # too fine to tell a lattice from float noise
+    if (distinct[-1] - distinct[0]) / step > 1e7:  # too fine to tell a lattice from float noise
         return 0.0
+    units = (distinct - distinct[0]) / step
     return step if np.all(np.abs(units - np.round(units)) < 1e-3) else 0.0
 
 
@@ -189,9 +189,17 @@ def _bin_counts(s: np.ndarray, edges: np.ndarray) -> np.ndarray:
 
 
 def _runs(s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Distinct values of a sorted sample and how many times each occurs."""
-    starts = np.r_[0, np.flatnonzero(s[1:] != s[:-1]) + 1]
-    return s[starts], np.diff(np.r_[starts, len(s)])
+    """Distinct values of a sorted sample and how many times each occurs (written into arrays
+    made once: at millions of values each temporary is tens of MB)."""
+    new = np.empty(len(s), dtype=bool)
+    new[0] = True
+    np.not_equal(s[1:], s[:-1], out=new[1:])
+    starts = np.flatnonzero(new)
+    del new
+    counts = np.empty_like(starts)
+    np.subtract(starts[1:], starts[:-1], out=counts[:-1])
+    counts[-1] = len(s) - starts[-1]
+    return s[starts], counts
 
 
 def _row(kind: str, at: float, low: float, high: float, observed: int, expected: float,
@@ -365,20 +373,67 @@ def _check_columns(table: pl.LazyFrame, fields: Sequence[str], keys: Sequence[st
                                  "pass numeric fields only")
 
 
-GroupSlice = tuple[str, int, int]  # a group's value, its first row and the row after its last
+@dataclass(frozen=True)
+class GroupCodes:
+    """One group column as small integers: the names of the groups big enough to test (sorted)
+    and each row's index into them (``len(names)`` for a row in no such group). A few bytes a
+    row, where the names as strings and per-group row lists held gigabytes at 30M bodies."""
+
+    scope: str
+    names: list[str]
+    codes: np.ndarray
+
+    def rows(self, index: int) -> np.ndarray:
+        """The rows of group ``index``, in table order."""
+        return np.flatnonzero(self.codes == index)
 
 
-def _group_slices(frame: pl.DataFrame, scope: str, min_count: int
-                  ) -> tuple[np.ndarray, list[GroupSlice]]:
-    """Row order that makes each group contiguous, and (name, start, stop) of each big group."""
-    groups = (frame.select(pl.col(scope).cast(pl.String),
-                           pl.int_range(pl.len(), dtype=pl.UInt32).alias("row"))
-              .drop_nulls(scope).group_by(scope).agg("row")
-              .filter(pl.col("row").list.len() >= min_count).sort(scope))
-    sizes = groups["row"].list.len().to_numpy()
-    slices = list(zip(groups[scope].to_list(), np.cumsum(sizes) - sizes, np.cumsum(sizes),
-                      strict=True))
-    return groups["row"].explode().to_numpy(), slices
+_CODE_TYPES = ((np.uint8, pl.UInt8()), (np.uint16, pl.UInt16()), (np.uint32, pl.UInt32()))
+
+
+def _code_type(n_names: int) -> tuple[type[np.unsignedinteger], pl.DataType]:
+    """The narrowest unsigned integer (numpy, polars) that holds every code and 'no group'."""
+    return next(t for t in _CODE_TYPES if n_names < np.iinfo(t[0]).max)
+
+
+def _fill(lazy: pl.LazyFrame, exprs: Sequence[pl.Expr], out: Sequence[np.ndarray]) -> None:
+    """Stream the columns ``exprs`` make into the preallocated arrays ``out`` (one each), batch
+    by batch, so memory holds the arrays and one batch, never a second copy of a column."""
+    start = 0
+    for batch in lazy.select(exprs).collect_batches(engine="streaming"):
+        stop = start + batch.height
+        for column, array in zip(batch.iter_columns(), out, strict=True):
+            array[start:stop] = column.to_numpy()
+        start = stop
+
+
+def _group_codes(lazy: pl.LazyFrame, scopes: Sequence[str], n_rows: int, min_count: int
+                 ) -> list[GroupCodes]:
+    """Each group column's big groups (at least ``min_count`` rows, nulls in none) and codes:
+    one streaming count per column, then one streaming pass writing every column's codes."""
+    names: list[list[str]] = []
+    exprs: list[pl.Expr] = []
+    arrays: list[np.ndarray] = []
+    for scope in scopes:
+        value = pl.col(scope).cast(pl.String)
+        sizes = (lazy.select(value).drop_nulls().group_by(scope).len()
+                 .filter(pl.col("len") >= min_count).sort(scope).collect(engine="streaming"))
+        found: list[str] = sizes[scope].to_list()
+        numpy_type, polars_type = _code_type(len(found))
+        names.append(found)
+        exprs.append(value.replace_strict(found, range(len(found)), default=len(found),
+                                          return_dtype=polars_type)
+                     .fill_null(len(found)).alias(f"_code{len(exprs)}"))
+        arrays.append(np.empty(n_rows, numpy_type))
+    _fill(lazy, exprs, arrays)
+    return [GroupCodes(*group) for group in zip(scopes, names, arrays, strict=True)]
+
+
+def _read_field(lazy: pl.LazyFrame, field: str, n_rows: int) -> np.ndarray:
+    """One field as float64 (null as NaN), streamed into one array."""
+    values = np.empty(n_rows, np.float64)
+    _fill(lazy, [pl.col(field).cast(pl.Float64)], [values])
+    return values
 
 
 def _finalise(rows: list[Artefact], n_tests: int, config: ArtefactConfig) -> pl.DataFrame:
@@ -398,26 +453,28 @@ def detect_artefacts(table: pl.DataFrame | pl.LazyFrame, fields: Sequence[str],
                      config: ArtefactConfig = ArtefactConfig()) -> pl.DataFrame:
     """Cutoffs, gaps and spikes in every field of every group, BH-controlled at ``config.fdr``.
 
-    The group columns are read once and each field on its own, so memory holds one field of
-    the table at a time, not every field."""
+    The group columns are streamed once into small integer codes and each field on its own into
+    one float64 array; each group's values are gathered, sorted and scanned one at a time. Memory
+    holds the codes (a byte a row per group column), one field and one group's working copies."""
     lazy = table.lazy()
     _check_columns(lazy, fields, group_columns)
-    frame = lazy.select(*dict.fromkeys(group_columns)).collect()
+    n_rows = lazy.select(pl.len()).collect().item()
+    groups = _group_codes(lazy, list(dict.fromkeys(group_columns)), n_rows, config.min_count)
     rows: list[Artefact] = []
     n_tests = 0
-    groups = {scope: _group_slices(frame, scope, config.min_count) for scope in group_columns}
-    del frame
     for field in fields:
-        raw = lazy.select(pl.col(field).cast(pl.Float64)).collect().to_series().to_numpy()
+        values = _read_field(lazy, field, n_rows)
         unit = _unit(field)
-        for scope, (order, slices) in groups.items():
-            values = raw[order]
-            for label, start, stop in slices:
-                s = np.sort(values[start:stop])  # NaN (and null) sort last, -inf first
+        for group in groups:
+            for index, label in enumerate(group.names):
+                s = values[group.rows(index)]
+                s.sort()  # NaN (and null) sort last, -inf first
                 s = s[np.searchsorted(s, -np.inf, "right"):np.searchsorted(s, np.inf, "left")]
                 if len(s) < config.min_count:
                     continue
                 found, tests = _scan_cell(s, unit, config)
                 n_tests += tests
-                rows += [{"scope": scope, "label": label, "field": field, **r} for r in found]
+                rows += [{"scope": group.scope, "label": label, "field": field, **r}
+                         for r in found]
+        del values
     return _finalise(rows, n_tests, config)
