@@ -186,3 +186,14 @@ def test_runs_and_lattice_step_equal_mains(sample: Sequence[float]) -> None:
     np.testing.assert_array_equal(counts, old_counts)
     assert counts.dtype == old_counts.dtype
     assert artefacts._lattice_step(distinct) == _old_lattice_step(old_distinct)
+
+
+def test_a_group_column_without_values_and_an_empty_table() -> None:
+    """No group in a column of nulls (the other column still tested); no rows, no artefacts."""
+    rng = np.random.default_rng(25)
+    table = pl.DataFrame({"label": pl.Series([None] * 400, dtype=pl.String), "family": "a",
+                          "mass": rng.uniform(0.0, 1.0, 400)})
+    new = detect_artefacts(table, ["mass"])
+    assert_frame_equal(new, reference_artefacts(table, ["mass"]))
+    assert new["scope"].to_list() == ["family"]  # uniform on [0, 1): its hard top end
+    assert detect_artefacts(table.head(0), ["mass"]).is_empty()
