@@ -20,6 +20,7 @@ from polars.testing import assert_frame_equal
 
 from bodycensus.engines.local import check_file
 from bodycensus.science import artefacts
+from bodycensus.science.artefact_columns import group_codes
 from bodycensus.science.artefacts import (
     ARTEFACT_FIELDS,
     Artefact,
@@ -171,6 +172,11 @@ def test_more_groups_than_a_byte_holds_and_integer_labels() -> None:
     new = detect_artefacts(table, ["mass"], config=config)
     assert_frame_equal(new, reference_artefacts(table, ["mass"], config=config))
     assert not new.is_empty()
+    labels, families = group_codes(table.lazy(), ["label", "family"], table.height, 100)
+    assert labels.codes.dtype == np.uint16 and families.codes.dtype == np.uint8
+    big = np.flatnonzero(np.bincount(code) >= 100)
+    assert 255 < len(big) < 300 and labels.names == sorted(str(c) for c in big)
+    np.testing.assert_array_equal(labels.rows(labels.names.index("7")), np.flatnonzero(code == 7))
 
 
 @pytest.mark.parametrize("sample", [
