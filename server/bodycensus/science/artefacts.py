@@ -13,6 +13,22 @@ fit's noise. Benjamini & Hochberg (1995) control false alarms over every hypothe
 ends, each spacing, each distinct value, per group and field) at ``ArtefactConfig.fdr``; minimum
 effect sizes keep big samples from flagging trivia. Limitation: a physical hard end (the bound
 e < 1 of orbits, a true mass floor) looks just like a generator cutoff: reported, reviewer judges.
+
+Memory: group columns become 1-2 byte codes and one field at a time one float64 array
+(``artefact_columns``); each group's values are gathered, sorted and scanned alone.
+
+Across partitions (not built yet; the distributed engine will need it). Per group and field:
+- mergeable per partition (sum, min, max): the count, the ends, counts on a fine value grid fixed
+  in advance (e.g. 2**-10 of log10, as ``rules/medians.py``) with each fine bin's min and max, and,
+  once the Freedman-Diaconis grid is fixed, its bin counts and the three bins inside each end;
+- a second pass over candidate bins only: the five order statistics (q10 ... q90: the values of
+  the fine bins holding their ranks), exact value counts where a fine bin holds more than
+  ``min_excess`` values (spike candidates) and the neighbouring values beside them, spacings
+  narrower than a fine bin (wider ones are a bin's min minus the previous bin's max);
+- a full pass, bucket by bucket of value range (each bucket sorted on its own): the number of
+  distinct values (BH counts 1 + 2 per distinct value, so it is needed exactly) and the lattice
+  step (smallest spacing between distinct values, all of them on its lattice), unless the
+  field's distinct values are few enough to carry as exact value counts.
 """
 
 from __future__ import annotations
@@ -391,9 +407,8 @@ def detect_artefacts(table: pl.DataFrame | pl.LazyFrame, fields: Sequence[str],
                      config: ArtefactConfig = ArtefactConfig()) -> pl.DataFrame:
     """Cutoffs, gaps and spikes in every field of every group, BH-controlled at ``config.fdr``.
 
-    The group columns are streamed once into small integer codes and each field on its own into
-    one float64 array; each group's values are gathered, sorted and scanned one at a time. Memory
-    holds the codes (a byte a row per group column), one field and one group's working copies."""
+    Memory holds the group codes (a byte a row per group column), one field (8 bytes a row) and
+    one group's working copies; the answers equal main 52004af's whole-table detector's."""
     lazy = table.lazy()
     _check_columns(lazy, fields, group_columns)
     n_rows = lazy.select(pl.len()).collect().item()
