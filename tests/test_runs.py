@@ -5,6 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import polars as pl
+import pyarrow.parquet as pq
 import pytest
 
 from bodycensus.dashboard.screens.queries import body_detail
@@ -12,11 +13,13 @@ from bodycensus.engines.local import CheckOptions, check_file
 from bodycensus.errors import NotFound
 from bodycensus.storage.runs import (
     BODY_INDEX,
+    BODY_ROW_GROUP,
     is_run,
     read_artefacts,
     scan_bodies,
     scan_bodies_around,
     scan_findings,
+    write_bodies_file,
     write_body_index,
 )
 
@@ -50,6 +53,21 @@ def test_a_folder_without_a_run_is_said_so(tmp_path: Path) -> None:
     assert not is_run(tmp_path) and not is_run(tmp_path / "missing")
     with pytest.raises(NotFound, match="holds no bodies"):
         scan_bodies(tmp_path)
+
+
+def test_a_bodies_file_is_written_in_small_row_groups_with_statistics(tmp_path: Path) -> None:
+    rows = 2 * BODY_ROW_GROUP + 5
+    bodies = pl.DataFrame({"id": [f"b{i:06d}" for i in range(rows)],
+                           "mass": [float(i) for i in range(rows)]})
+    for frame, name in ((bodies, "eager.parquet"), (bodies.lazy(), "lazy.parquet")):
+        dest = write_bodies_file(frame, tmp_path / name)
+        meta = pq.ParquetFile(dest).metadata
+        assert [meta.row_group(g).num_rows for g in range(meta.num_row_groups)] == [
+            BODY_ROW_GROUP, BODY_ROW_GROUP, 5]
+        last = meta.row_group(2).column(0).statistics
+        assert (last.min, last.max) == (f"b{rows - 5:06d}", f"b{rows - 1:06d}")
+        assert pl.read_parquet(dest).equals(bodies)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["eager.parquet", "lazy.parquet"]
 
 
 def test_the_body_index_reads_only_the_partition_of_a_body(tmp_path: Path) -> None:
