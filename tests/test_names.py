@@ -65,3 +65,25 @@ def test_the_index_is_sorted_in_small_row_groups(tmp_path: Path) -> None:
     stats = meta.row_group(0).column(key_column).statistics
     assert stats is not None and stats.has_min_max
     assert search(tmp_path, "b000123", 5)["id"].to_list()[:1] == ["B000123"]
+
+
+def test_an_index_written_bucket_by_bucket_equals_one_sorted_at_once(tmp_path: Path) -> None:
+    """Bounded memory: keys cut by key range into buckets, spilled a batch of bodies at a time
+    and sorted a bucket at a time give the same file as one sort of every key."""
+    count = 3000  # ids in file order, names shuffled: buckets must come from quantiles
+    many = pl.DataFrame({"id": [f"B{i:05d}" for i in range(count)],
+                         "name": [f"{w} {i * 7919 % count}" for i, w in
+                                  zip(range(count), ["Aldra", "Umwyn", "Vezarell c"] * 1000,
+                                      strict=True)] })
+    at_once, bucketed = tmp_path / "at_once", tmp_path / "bucketed"
+    at_once.mkdir(), bucketed.mkdir()
+    write_name_index(many.lazy(), at_once)
+    write_name_index(many.lazy(), bucketed, bucket_keys=1500, batch=700)
+    whole = pl.read_parquet(at_once / NAME_INDEX)
+    assert whole.height == 3000 * 2 + 3000 + 1000  # ids, names, later words ("c" and a number)
+    assert pl.read_parquet(bucketed / NAME_INDEX).equals(whole)
+    assert pq.ParquetFile(bucketed / NAME_INDEX).metadata.num_row_groups >= 5  # one per bucket
+    assert sorted(p.name for p in bucketed.iterdir()) == [NAME_INDEX]  # no scratch left
+    for text in ("b0012", "umwyn 1", "c 29", "vezarell c 2999"):
+        assert search(bucketed, text, 30).equals(search(at_once, text, 30))
+    assert names_of(bucketed, ["B00007", "B02999"]) == names_of(at_once, ["B00007", "B02999"])

@@ -23,7 +23,15 @@ from web_support import SyncClient, asgi_client
 from bodycensus.cli.run_folder import write_run_folder
 from bodycensus.dashboard.app import create_app
 from bodycensus.dashboard.screens import queries, triage
-from bodycensus.dashboard.screens.systems import SYSTEM_INDEX, SYSTEMS, systems_table
+from bodycensus.dashboard.screens.systems import (
+    SYSTEM_INDEX,
+    SYSTEMS,
+    _merged,
+    _partial,
+    body_findings,
+    systems_table,
+    write_systems,
+)
 from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.dashboard.settings import Settings
 from bodycensus.demo import write_demo
@@ -128,6 +136,24 @@ def test_an_older_run_gets_its_table_of_systems_on_the_first_request(run: Path) 
     (run / SYSTEM_INDEX).unlink()
     assert queries.systems_page(run, ViewState(limit=500)) == expected
     assert (run / SYSTEMS).is_file() and (run / SYSTEM_INDEX).is_file()
+
+
+def test_the_systems_table_written_range_by_range_equals_one_count_of_every_body(run: Path
+                                                                                ) -> None:
+    """Bounded memory: slices of 700 bodies counted apart and merged by ranges of about 3,000
+    bodies' systems give the table one count over every body at once gives, and its index."""
+    per_body = body_findings(scan_findings(run)).collect().lazy()
+    every = pl.concat([_partial(pl.scan_parquet(p), per_body).with_columns(part=pl.lit(p.name))
+                       for p in sorted((run / "bodies").glob("*.parquet"))]).collect()
+    expected = _merged(every.lazy().drop("part")).collect()
+    write_systems(run, bucket_bodies=3_000, batch=700)
+    table = pl.read_parquet(run / SYSTEMS)
+    assert table.height == expected.height > 1000 and table.equals(expected)
+    assert pq.ParquetFile(run / SYSTEMS).metadata.num_row_groups >= 5  # one range at a time
+    assert pl.read_parquet(run / SYSTEM_INDEX).equals(
+        every.select("system", "part").unique().sort("system", "part"))
+    assert not [p for p in run.iterdir() if ".spill" in p.name or p.name.endswith(".tmp")]
+    assert systems_table(run).collect().equals(expected)  # its version is current
 
 
 @pytest.fixture(scope="module")

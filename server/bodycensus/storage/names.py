@@ -4,20 +4,22 @@ name, lower-cased and sorted, so a search by id or name reads a few row groups, 
 ``names.parquet`` holds (id, name, key, kind) sorted by key in small row
 groups with statistics; a prefix search is a range on ``key`` that Parquet's row-group minima
 and maxima prune; a look-up of a page's ids is an ``is_in`` on the id keys. Written once after a
-run (``write_name_index``), or on first use for a catalogue checked before the index existed.
+run (``write_name_index``, in bounded memory: one bucket of keys sorted at a time), or on first
+use for a catalogue checked before the index existed.
 """
 
 from __future__ import annotations
 
-import os
 from pathlib import Path
 
 import polars as pl
 
-from bodycensus.durable import fsync_path
+from bodycensus.storage.sorted_spill import SAMPLE, AppendingWriter, RangeSpill, range_bounds
 
 NAME_INDEX = "names.parquet"
 ROW_GROUP = 4096  # keys per row group: a prefix search decodes one or two of them
+BUCKET_KEYS = 1_000_000  # keys sorted in memory at a time while writing the index
+BATCH = 250_000  # bodies turned into keys at a time (about four keys each)
 MAX_KEY = 120  # characters of a key kept (longer names are found by their start)
 MAX_WORDS = 4  # a name is also found from each of its 2nd to 4th words on
 _COLUMNS = ("id", "name")
@@ -41,15 +43,30 @@ def _keys(bodies: pl.LazyFrame) -> pl.LazyFrame:
         pl.col("key").str.slice(0, MAX_KEY), pl.col("kind").cast(pl.Int8))
 
 
-def write_name_index(bodies: pl.LazyFrame, folder: Path) -> Path:
-    """Write ``names.parquet`` for ``bodies`` into ``folder`` (temporary file, fsync, rename)."""
-    dest = folder / NAME_INDEX
-    tmp = dest.with_name(dest.name + ".tmp")
-    frame = _keys(bodies).sort("key").collect()
-    frame.write_parquet(tmp, row_group_size=ROW_GROUP, statistics=True)
-    fsync_path(tmp)
-    os.replace(tmp, dest)
-    return dest
+def write_name_index(bodies: pl.LazyFrame, folder: Path, bucket_keys: int = BUCKET_KEYS,
+                     batch: int = BATCH) -> Path:
+    """Write ``names.parquet`` for ``bodies`` into ``folder`` in bounded memory (temporary
+    file, fsync, rename): the keys of ``batch`` bodies at a time are spilled by key range into
+    buckets of about ``bucket_keys``, and each bucket, sorted alone, is appended to the file."""
+    keys = _keys(bodies)
+    sample = _keys(bodies.gather_every(SAMPLE)).select("key").collect()["key"]
+    bounds = range_bounds(sample, sample.len() * SAMPLE, bucket_keys)
+    with AppendingWriter(folder / NAME_INDEX, keys.collect_schema(), ROW_GROUP) as out:
+        if not bounds:
+            out.write(_sorted(keys.collect()))
+            return out.dest
+        rows = int(bodies.select(pl.len()).collect().item())
+        with RangeSpill(out.dest, "key", bounds) as spill:
+            for start in range(0, rows, batch):
+                spill.add(_keys(bodies.slice(start, batch)).collect())
+            for bucket in spill.buckets():
+                out.write(_sorted(bucket))
+    return out.dest
+
+
+def _sorted(keys: pl.DataFrame) -> pl.DataFrame:
+    """The index's rows in its order (by key; ties in one order whatever the bucketing)."""
+    return keys.sort("key", "kind", "id", "name", nulls_last=True)
 
 
 def search(folder: Path, text: str, limit: int) -> pl.DataFrame:

@@ -5,13 +5,14 @@ holding its bodies (``system_index.parquet``, sorted by system in small row grou
 written after a run (or on the first request to an older one), so a page of the list reads a
 slice of the small table and a system's page reads only its own partitions, never every body.
 
-The table is counted one partition file at a time and the partial counts merged (a system may
-span partitions when its ``system`` cells and its chains of parents disagree), so memory follows
-a partition, not the catalogue.
+The table is counted a slice of a bodies file at a time and the partial counts merged one range
+of system names at a time (a system may span partitions when its ``system`` cells and its chains
+of parents disagree), so memory follows a slice and a range, not the catalogue.
 """
 
 from __future__ import annotations
 
+import contextlib
 from pathlib import Path
 
 import polars as pl
@@ -22,13 +23,15 @@ from bodycensus.storage.runs import (
     scan_bodies,
     scan_findings,
     scan_parts,
-    write_parquet_atomic,
 )
+from bodycensus.storage.sorted_spill import SAMPLE, AppendingWriter, RangeSpill, range_bounds
 
 SYSTEMS = "systems.parquet"
 SYSTEM_INDEX = "system_index.parquet"
 VERSION = "1"  # in the table's metadata: a table of another version is counted again
 ROW_GROUP = 4096  # systems per row group: a page of 50 decodes one or two
+BUCKET_BODIES = 1_000_000  # bodies whose per-system counts are merged in memory at a time
+BATCH = 250_000  # bodies counted per system at a time (a file's rows in slices)
 NO_SYSTEM = "(no system)"  # the group of bodies whose system is blank
 _LIST_ORDER = (["_rank", "findings", "system"], [False, True, False])  # worst, most, by name
 _BEST_PRIMARY = (["primary_mass", "primary"], [True, False])  # heaviest, then by id
@@ -88,19 +91,46 @@ def _merged(partials: pl.LazyFrame) -> pl.LazyFrame:
                     "worst_body"))
 
 
-def write_systems(folder: Path) -> Path:
+def write_systems(folder: Path, bucket_bodies: int = BUCKET_BODIES, batch: int = BATCH) -> Path:
     """Write ``systems.parquet`` (and, for a partitioned run, ``system_index.parquet``) into a
-    checked run's folder, one partition file at a time (fsync, then rename)."""
+    checked run's folder in bounded memory (temporary names, fsync, rename): ``batch`` bodies
+    at a time are counted per system and spilled by ranges of system names holding about
+    ``bucket_bodies`` bodies; each range's counts are merged alone. The systems with findings
+    (as few as the findings) are sorted together and written first; the rest follow in name
+    order, range after range, which is the list's order for them."""
     per_body = body_findings(scan_findings(folder)).collect().lazy()
-    partials = [_partial(pl.scan_parquet(path), per_body)
-                .with_columns(part=pl.lit(path.name)).collect() for path in bodies_files(folder)]
-    every = pl.concat(partials, how="vertical_relaxed")
-    if (folder / "bodies").is_dir():
-        write_parquet_atomic(every.select("system", "part").unique().sort("system", "part"),
-                             folder / SYSTEM_INDEX, ROW_GROUP)
-    table = _merged(every.lazy().drop("part"))
-    return write_parquet_atomic(table.collect(), folder / SYSTEMS, ROW_GROUP,
-                                {"bodycensus.systems": VERSION})
+    bodies = scan_bodies(folder)
+    sample = bodies.gather_every(SAMPLE).select(system_key(bodies)).collect()["system"]
+    rows = int(bodies.select(pl.len()).collect().item())
+    bounds = range_bounds(sample, rows, bucket_bodies)
+    none = _merged(_partial(bodies.head(0), per_body)).collect()  # the table's columns
+    partitioned = (folder / "bodies").is_dir()
+    with RangeSpill(folder / SYSTEMS, "system", bounds) as spill:
+        for path in bodies_files(folder):
+            file = pl.scan_parquet(path)
+            for start in range(0, int(file.select(pl.len()).collect().item()), batch):
+                spill.add(_partial(file.slice(start, batch), per_body)
+                          .with_columns(part=pl.lit(path.name)).collect())
+        with contextlib.ExitStack() as stack:
+            index = (stack.enter_context(AppendingWriter(
+                folder / SYSTEM_INDEX, pl.Schema({"system": pl.String, "part": pl.String}),
+                ROW_GROUP)) if partitioned else None)
+            worst: list[pl.DataFrame] = [none]
+            for bucket in spill.buckets():
+                if index is not None:
+                    index.write(bucket.select("system", "part").unique().sort("system", "part"))
+                merged = _merged(bucket.lazy().drop("part")).collect()
+                quiet = pl.col("_rank").is_null() & (pl.col("findings") == 0)
+                worst.append(merged.filter(~quiet))
+                spill.put_aside(merged.filter(quiet))
+        keys, descending = _LIST_ORDER
+        with AppendingWriter(folder / SYSTEMS, none.schema, ROW_GROUP,
+                             {"bodycensus.systems": VERSION}) as table:
+            table.write(pl.concat(worst, how="vertical_relaxed")
+                        .sort(keys, descending=descending, nulls_last=True, maintain_order=True))
+            for quiet_rows in spill.aside():
+                table.write(quiet_rows)
+    return table.dest
 
 
 def systems_table(folder: Path) -> pl.LazyFrame:
