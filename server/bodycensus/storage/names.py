@@ -14,6 +14,7 @@ from pathlib import Path
 
 import polars as pl
 
+from bodycensus.storage.sorted_index import rows_between, rows_with
 from bodycensus.storage.sorted_spill import SAMPLE, AppendingWriter, RangeSpill, range_bounds
 
 NAME_INDEX = "names.parquet"
@@ -23,6 +24,7 @@ BATCH = 250_000  # bodies turned into keys at a time (about four keys each)
 MAX_KEY = 120  # characters of a key kept (longer names are found by their start)
 MAX_WORDS = 4  # a name is also found from each of its 2nd to 4th words on
 _COLUMNS = ("id", "name")
+_INDEX_COLUMNS = ("id", "name", "key", "kind")  # the index's columns, in its order
 _KINDS = {"id": 0, "name": 1, "word": 2}  # how a key matched, best first
 
 
@@ -55,10 +57,10 @@ def write_name_index(bodies: pl.LazyFrame, folder: Path, bucket_keys: int = BUCK
         if not bounds:
             out.write(_sorted(keys.collect()))
             return out.dest
-        rows = int(bodies.select(pl.len()).collect().item())
+        have = [c for c in _COLUMNS if c in bodies.collect_schema()]
         with RangeSpill(out.dest, "key", bounds) as spill:
-            for start in range(0, rows, batch):
-                spill.add(_keys(bodies.slice(start, batch)).collect())
+            for chunk in bodies.select(have).collect_batches(chunk_size=batch):
+                spill.add(_keys(chunk.lazy()).collect())
             for bucket in spill.buckets():
                 out.write(_sorted(bucket))
     return out.dest
@@ -75,9 +77,8 @@ def search(folder: Path, text: str, limit: int) -> pl.DataFrame:
     prefix = text.strip().lower()[:MAX_KEY]
     if not prefix:
         return pl.DataFrame(schema={c: pl.String for c in _COLUMNS})
-    found = (pl.scan_parquet(folder / NAME_INDEX)
-             .filter((pl.col("key") >= prefix) & (pl.col("key") < prefix + "\U0010ffff"))
-             .head(limit * 20).collect())
+    found = rows_between(folder / NAME_INDEX, "key", prefix, prefix + "\U0010ffff",
+                         _INDEX_COLUMNS, limit=limit * 20)
     exact = (found["key"] == prefix) & (found["kind"] == _KINDS["id"])
     return (found.with_columns(exact=~exact).sort("exact", "kind", "key", "id")
             .unique("id", keep="first", maintain_order=True).head(limit)
@@ -91,10 +92,9 @@ def names_of(folder: Path, ids: list[str]) -> dict[str, str]:
     if not ids:
         return {}
     keys = sorted({i.lower()[:MAX_KEY] for i in ids})
-    found = (pl.scan_parquet(folder / NAME_INDEX)
-             .filter(pl.col("key").is_in(keys) & (pl.col("kind") == _KINDS["id"])
-                     & pl.col("id").is_in(ids) & pl.col("name").is_not_null())
-             .select("id", "name").collect())
+    found = (rows_with(folder / NAME_INDEX, "key", keys, _INDEX_COLUMNS)
+             .filter((pl.col("kind") == _KINDS["id"]) & pl.col("id").is_in(ids)
+                     & pl.col("name").is_not_null()).select("id", "name"))
     return dict(zip(found["id"].to_list(), found["name"].to_list(), strict=True))
 
 

@@ -21,6 +21,7 @@ import polars as pl
 from bodycensus.durable import fsync_path
 from bodycensus.errors import NotFound
 from bodycensus.science.severity import rank_expr
+from bodycensus.storage.sorted_index import rows_with
 
 BODY_ROW_GROUP = 8192  # bodies per row group of a bodies file (``write_bodies_file``)
 BODY_INDEX = "body_index.parquet"  # id -> the partition file that holds it (partitioned runs)
@@ -125,13 +126,12 @@ def write_body_index(folder: Path) -> Path | None:
 def scan_bodies_around(folder: Path, ids: Sequence[str]) -> pl.LazyFrame:
     """The bodies of the partitions that hold ``ids``, lazily: with a body come its parent,
     siblings and moons (a partition holds whole chains of parents). Through the body index where
-    the run has one (the row groups' statistics prune the look-up), else every body."""
+    the run has one (its footer kept: the look-up reads one or two row groups), else every
+    body."""
     index = folder / BODY_INDEX
     if not index.is_file():
         return scan_bodies(folder)
-    names = (pl.scan_parquet(index).filter(pl.col("id").is_in(list(ids))).select("part")
-             .unique().collect()["part"].to_list())
-    return scan_parts(folder, names)
+    return scan_parts(folder, rows_with(index, "id", ids, ["id", "part"])["part"].to_list())
 
 
 def scan_findings(folder: Path) -> pl.LazyFrame:

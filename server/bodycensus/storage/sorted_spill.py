@@ -16,6 +16,7 @@ import shutil
 from collections.abc import Iterator
 from pathlib import Path
 from types import TracebackType
+from typing import Literal
 
 import polars as pl
 import pyarrow.parquet as pq
@@ -23,6 +24,7 @@ import pyarrow.parquet as pq
 from bodycensus.durable import fsync_path
 
 SAMPLE = 64  # every SAMPLE-th row's key places the buckets' bounds
+SCRATCH_COMPRESSION: Literal["lz4"] = "lz4"  # spilled pieces are read once: fast over small
 
 
 def range_bounds(sample: pl.Series, rows: int, bucket_rows: int) -> list[str]:
@@ -60,7 +62,8 @@ class RangeSpill:
                 "_bucket", as_dict=True).items():
             into = self.folder / f"{number:05d}"
             into.mkdir(exist_ok=True)
-            piece.drop("_bucket").write_parquet(into / f"{self._pieces:08d}.parquet")
+            piece.drop("_bucket").write_parquet(into / f"{self._pieces:08d}.parquet",
+                                                compression=SCRATCH_COMPRESSION)
         self._pieces += 1
 
     def buckets(self) -> Iterator[pl.DataFrame]:
@@ -77,7 +80,7 @@ class RangeSpill:
         """Keep ``rows`` on disk to be written after others (``aside`` gives them back)."""
         into = self.folder / "aside"
         into.mkdir(exist_ok=True)
-        rows.write_parquet(into / f"{self._pieces:08d}.parquet")
+        rows.write_parquet(into / f"{self._pieces:08d}.parquet", compression=SCRATCH_COMPRESSION)
         self._pieces += 1
 
     def aside(self) -> Iterator[pl.DataFrame]:
@@ -101,7 +104,8 @@ class AppendingWriter:
         empty = pl.DataFrame(schema=schema).to_arrow()
         self.schema = empty.schema.with_metadata(metadata or {})
         self.row_group_size = row_group_size
-        self._writer = pq.ParquetWriter(self.tmp, self.schema, write_statistics=True)
+        self._writer = pq.ParquetWriter(self.tmp, self.schema, write_statistics=True,
+                                        compression="zstd")  # as polars writes
 
     def __enter__(self) -> AppendingWriter:
         return self

@@ -24,6 +24,7 @@ from bodycensus.storage.runs import (
     scan_findings,
     scan_parts,
 )
+from bodycensus.storage.sorted_index import rows_with
 from bodycensus.storage.sorted_spill import SAMPLE, AppendingWriter, RangeSpill, range_bounds
 
 SYSTEMS = "systems.parquet"
@@ -150,6 +151,5 @@ def scan_systems(folder: Path, systems: list[str]) -> pl.LazyFrame:
         return scan_bodies(folder)
     if not index.is_file():
         systems_table(folder)
-    parts = (pl.scan_parquet(index).filter(pl.col("system").is_in(systems)).select("part")
-             .unique().collect()["part"].to_list())
-    return scan_parts(folder, parts)
+    return scan_parts(folder, rows_with(index, "system", systems, ["system", "part"])["part"]
+                      .to_list())
