@@ -34,7 +34,8 @@ def test_check_file_writes_the_engine_files_and_keeps_no_temporary(catalogue: Pa
     work = tmp_path / "work"
     result = check_file(catalogue, work)
     assert sorted(p.name for p in work.iterdir()) == [
-        "artefacts.parquet", "bodies", "coverage.parquet", "findings.parquet"]
+        "artefacts.parquet", "bodies", "coverage.parquet", "findings.parquet",
+        "findings_by_body.parquet", "findings_by_system.parquet"]
     assert [p.name for p in (work / "bodies").iterdir()] == ["part-00000.parquet"]
     assert_frame_equal(pl.read_parquet(work / "findings.parquet"),  # in the list's order
                        in_list_order(result.findings.lazy()).collect())

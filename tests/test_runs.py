@@ -14,6 +14,8 @@ from bodycensus.errors import NotFound
 from bodycensus.storage.runs import (
     BODY_INDEX,
     BODY_ROW_GROUP,
+    FINDINGS_BY,
+    findings_of,
     is_run,
     read_artefacts,
     scan_bodies,
@@ -68,6 +70,25 @@ def test_a_bodies_file_is_written_in_small_row_groups_with_statistics(tmp_path: 
         assert (last.min, last.max) == (f"b{rows - 5:06d}", f"b{rows - 1:06d}")
         assert pl.read_parquet(dest).equals(bodies)
     assert sorted(p.name for p in tmp_path.iterdir()) == ["eager.parquet", "lazy.parquet"]
+
+
+def test_the_findings_of_bodies_and_systems_come_from_their_sorted_copies(tmp_path: Path
+                                                                          ) -> None:
+    run = tmp_path / "run"
+    check_file(SAMPLE, run, CheckOptions(partition_rows=1_000))
+    every = scan_findings(run).collect()
+    assert every.height > 100
+    for column in ("body", "system"):
+        copy = pl.read_parquet(run / FINDINGS_BY[column])
+        assert copy[column].drop_nulls().is_sorted() and copy.height == every.height
+        keys = every[column].drop_nulls().unique().sort().gather_every(3).to_list() + ["none"]
+        expected = every.filter(pl.col(column).is_in(keys))
+        (run / FINDINGS_BY[column]).rename(tmp_path / "kept")  # a run without it: a filter
+        assert findings_of(run, column, keys).collect().equals(expected)
+        (tmp_path / "kept").rename(run / FINDINGS_BY[column])
+        found = findings_of(run, column, keys).collect()
+        assert found.schema == expected.schema
+        assert found.equals(expected.sort(column, maintain_order=True))  # list order by key
 
 
 def test_the_body_index_reads_only_the_partition_of_a_body(tmp_path: Path) -> None:

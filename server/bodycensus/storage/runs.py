@@ -28,6 +28,8 @@ BODY_INDEX = "body_index.parquet"  # id -> the partition file that holds it (par
 INDEX_ROW_GROUP = 8192  # ids per row group: a look-up decodes one or two of them
 FINDINGS = "findings.parquet"
 FINDINGS_ROW_GROUP = 2048  # findings per row group: a page of 50 decodes one or two
+FINDINGS_BY = {"body": "findings_by_body.parquet",  # copies of the findings sorted by a column
+               "system": "findings_by_system.parquet"}
 ORDER_KEY = "bodycensus.order"  # the findings file's metadata: the order its rows are in
 LIST_ORDER = "severity"  # ... the Findings list's default order (``in_list_order``)
 
@@ -98,10 +100,25 @@ def in_list_order(findings: pl.LazyFrame, descending: bool = False) -> pl.LazyFr
 
 def write_findings(findings: pl.DataFrame, folder: Path) -> Path:
     """Write the run's findings as ``findings.parquet`` in the list's default order, in small
-    row groups with statistics, the order named in the file's metadata (fsync, then rename)."""
+    row groups with statistics, the order named in the file's metadata, and a copy sorted by
+    body and one by system (``findings_of``) (each: fsync, then rename)."""
     ordered = in_list_order(findings.lazy()).collect()
+    for column, name in FINDINGS_BY.items():
+        if column in ordered.columns:
+            write_parquet_atomic(ordered.sort(column, nulls_last=True, maintain_order=True),
+                                 folder / name, FINDINGS_ROW_GROUP)
     return write_parquet_atomic(ordered, folder / FINDINGS, FINDINGS_ROW_GROUP,
                                 {ORDER_KEY: LIST_ORDER})
+
+
+def findings_of(folder: Path, column: str, keys: Sequence[str]) -> pl.LazyFrame:
+    """The findings whose ``column`` (``body`` or ``system``) is one of ``keys``, in the list's
+    order within each key: from the copy sorted by that column where the run has it (a
+    look-up of one or two row groups), else a filter of every finding."""
+    copy = folder / FINDINGS_BY[column]
+    if not copy.is_file():
+        return scan_findings(folder).filter(pl.col(column).is_in(list(keys)))
+    return rows_with(copy, column, keys).lazy()
 
 
 def in_stored_order(folder: Path, sort: str) -> bool:

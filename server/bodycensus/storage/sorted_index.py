@@ -60,26 +60,29 @@ def _groups(found: Footer, low: str, high: str) -> list[int]:
     return list(range(first, last))
 
 
-def _read(path: Path, found: Footer, groups: list[int], columns: Sequence[str]
+def _read(path: Path, found: Footer, groups: list[int], columns: Sequence[str] | None
           ) -> pl.DataFrame:
-    """The chosen row groups' ``columns`` (no group: an empty frame of those columns)."""
+    """The chosen row groups' ``columns`` (all when None; no group: an empty frame)."""
     file = pq.ParquetFile(path, metadata=found.metadata)
-    table = file.read_row_groups(sorted(set(groups)), columns=list(columns))
+    table = file.read_row_groups(sorted(set(groups)),
+                                 columns=None if columns is None else list(columns))
     return pl.DataFrame(pl.from_arrow(table))
 
 
-def _with(column: str, columns: Sequence[str]) -> list[str]:
-    """``columns`` and the key ``column`` (read to filter on), each once."""
-    return list(dict.fromkeys([column, *columns]))
+def _with(column: str, columns: Sequence[str] | None) -> list[str] | None:
+    """``columns`` and the key ``column`` (read to filter on), each once; None is every one."""
+    return None if columns is None else list(dict.fromkeys([column, *columns]))
 
 
-def rows_with(path: Path, column: str, keys: Sequence[str], columns: Sequence[str]
-              ) -> pl.DataFrame:
-    """The rows of ``path`` (sorted by ``column``) whose ``column`` is one of ``keys``."""
+def rows_with(path: Path, column: str, keys: Sequence[str],
+              columns: Sequence[str] | None = None) -> pl.DataFrame:
+    """The rows of ``path`` (sorted by ``column``) whose ``column`` is one of ``keys``, in
+    the file's order (``columns`` of them, or all)."""
     found = footer(path, column)
     groups = [g for key in set(keys) for g in _groups(found, key, key)]
-    return (_read(path, found, groups, _with(column, columns))
-            .filter(pl.col(column).is_in(list(keys))).select(columns))
+    rows = _read(path, found, groups, _with(column, columns)).filter(
+        pl.col(column).is_in(list(keys)))
+    return rows if columns is None else rows.select(columns)
 
 
 def rows_between(path: Path, column: str, low: str, high: str, columns: Sequence[str],

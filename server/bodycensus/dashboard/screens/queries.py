@@ -50,6 +50,7 @@ from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT
 from bodycensus.storage.csvsafe import neutralise_formulas
 from bodycensus.storage.decisions import Decision
 from bodycensus.storage.runs import (
+    findings_of,
     in_list_order,
     in_stored_order,
     scan_bodies,
@@ -177,7 +178,7 @@ def _worst(cat_dir: Path, ids: list[str]) -> dict[str, str]:
     """The most serious severity found for each of ``ids``."""
     if not ids:
         return {}
-    df = (_scan(cat_dir, "findings").filter(pl.col("body").is_in(ids))
+    df = (findings_of(cat_dir, "body", ids)
           .group_by("body").agg(pl.col("severity").sort_by(rank_expr()).first()).collect())
     return dict(zip(df["body"].to_list(), df["severity"].to_list(), strict=True))
 
@@ -216,7 +217,7 @@ def body_detail(cat_dir: Path, body_id: str, mapping: Mapping[str, Any] | None,
     derived = {k: v for k, v in row.items() if k in DERIVED_COLUMNS}
     extra = {k: v for k, v in row.items()
              if k not in hidden and k not in DERIVED_COLUMNS and not k.startswith("_")}
-    own = _scan(cat_dir, "findings").filter(pl.col("body") == body_id)
+    own = findings_of(cat_dir, "body", [body_id])
     findings = (with_decisions(own, decisions, lambda: scan_bodies(cat_dir))
                 .sort(rank_expr(), pl.col("margin"), descending=[False, True],
                       nulls_last=True).collect().to_dicts())
@@ -325,9 +326,8 @@ def system_detail(cat_dir: Path, system: str) -> SystemDetail:
     if total == 0:
         raise NotFound(f"no system '{system[:80]}' in this catalogue")
     shown = members.select(cols).head(MAX_SYSTEM_BODIES).collect()
-    found = body_findings(_scan(cat_dir, "findings").filter(
-        pl.col("body").is_in(shown["id"].drop_nulls().implode()))).select("body", "findings",
-                                                                          "_rank")
+    found = body_findings(findings_of(cat_dir, "body", shown["id"].drop_nulls().to_list())
+                          ).select("body", "findings", "_rank")
     rows = (shown.lazy().join(found, left_on="id", right_on="body", how="left")
             .with_columns(worst=name_expr("_rank"), findings=pl.col("findings").fill_null(0))
             .drop("_rank").sort(["semi_major_axis", "id"], nulls_last=True).collect())

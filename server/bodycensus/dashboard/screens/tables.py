@@ -11,7 +11,7 @@ import polars as pl
 
 from bodycensus.science.severity import SEVERITIES, rank_expr
 from bodycensus.storage.names import has_index, write_name_index
-from bodycensus.storage.runs import scan_bodies, scan_findings
+from bodycensus.storage.runs import findings_of, scan_bodies, scan_findings
 
 
 def bodies(cat_dir: Path) -> pl.LazyFrame:
@@ -39,7 +39,7 @@ def worst_of(cat_dir: Path, ids: list[str]) -> dict[str, tuple[str, int]]:
     """For each of ``ids`` with findings: its most serious severity and how many it has."""
     if not ids:
         return {}
-    found = (findings(cat_dir).filter(pl.col("body").is_in(ids)).group_by("body")
+    found = (findings_of(cat_dir, "body", ids).group_by("body")
              .agg(pl.col("severity").sort_by(rank_expr()).first(), pl.len().alias("n"))
              .collect())
     return {b: (s, n) for b, s, n in found.iter_rows()}

@@ -14,12 +14,12 @@ from typing import Literal, TypedDict, cast
 import polars as pl
 
 from bodycensus.dashboard.screens.queries import filtered_findings
-from bodycensus.dashboard.screens.systems import scan_systems
+from bodycensus.dashboard.screens.systems import NO_SYSTEM, scan_systems
 from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.errors import BadInput
 from bodycensus.science.severity import name_expr, rank_expr
 from bodycensus.storage.decisions import STATUSES, Decision
-from bodycensus.storage.runs import scan_bodies, scan_findings
+from bodycensus.storage.runs import findings_of, scan_bodies, scan_findings
 from bodycensus.storage.store import Store, json_ready
 from bodycensus.storage.triage import stale, with_decisions
 
@@ -90,10 +90,10 @@ def counts_by(cat_dir: Path, decisions: Sequence[Decision], by: Literal["body", 
         return {}
     findings = scan_findings(cat_dir)
     if by == "body":
-        own = findings.filter(pl.col("body").is_in(list(targets)))
+        own = findings_of(cat_dir, "body", targets)
         keyed = with_decisions(own, decisions, lambda: scan_bodies(cat_dir)).rename({"body": "key"})
     elif "system" in findings.collect_schema():  # the system each finding carries
-        own = findings.filter(pl.col("system").is_in(list(targets)))
+        own = findings_of(cat_dir, "system", targets)
         keyed = with_decisions(own, decisions).with_columns(key=pl.col("system"))
     else:
         members = (scan_systems(cat_dir, list(targets))
@@ -158,11 +158,16 @@ def triage_groups(cat_dir: Path, decisions: Sequence[Decision], state: ViewState
 
 
 def system_groups(cat_dir: Path, decisions: Sequence[Decision], system: str) -> list[Group]:
-    """The findings of one system's bodies per rule: the System screen's decide table (the
-    bodies read from the system's own partitions)."""
-    members = (scan_systems(cat_dir, [system]).filter(pl.col("system") == system)
-               .select(pl.col("id").alias("body")).unique())
-    own = scan_findings(cat_dir).join(members, on="body", how="semi")
+    """The findings of one system's bodies per rule: the System screen's decide table (from
+    the system each finding carries; else the bodies read from the system's own partitions)."""
+    findings = scan_findings(cat_dir)
+    if "system" in findings.collect_schema():
+        own = (findings.filter(pl.col("system").is_null()) if system == NO_SYSTEM
+               else findings_of(cat_dir, "system", [system]))
+    else:
+        members = (scan_systems(cat_dir, [system]).filter(pl.col("system") == system)
+                   .select(pl.col("id").alias("body")).unique())
+        own = findings.join(members, on="body", how="semi")
     lf = with_decisions(own, decisions, lambda: scan_bodies(cat_dir))
     return _items(_grouped(lf.with_columns(pl.lit(system).alias("target"))), decisions,
                   "system")[1]
