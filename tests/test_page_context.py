@@ -3,10 +3,13 @@ and the Body screen's extras, as plain data (no HTML)."""
 
 from __future__ import annotations
 
+import copy as copy_module
+import json
 from typing import Any
 from urllib.parse import parse_qs, urlsplit
 
 from bodycensus.dashboard.screens import page_context
+from bodycensus.dashboard.screens.figure_text import drawn_marks
 from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.diagrams import registry
 from bodycensus.science.display_units import DisplayChoice
@@ -45,6 +48,21 @@ def test_distributions_offer_fields_and_every_label(engine_aggs: dict[str, Any])
     context = _context(engine_aggs, "diagram=distributions&field=radius&label=nobody")
     assert (context["field"], context["label"], context["all_labels"]) == ("radius", None, True)
     assert "mass" in context["field_choices"] and not context["flags"]
+
+
+def test_a_figure_is_drawn_once_per_aggregates_document(engine_aggs: dict[str, Any]) -> None:
+    """The figure, its JSON for the page and its marks are kept for the same aggregates
+    document and choice, and drawn again from another document (a file written again)."""
+    first = _context(engine_aggs, "diagram=mass-radius")
+    again = _context(engine_aggs, "diagram=mass-radius")
+    assert again["figure"] is first["figure"] and again["drawn"] is first["drawn"]
+    assert json.loads(str(first["figure_json"])) == json.loads(json.dumps(first["figure"]))
+    assert "<" not in str(first["figure_json"])  # safe inside the page's script element
+    assert first["drawn"] == drawn_marks(first["figure"])
+    assert _context(engine_aggs, "diagram=roche")["figure"] is not first["figure"]
+    copy = copy_module.deepcopy(engine_aggs)
+    redrawn = _context(copy, "diagram=mass-radius")
+    assert redrawn["figure"] is not first["figure"] and redrawn["figure"] == first["figure"]
 
 
 def test_artefact_rows_say_where_and_link_their_distribution() -> None:

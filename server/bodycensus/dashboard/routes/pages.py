@@ -22,7 +22,6 @@ from bodycensus.dashboard.routes.page_tools import (
     units_menu,
 )
 from bodycensus.dashboard.screens import groups, queries, report
-from bodycensus.dashboard.screens.figure_text import drawn_marks
 from bodycensus.dashboard.screens.page_context import (
     artefact_rows,
     body_extras,
@@ -226,7 +225,7 @@ def diagrams_context(store: Store, cat_id: str, state: ViewState) -> dict[str, A
     """Distributions and the other diagrams: one plotly figure from the stored aggregates."""
     cat_dir = store.ready_dir(cat_id)
     context = diagram_context(cat_id, queries.aggregates(cat_dir), state, cat_url)
-    drawn = drawn_marks(context["figure"])
+    drawn = context["drawn"]
     decided = counts_by(cat_dir, decisions_of(store, cat_id)[1], "body",
                         [m["body"] for m in drawn if m["body"] is not None])
     selection = {"diagram": context["diagram"], "label": context["label"],

@@ -7,6 +7,8 @@ from __future__ import annotations
 from collections.abc import Mapping
 from typing import Any, NotRequired, TypedDict
 
+from markupsafe import Markup
+
 from bodycensus.diagrams.shapes import Artefact, CoverageRow, Figure
 from bodycensus.input.sniff import ProposalRecord
 
@@ -182,6 +184,8 @@ class DiagramContext(TypedDict):
     diagram_title: str
     caption: str
     figure: Figure
+    figure_json: Markup  # the figure as JSON, safe inside the page's script element
+    drawn: list[DrawnMark]  # its marked points
     flags: bool
     label: str | None
     field: str | None
