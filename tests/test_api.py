@@ -65,7 +65,8 @@ def test_upload_answers_202_then_becomes_ready(tmp_path: Path, source: bytes) ->
     assert done["summary"]["rows"] == ROWS and done["mapping"]["mapping"]["choices"]["mass"][
         "unit"] == "earth_mass"
     assert sorted(p.name for p in (tmp_path / "catalogues" / accepted["id"]).iterdir()) == [
-        "aggregates.json", "artefacts.parquet", "bodies", "body_index.parquet",
+        "aggregates.json", "artefacts.parquet", "bodies", "bodies_by_row.parquet",
+        "body_index.parquet",
         "coverage.parquet", "findings.parquet", "findings_by_body.parquet",
         "findings_by_system.parquet", "manifest.json", "names.parquet", "source.csv",
         "system_index.parquet", "systems.parquet"]

@@ -138,6 +138,7 @@ def test_names_are_sanitised_and_never_paths(corpus: dict[str, Path],
         assert files == {"manifest.json", "aggregates.json", "bodies", "names.parquet",
                          "body_index.parquet", "findings.parquet", "artefacts.parquet",
                          "findings_by_body.parquet", "findings_by_system.parquet",
+                         "bodies_by_row.parquet",
                          "coverage.parquet", "source.csv", "systems.parquet",
                          "system_index.parquet"}
         assert client.delete(f"/api/catalogues/{cat_id}").status_code == 204

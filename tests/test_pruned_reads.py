@@ -23,6 +23,12 @@ from web_support import SyncClient, asgi_client
 from bodycensus.cli.run_folder import write_run_folder
 from bodycensus.dashboard.app import create_app
 from bodycensus.dashboard.screens import queries, triage
+from bodycensus.dashboard.screens.bodies import (
+    IN_ROW_ORDER,
+    bodies_page,
+    filtered_bodies,
+    write_bodies_by_row,
+)
 from bodycensus.dashboard.screens.systems import (
     SYSTEM_INDEX,
     SYSTEMS,
@@ -39,7 +45,7 @@ from bodycensus.engines.local import CheckOptions, check_file
 from bodycensus.storage import runs
 from bodycensus.storage.decisions import Decision
 from bodycensus.storage.runs import BODY_INDEX, in_list_order, in_stored_order, scan_findings
-from bodycensus.storage.store import Store
+from bodycensus.storage.store import Store, json_ready
 
 BODIES = 20_000
 ROW_GROUP = 100  # findings per row group here (the sample has hundreds, not thousands)
@@ -154,6 +160,29 @@ def test_the_systems_table_written_range_by_range_equals_one_count_of_every_body
         every.select("system", "part").unique().sort("system", "part"))
     assert not [p for p in run.iterdir() if ".spill" in p.name or p.name.endswith(".tmp")]
     assert systems_table(run).collect().equals(expected)  # its version is current
+
+
+def test_the_bodies_lists_default_pages_are_slices_of_the_bodies_in_row_order(run: Path
+                                                                             ) -> None:
+    """Written range by range (ranges of ~3,000 bodies, read 700 at a time), the copy in the
+    file's order gives the pages a sort of every body gives, then with every partition gone."""
+    views = [ViewState(), ViewState(offset=4_321, limit=100), ViewState(order="-_row"),
+             ViewState(order="-_row", offset=19_990, limit=50), ViewState(offset=19_990),
+             ViewState(offset=30_000)]
+    expected = []
+    for view in views:
+        rows = filtered_bodies(run, view).slice(view.offset, view.limit).collect()
+        expected.append((rows.to_dicts(), BODIES))
+    assert [len(rows) for rows, _ in expected] == [50, 100, 50, 10, 10, 0]
+    write_bodies_by_row(run, bucket_rows=3_000, batch=700)
+    assert pq.ParquetFile(run / IN_ROW_ORDER).metadata.num_row_groups >= 5
+    _forget_bodies(run)
+    for view, (rows, total) in zip(views, expected, strict=True):
+        page = bodies_page(run, view)
+        assert page["total"] == total
+        assert [{k: v for k, v in item.items() if k not in ("worst", "findings")}
+                for item in page["items"]] == json_ready(rows)
+    assert not [p for p in run.iterdir() if ".spill" in p.name or p.name.endswith(".tmp")]
 
 
 @pytest.fixture(scope="module")

@@ -23,16 +23,24 @@ def test_bounds_cut_the_keys_into_even_buckets(shuffled: bool) -> None:
         random.Random(5).shuffle(keys)
     sample = pl.Series(keys[::64])
     bounds = range_bounds(sample, len(keys), 2_000)
-    assert len(bounds) == 4 and bounds == sorted(bounds)
-    sizes = pl.Series(bounds).search_sorted(pl.Series(KEYS), side="right").value_counts()
+    assert bounds.len() == 4 and bounds.is_sorted() and bounds.dtype == pl.String
+    sizes = bounds.search_sorted(pl.Series(KEYS), side="right").value_counts()
     assert sizes["count"].min() > 1_700 and sizes["count"].max() < 2_300
-    assert range_bounds(sample, len(keys), 20_000) == []
-    assert range_bounds(pl.Series([], dtype=pl.String), 10, 1) == []
+    assert range_bounds(sample, len(keys), 20_000).is_empty()
+    assert range_bounds(pl.Series([], dtype=pl.String), 10, 1).is_empty()
+
+
+def test_numbers_are_cut_as_numbers() -> None:
+    rows = pl.Series(range(100_000), dtype=pl.Int64)  # as text, 9 would sort after 10,000
+    bounds = range_bounds(rows.gather_every(64), rows.len(), 25_000)
+    assert bounds.dtype == pl.Int64 and bounds.len() == 3
+    sizes = bounds.search_sorted(rows, side="right").value_counts()["count"]
+    assert sizes.min() > 24_000 and sizes.max() < 26_000
 
 
 def test_buckets_come_back_in_key_order_and_the_scratch_goes(tmp_path: Path) -> None:
     rows = pl.DataFrame({"key": list(reversed(KEYS)), "n": range(len(KEYS))})
-    with RangeSpill(tmp_path / "out.parquet", "key", ["k02500", "k05000"]) as spill:
+    with RangeSpill(tmp_path / "out.parquet", "key", pl.Series(["k02500", "k05000"])) as spill:
         for start in range(0, rows.height, 3_000):
             spill.add(rows.slice(start, 3_000))
         spill.put_aside(rows.head(2))

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from bodycensus.dashboard.screens.bodies import write_bodies_by_row
 from bodycensus.dashboard.screens.systems import write_systems
 from bodycensus.diagrams.aggregates import compute_aggregates
 from bodycensus.engines.local import CheckOptions, CheckResult
@@ -21,13 +22,14 @@ from bodycensus.storage.store import MANIFEST, new_slug, now, write_json_atomic
 
 def write_run_folder(result: CheckResult, folder: Path, name: str,
                      options: CheckOptions) -> Manifest:
-    """Write the aggregates, the name and body indexes, the systems' table and index and a
-    ready manifest into ``folder``."""
+    """Write the aggregates, the name and body indexes, the systems' table and index, the
+    bodies in the file's order and a ready manifest into ``folder``."""
     write_json_atomic(folder / "aggregates.json",
                       compute_aggregates(folder, options.orbit_settings))
     write_name_index(scan_bodies(folder), folder)
     write_body_index(folder)
     write_systems(folder)
+    write_bodies_by_row(folder)
     manifest = Manifest(
         id=new_slug(), name=name, status="ready", created=now(), source="",
         progress={"stage": "done", "fraction": 1.0}, rows=result.summary["rows"],

@@ -54,7 +54,7 @@ def write_name_index(bodies: pl.LazyFrame, folder: Path, bucket_keys: int = BUCK
     sample = _keys(bodies.gather_every(SAMPLE)).select("key").collect()["key"]
     bounds = range_bounds(sample, sample.len() * SAMPLE, bucket_keys)
     with AppendingWriter(folder / NAME_INDEX, keys.collect_schema(), ROW_GROUP) as out:
-        if not bounds:
+        if bounds.is_empty():
             out.write(_sorted(keys.collect()))
             return out.dest
         have = [c for c in _COLUMNS if c in bodies.collect_schema()]

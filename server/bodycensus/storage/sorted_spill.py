@@ -1,5 +1,5 @@
 """A table too big to sort in memory written in order, one key range at a time: rows are cut
-by ranges of a text key into buckets spilled to a scratch folder, and each bucket, sorted alone,
+by ranges of a key into buckets spilled to a scratch folder, and each bucket, sorted alone,
 is appended to one Parquet file (row groups with statistics) after the buckets before it.
 
 Hand-written because polars sorts a whole frame in memory (a streaming sink did not bound it:
@@ -27,24 +27,25 @@ SAMPLE = 64  # every SAMPLE-th row's key places the buckets' bounds
 SCRATCH_COMPRESSION: Literal["lz4"] = "lz4"  # spilled pieces are read once: fast over small
 
 
-def range_bounds(sample: pl.Series, rows: int, bucket_rows: int) -> list[str]:
+def range_bounds(sample: pl.Series, rows: int, bucket_rows: int) -> pl.Series:
     """Keys that cut ``rows`` rows whose keys look like ``sample`` into buckets of about
-    ``bucket_rows`` rows each, ascending (none when they fit one bucket)."""
+    ``bucket_rows`` rows each, ascending, of the sample's type (none when they fit one)."""
     buckets = -(-rows // bucket_rows)
     keys = sample.drop_nulls().sort()
     if buckets <= 1 or keys.len() == 0:
-        return []
-    return sorted({keys[i * keys.len() // buckets] for i in range(1, buckets)})
+        return keys.clear()
+    return keys.gather([i * keys.len() // buckets for i in range(1, buckets)]).unique().sort()
 
 
 class RangeSpill:
     """A scratch folder of rows cut by ranges of ``column`` (bucket ``i`` holds the keys from
-    ``bounds[i - 1]`` up to, not including, ``bounds[i]``); removed on leaving the block."""
+    ``bounds[i - 1]`` up to, not including, ``bounds[i]``; ``range_bounds`` gives them);
+    removed on leaving the block."""
 
-    def __init__(self, beside: Path, column: str, bounds: list[str]) -> None:
+    def __init__(self, beside: Path, column: str, bounds: pl.Series) -> None:
         self.folder = beside.with_name(f"{beside.name}.{secrets.token_hex(4)}.spill")
         self.column = column
-        self.bounds = pl.Series("bounds", bounds, pl.String)
+        self.bounds = bounds
         self._pieces = 0
 
     def __enter__(self) -> RangeSpill:

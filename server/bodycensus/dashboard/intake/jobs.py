@@ -16,6 +16,7 @@ from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from bodycensus.dashboard.screens.bodies import write_bodies_by_row
 from bodycensus.dashboard.screens.systems import write_systems
 from bodycensus.dashboard.settings import Settings
 from bodycensus.diagrams.aggregates import compute_aggregates
@@ -128,6 +129,7 @@ def run_check(store: Store, settings: Settings, cat_id: str, overrides: Override
     write_name_index(scan_bodies(work), work)
     write_body_index(work)
     write_systems(work)
+    write_bodies_by_row(work)
     report = result.report.to_json() if result.report is not None else None
     return store.publish(cat_id, rows=result.summary["rows"], summary=result.summary,
                          mapping=report)

@@ -2,9 +2,11 @@
 (a body is listed when one of its findings passes the severity, rule, value and margin filters;
 its label, family and a diagram's region filter the body itself), an order and exports.
 
-Pages are slices of the table in the file's order (the engine stores bodies in its own order,
-so that is a sort on the row number too) or another order asked for; the worst severity and
-number of findings are looked up for the page's bodies only.
+Pages in the file's order without filters are slices of a copy of the listed columns stored in
+that order (``bodies_by_row.parquet``, written after a run or on first use); other views sort
+the filtered bodies (the engine stores bodies in its own order, so the file's order is a sort on
+the row number too); the worst severity and number of findings are looked up for the page's
+bodies only.
 """
 
 from __future__ import annotations
@@ -19,8 +21,14 @@ from bodycensus.dashboard.screens.regions import region_filter
 from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.science.severity import UNRANKED, name_expr
 from bodycensus.storage.csvsafe import neutralise_formulas
+from bodycensus.storage.sorted_spill import SAMPLE, AppendingWriter, RangeSpill, range_bounds
 from bodycensus.storage.store import json_ready
 
+IN_ROW_ORDER = "bodies_by_row.parquet"  # the listed columns of every body in the file's order
+ROW_ORDER_VERSION = "1"  # in its metadata: a copy of another version is written again
+ROW_GROUP = 4096  # bodies per row group of it: a page of 50 decodes one or two
+BUCKET_ROWS = 2_000_000  # bodies sorted in memory at a time while writing it
+BATCH = 250_000  # bodies read at a time while writing it
 LISTED = ("id", "name", "label", "family", "system", "parent", "mass", "radius",
           "semi_major_axis", "eccentricity", "period", "_row")
 _FINDING_FILTERS = ("severity", "rule", "min_value", "max_value", "min_margin", "max_margin")
@@ -102,9 +110,48 @@ def _flagged_first(cat_dir: Path, state: ViewState) -> tuple[pl.DataFrame, int] 
     return page, total
 
 
+def write_bodies_by_row(folder: Path, bucket_rows: int = BUCKET_ROWS, batch: int = BATCH
+                        ) -> Path:
+    """Write ``bodies_by_row.parquet``: the listed columns of every body in the file's order
+    (by ``_row``), so the Bodies list's default pages are slices, not a sort of every body; in
+    bounded memory (``storage.sorted_spill``: ``batch`` bodies read at a time, ranges of about
+    ``bucket_rows`` sorted alone)."""
+    lf = tables.bodies(folder)
+    listed = lf.select([c for c in LISTED if c in lf.collect_schema()])
+    sample = lf.select("_row").gather_every(SAMPLE).collect()["_row"]
+    bounds = range_bounds(sample, sample.len() * SAMPLE, bucket_rows)
+    with AppendingWriter(folder / IN_ROW_ORDER, listed.head(0).collect().schema, ROW_GROUP,
+                         {"bodycensus.bodies_by_row": ROW_ORDER_VERSION}) as out, \
+            RangeSpill(out.dest, "_row", bounds) as spill:
+        for chunk in listed.collect_batches(chunk_size=batch):
+            spill.add(chunk)
+        for bucket in spill.buckets():
+            out.write(bucket.sort("_row", maintain_order=True))
+    return out.dest
+
+
+def _in_row_order(cat_dir: Path, state: ViewState) -> tuple[pl.DataFrame, int] | None:
+    """A page in the file's order (either way) without any filter: a slice of
+    ``bodies_by_row.parquet`` (written first when missing or of another version)."""
+    key, descending = state.order_key()
+    if key != "_row" or state.label or state.family or state.finding_filters or \
+            region_filter(state) is not None:
+        return None
+    path = cat_dir / IN_ROW_ORDER
+    if not path.is_file() or pl.read_parquet_metadata(path).get(
+            "bodycensus.bodies_by_row") != ROW_ORDER_VERSION:
+        write_bodies_by_row(cat_dir)
+    lf = pl.scan_parquet(path)
+    total = int(lf.select(pl.len()).collect().item())
+    count = max(0, min(state.limit, total - state.offset))
+    start = total - state.offset - count if descending else state.offset
+    rows = lf.slice(start, count).collect()
+    return (rows.reverse() if descending else rows), total
+
+
 def bodies_page(cat_dir: Path, state: ViewState) -> BodiesPage:
     """One page of the filtered bodies, each with its worst severity and findings counted."""
-    fast = _flagged_first(cat_dir, state)
+    fast = _flagged_first(cat_dir, state) or _in_row_order(cat_dir, state)
     if fast is not None:
         rows, total = fast
     else:
