@@ -131,6 +131,14 @@ def test_system_detail_is_a_tree_in_depth_first_order(cat_dir: Path) -> None:
     assert rows["helm-b"]["worst"] is None and rows["helm-b"]["findings"] == 0
 
 
+@pytest.mark.parametrize("cap", [3, 4])
+def test_a_system_past_the_cap_is_counted_whole_and_shown_in_part(
+        cat_dir: Path, cap: int, monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setattr(queries, "MAX_SYSTEM_BODIES", cap)
+    detail = queries.system_detail(cat_dir, "Helm")
+    assert (detail["total"], detail["shown"], detail["capped"]) == (4, cap, cap < 4)
+
+
 def test_blank_system_and_unknown_system(cat_dir: Path) -> None:
     assert [r["id"] for r in queries.system_detail(cat_dir, queries.NO_SYSTEM)["bodies"]] == [
         "drifter"]

@@ -322,10 +322,12 @@ def system_detail(cat_dir: Path, system: str) -> SystemDetail:
     cols = [c for c in ("id", "name", "label", "family", "parent", "mass", "radius",
                         "semi_major_axis", "eccentricity") if c in bodies.collect_schema()]
     members = bodies.filter(system_key(bodies) == system)
-    total = members.select(pl.len()).collect().item()
+    shown = members.select(cols).head(MAX_SYSTEM_BODIES + 1).collect()  # counted when capped
+    total = shown.height if shown.height <= MAX_SYSTEM_BODIES else \
+        int(members.select(pl.len()).collect().item())
     if total == 0:
         raise NotFound(f"no system '{system[:80]}' in this catalogue")
-    shown = members.select(cols).head(MAX_SYSTEM_BODIES).collect()
+    shown = shown.head(MAX_SYSTEM_BODIES)
     found = body_findings(findings_of(cat_dir, "body", shown["id"].drop_nulls().to_list())
                           ).select("body", "findings", "_rank")
     rows = (shown.lazy().join(found, left_on="id", right_on="body", how="left")
