@@ -30,6 +30,7 @@ FINDINGS = "findings.parquet"
 FINDINGS_ROW_GROUP = 2048  # findings per row group: a page of 50 decodes one or two
 FINDINGS_BY = {"body": "findings_by_body.parquet",  # copies of the findings sorted by a column
                "system": "findings_by_system.parquet"}
+FEW_KEYS = 16  # keys looked up in a copy; more are a filter of every finding
 ORDER_KEY = "bodycensus.order"  # the findings file's metadata: the order its rows are in
 LIST_ORDER = "severity"  # ... the Findings list's default order (``in_list_order``)
 
@@ -113,10 +114,12 @@ def write_findings(findings: pl.DataFrame, folder: Path) -> Path:
 
 def findings_of(folder: Path, column: str, keys: Sequence[str]) -> pl.LazyFrame:
     """The findings whose ``column`` (``body`` or ``system``) is one of ``keys``, in the list's
-    order within each key: from the copy sorted by that column where the run has it (a
-    look-up of one or two row groups), else a filter of every finding."""
+    order within each key: for a few keys, from the copy sorted by that column where the run
+    has it (a look-up of one row group per key), else a filter of every finding (which reads
+    only the columns the caller uses: for the 2,000 bodies a mass-radius diagram marks, 17 ms
+    against 183 ms for their row groups' every column at 10M bodies)."""
     copy = folder / FINDINGS_BY[column]
-    if not copy.is_file():
+    if not copy.is_file() or len(keys) > FEW_KEYS:
         return scan_findings(folder).filter(pl.col(column).is_in(list(keys)))
     return rows_with(copy, column, keys).lazy()
 
