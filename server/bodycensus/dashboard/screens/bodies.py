@@ -27,7 +27,7 @@ from bodycensus.storage.store import json_ready
 IN_ROW_ORDER = "bodies_by_row.parquet"  # the listed columns of every body in the file's order
 ROW_ORDER_VERSION = "1"  # in its metadata: a copy of another version is written again
 ROW_GROUP = 4096  # bodies per row group of it: a page of 50 decodes one or two
-BUCKET_ROWS = 2_000_000  # bodies sorted in memory at a time while writing it
+BUCKET_ROWS = 500_000  # bodies sorted in memory at a time while writing it (2M: 1.58 GiB at 10M)
 BATCH = 250_000  # bodies read at a time while writing it
 LISTED = ("id", "name", "label", "family", "system", "parent", "mass", "radius",
           "semi_major_axis", "eccentricity", "period", "_row")
