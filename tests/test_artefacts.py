@@ -85,6 +85,27 @@ def test_gap_found_with_its_interval() -> None:
     assert row["low"] < row["at"] < row["high"] and row["expected"] >= 100
 
 
+def _printed(values: np.ndarray, digits: int) -> np.ndarray:
+    """Values as a catalogue prints them: ``digits`` significant digits (``%g``)."""
+    return np.array([float(f"{v:.{digits}g}") for v in values])
+
+
+def test_significant_digit_rounding_is_not_a_gap_but_a_missing_band_is() -> None:
+    """Values printed to 5 significant digits, then converted to SI (a factor, here the Earth's
+    mass in kg, NASA Earth fact sheet), sit on a lattice whose step grows with the value. Dense
+    enough, the density predicts ~17 values inside one step, so each step looked like a gap
+    (a 30M-body demo reported 2.5 million). Synthetic known answer: none without the band,
+    exactly the planted band with it."""
+    earth = 5.9722e24
+    masses = _printed(10 ** (0.3 * np.random.default_rng(7).standard_normal(300_000)), 5) * earth
+    assert detect_artefacts(_frame(masses, field="mass"), ["mass"]).is_empty()
+    band = (masses > 1.5 * earth) & (masses < 1.6 * earth)
+    found = _label_rows(detect_artefacts(_frame(masses[~band], field="mass"), ["mass"]))
+    assert found["kind"].to_list() == ["gap"]
+    row = found.row(0, named=True)
+    assert row["low"] <= 1.5 * earth < 1.6 * earth <= row["high"]
+
+
 def test_few_far_outliers_make_no_gap() -> None:
     """A handful of bodies far from the bulk are outliers, not a band the generator skipped."""
     sample = _lognormal(11)

@@ -63,7 +63,8 @@ def _old_scan_cell(s: np.ndarray, unit: str, config: ArtefactConfig
     smooth = artefacts._spike_free_counts(s, grid.edges, spikes)
     cutoffs: list[Detection] = ([] if grid.discrete or len(grid.counts) < 6
                                 else artefacts._cutoffs(s, spikes, unit, config))
-    return cutoffs + artefacts._gaps(s, grid, smooth, unit, config) + spikes, 1 + 2 * len(distinct)
+    gaps = artefacts._gaps(s, distinct, grid, smooth, unit, config)
+    return cutoffs + gaps + spikes, 1 + 2 * len(distinct)
 
 
 def _old_group_slices(frame: pl.DataFrame, scope: str, min_count: int

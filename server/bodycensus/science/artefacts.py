@@ -326,9 +326,32 @@ def _cutoffs(s: np.ndarray, spikes: list[Detection], unit: str, config: Artefact
     return rows
 
 
-def _gaps(s: np.ndarray, grid: Grid, counts: np.ndarray, unit: str,
+def local_steps(distinct: np.ndarray, low: np.ndarray, high: np.ndarray,
+                fallback: float) -> np.ndarray:
+    """The rounding step around each spacing ``low``..``high`` of neighbouring distinct values:
+    the smaller spacing of the distinct values on either side when the spacing itself is a whole
+    number of it, else ``fallback`` (the sample's uniform lattice step, or 0).
+
+    Values printed to a fixed number of significant digits sit on a lattice whose step grows with
+    the value, so no single step describes the sample (``_lattice_step`` finds none); at tens of
+    millions of values the density predicts many values inside one such step, and every spacing
+    of the lattice would look like a gap. A spacing of one step misses no value that could have
+    been printed."""
+    at = np.searchsorted(distinct, low)
+    before = np.where(at >= 1, low - distinct[np.maximum(at - 1, 0)], np.inf)
+    beyond = np.minimum(at + 2, len(distinct) - 1)
+    after = np.where(at + 2 < len(distinct), distinct[beyond] - high, np.inf)
+    step = np.minimum(before, after)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        units = (high - low) / step
+    whole = np.isfinite(units) & (units >= 1 - 1e-3) & (np.abs(units - np.round(units)) < 1e-3)
+    return np.where(whole, np.maximum(step, fallback), fallback)
+
+
+def _gaps(s: np.ndarray, distinct: np.ndarray, grid: Grid, counts: np.ndarray, unit: str,
           config: ArtefactConfig) -> list[Detection]:
-    """Spacings between neighbouring values where the density on both sides predicts many."""
+    """Spacings between neighbouring values where the density on both sides predicts many,
+    measured net of the values' rounding step (``local_steps``)."""
     reach = config.min_expected * grid.width / max(float(counts.max()), 1.0)
     wide = np.flatnonzero(s[1:] >= s[:-1] * 10**reach if grid.log else s[1:] - s[:-1] >= reach)
     low, high = s[wide], s[wide + 1]
@@ -345,7 +368,8 @@ def _gaps(s: np.ndarray, grid: Grid, counts: np.ndarray, unit: str,
     cum = np.r_[0.0, np.cumsum(counts)]
     left, right = np.clip(left, k, None), np.clip(right, None, len(counts) - k)
     left_n, right_n = cum[left] - cum[left - k], cum[right + k] - cum[right]
-    empty = to_t(high - grid.step / 2) - to_t(low + grid.step / 2)
+    step = local_steps(distinct, low, high, grid.step)
+    empty = np.maximum(to_t(high - step / 2) - to_t(low + step / 2), 0.0)
     wanted = np.sqrt(left_n * right_n) / (k * grid.width) * empty
     rows = []
     for i in np.flatnonzero(inside & (wanted >= config.min_expected)):
@@ -369,7 +393,7 @@ def _scan_cell(s: np.ndarray, unit: str, config: ArtefactConfig
     smooth = _spike_free_counts(s, grid.edges, spikes)
     cutoffs: list[Detection] = ([] if grid.discrete or len(grid.counts) < 6
                                 else _cutoffs(s, spikes, unit, config))
-    rows = cutoffs + _gaps(s, grid, smooth, unit, config) + spikes
+    rows = cutoffs + _gaps(s, distinct, grid, smooth, unit, config) + spikes
     return rows, 1 + 2 * len(distinct)
 
 
