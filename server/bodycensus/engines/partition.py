@@ -149,10 +149,14 @@ def check_partition(frame: pl.DataFrame, facts: CatalogueFacts) -> PartitionResu
     return PartitionResult(bodies, findings, coverage_counts(bodies.lazy(), rules))
 
 
-def merge_findings(parts: Sequence[pl.DataFrame], rules: Sequence[Rule]) -> pl.DataFrame:
+def merge_findings(parts: Sequence[pl.DataFrame | pl.LazyFrame],
+                   rules: Sequence[Rule]) -> pl.DataFrame:
     """Every partition's findings as one frame, rule by rule in the registry's order and each
-    rule's findings in file order (what one pass over the whole table gives)."""
+    rule's findings in file order (what one pass over the whole table gives). The parts may be
+    lazy (the local engine's are scans of the files each partition's findings went to)."""
+    if not parts:
+        return evaluate(pl.LazyFrame(), []).collect()
     order = {rule.id: i for i, rule in enumerate(rules)}
-    merged = pl.concat(parts, how="vertical") if parts else evaluate(pl.LazyFrame(), []).collect()
+    merged = pl.concat([part.lazy() for part in parts], how="vertical")
     rank = pl.col("rule").replace_strict(order, return_dtype=pl.Int64)
-    return merged.sort(rank, "_row", maintain_order=True)
+    return merged.sort(rank, "_row", maintain_order=True).collect()
