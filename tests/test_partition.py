@@ -16,7 +16,7 @@ from typing import Any
 import polars as pl
 import pytest
 from catalogue_builder import normalised
-from polars.testing import assert_frame_equal
+from polars.testing import assert_frame_equal, assert_series_equal
 
 from bodycensus.demo import write_demo
 from bodycensus.diagrams.aggregates import compute_aggregates
@@ -25,6 +25,7 @@ from bodycensus.engines.partition import (
     PART,
     catalogue_facts,
     check_partition,
+    partition_numbers,
     with_partition,
 )
 from bodycensus.storage.runs import scan_bodies
@@ -133,6 +134,17 @@ def test_whole_systems_share_a_partition_whatever_the_file_order() -> None:
     assert len(set(of.values())) > 2  # the 40 lone stars spread over the buckets
     assert sorted(facts.context.cycle_ids.to_list()) == ["l1", "l2", "l3"]
     assert facts.context.duplicate_ids.rows() == [("p1", 2)]
+
+
+@pytest.mark.parametrize("partitions", [1, 7, 64])
+def test_partition_numbers_are_the_buckets_of_with_partition_in_row_order(
+        partitions: int) -> None:
+    # the local engine looks the roots up by a binary search, the Dask engine joins them on
+    table = normalised(TRICKY).lazy()
+    _, chains = catalogue_facts(table)
+    assert chains.hashed
+    joined = with_partition(table, chains, partitions, ordered=True).collect()[PART]
+    assert_series_equal(partition_numbers(table, chains, partitions), joined)
 
 
 def test_check_partition_of_each_bucket_adds_up_to_the_whole(tmp_path: Path) -> None:

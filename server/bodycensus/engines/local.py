@@ -100,21 +100,27 @@ def _write_atomic(frame: pl.DataFrame | pl.LazyFrame, path: Path) -> None:
 SPLIT_BATCH = 500_000  # rows of the normalised table read at a time while splitting it
 
 
-def _split(table: pl.LazyFrame, chains: Chains, into: Path, per_partition: int) -> list[Path]:
-    """Write ``table`` into ``into`` as one folder of Parquet files per partition, reading it a
-    batch of rows at a time (memory follows a batch: polars' streaming join and partitioned
-    sink held gigabytes at 10M bodies); the folders, in partition order."""
+def _partition_numbers(table: pl.LazyFrame, chains: Chains, per_partition: int) -> pl.Series:
+    """Each row's partition number, in row order (``partition.partition_numbers``)."""
     rows = int(table.select(pl.len()).collect(engine="streaming").item())
-    parts = partition_numbers(table, chains, partition_count(rows, per_partition))
+    return partition_numbers(table, chains, partition_count(rows, per_partition))
+
+
+def _split(table: pl.LazyFrame, parts: pl.Series, into: Path) -> list[Path]:
+    """Write ``table`` into ``into`` as one folder of Parquet files per partition (``parts``:
+    each row's number, in row order), reading it once, a batch of rows at a time (memory follows
+    a batch: polars' streaming join and partitioned sink held gigabytes at 10M bodies); the
+    folders, in partition order."""
     folders: set[Path] = set()
-    for start in range(0, rows, SPLIT_BATCH):
-        batch = table.slice(start, SPLIT_BATCH).collect().with_columns(
-            parts.slice(start, SPLIT_BATCH).alias(PART))
-        for (number,), piece in batch.partition_by(PART, as_dict=True).items():
+    start = 0
+    for batch in table.collect_batches(chunk_size=SPLIT_BATCH):
+        numbered = batch.with_columns(parts.slice(start, batch.height).alias(PART))
+        for (number,), piece in numbered.partition_by(PART, as_dict=True).items():
             folder = into / f"{number:05d}"
             folder.mkdir(parents=True, exist_ok=True)
             piece.drop(PART).write_parquet(folder / f"rows-{start:012d}.parquet")
             folders.add(folder)
+        start += batch.height
     return sorted(folders)
 
 
@@ -164,10 +170,13 @@ def check_table(table: pl.LazyFrame, workdir: Path, options: CheckOptions = Chec
     progress("derive", 0.0)
     facts, chains = catalogue_facts(table, options.family_overrides, options.orbit_settings)
     split = workdir / "partitions"
+    parts = _partition_numbers(table, chains, options.partition_rows)
+    del chains  # the roots are the largest catalogue-wide table: drop it before the split
     try:
-        folders = _split(table, chains, split, options.partition_rows)
-        del chains
+        folders = _split(table, parts, split)
+        del parts
         findings, counts = _check_partitions(folders, facts, workdir, progress)
+
     finally:
         shutil.rmtree(split, ignore_errors=True)
     return finish_run(workdir, findings, counts, facts, report, options, progress)
