@@ -11,6 +11,7 @@ the walk runs on integer codes of the ids' text, so loops are always found exact
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 import numpy.typing as npt
@@ -66,15 +67,20 @@ class _Walked:
         return self.parented & ~self.looped
 
 
-def _walk(ids: Keys, parents: Keys, has_parent: npt.NDArray[np.bool_]) -> _Walked:
-    """Walk every chain of parents (each row: an id's key, its parent's key, whether it has a
-    parent; the first row of an id says its parent) one hop per step over integer positions;
+def _walk(rows: list[npt.NDArray[Any]]) -> _Walked:
+    """Walk every chain of parents (``rows``: each row's id key, its parent's key, whether it
+    has a parent; emptied here, so each array is freed as soon as the walk is done with it: 8
+    bytes a body less at the peak; the first row of an id says its parent) one hop per step
+    over integer positions;
     chains that reach a root drop out, so the work shrinks geometrically. Chains still walking
     after ``MAX_DEPTH`` hops lie on a loop or lead into one (self-parents are loops of length
     one). Hand-written: a fixed-point walk, which neither polars nor scipy offers, and polars'
     joins held several times the memory of these arrays."""
+    ids, parents, has_parent = rows
+    rows.clear()
     order = np.argsort(ids, kind="stable")  # stable: an id's first row comes first
     ordered = ids[order]
+    del ids
     first = np.ones(ordered.size, dtype=np.bool_)
     first[1:] = ordered[1:] != ordered[:-1]
     starts = np.flatnonzero(first)
@@ -84,7 +90,8 @@ def _walk(ids: Keys, parents: Keys, has_parent: npt.NDArray[np.bool_]) -> _Walke
     with_parent = has_parent[keep]
     nodes, up = ordered[starts][with_parent], parents[keep[with_parent]]  # sorted by key
     del ordered, keep, starts, with_parent
-    parented = _parents_among(nodes, parents[has_parent])
+    parented = _parents_among(nodes, parents, has_parent)
+    del parents, has_parent
     at = np.empty(up.size, dtype=np.int64)
     by_parent = np.argsort(up)  # searching sorted keys: 10x faster than in row order
     at[by_parent] = np.minimum(np.searchsorted(nodes, up[by_parent]), max(nodes.size - 1, 0))
@@ -105,14 +112,15 @@ def _walk(ids: Keys, parents: Keys, has_parent: npt.NDArray[np.bool_]) -> _Walke
     return _Walked(nodes, up[last], looped, parented, repeated)
 
 
-def _parents_among(nodes: Keys, parents: Keys) -> npt.NDArray[np.bool_]:
+def _parents_among(nodes: Keys, parents: Keys,
+                   has_parent: npt.NDArray[np.bool_]) -> npt.NDArray[np.bool_]:
     """Which of the sorted ``nodes`` are the parent of some row: only those need their root
     kept (a system's bucket is looked up by a body's parent), a quarter of the ids in a demo."""
     found = np.zeros(nodes.size, dtype=np.bool_)
     if nodes.size == 0:
         return found
     for start in range(0, parents.size, _CHUNK):
-        chunk = parents[start:start + _CHUNK]
+        chunk = parents[start:start + _CHUNK][has_parent[start:start + _CHUNK]]
         at = np.minimum(np.searchsorted(nodes, chunk), nodes.size - 1)
         found[at[nodes[at] == chunk]] = True
     return found
@@ -147,7 +155,7 @@ def _exact_chains(table: pl.LazyFrame, repeated: Keys) -> Chains:
     def code(column: str) -> Keys:
         return text[column].replace_strict(codes, default=0, return_dtype=pl.UInt64).to_numpy()
 
-    walked = _walk(code("id"), code("parent"), text["parent"].is_not_null().to_numpy())
+    walked = _walk([code("id"), code("parent"), text["parent"].is_not_null().to_numpy()])
     ended = walked.kept
     def named(keys: Keys) -> pl.Series:
         return names.gather(keys.astype(np.int64))
@@ -160,11 +168,9 @@ def _exact_chains(table: pl.LazyFrame, repeated: Keys) -> Chains:
 def chain_roots(table: pl.LazyFrame) -> Chains:
     """Where each chain of parents in ``table`` (id, parent) ends, walked on id hashes."""
     keys = _hash_keys(table)
-    ids, parents = keys["id"].to_numpy(), keys["parent"].to_numpy()
-    has_parent = keys["has_parent"].to_numpy()
+    rows = [keys["id"].to_numpy(), keys["parent"].to_numpy(), keys["has_parent"].to_numpy()]
     del keys  # the arrays are copies: hold one form at a time
-    walked = _walk(ids, parents, has_parent)
-    del ids, parents, has_parent
+    walked = _walk(rows)
     if _colliding(table, walked.repeated):
         return _exact_chains(table, walked.repeated)
     ended = walked.kept
