@@ -224,8 +224,8 @@ def label_statistics(table: pl.LazyFrame) -> pl.DataFrame:
     passes of binned counts (``medians``: memory follows the labels and the few values near
     each median, not the catalogue). The scores (a label's 4-byte code and three floats a body)
     are written once to a temporary file that the four passes read."""
-    labels = (table.select(pl.col("label").unique()).collect(engine="streaming")
-              .with_row_index("_code"))
+    labels = (table.group_by("label").agg(pl.len().cast(pl.UInt32).alias("_label_size"))
+              .collect(engine="streaming").sort("label").with_row_index("_code"))
     # a join on the small label table streams; replace_strict held the whole column
     coded = table.join(labels.lazy(), on="label", how="left", nulls_equal=True)
     keys = ["_code", "_score"]
@@ -246,10 +246,9 @@ def label_statistics(table: pl.LazyFrame) -> pl.DataFrame:
                 *keys, (pl.col(VALUE) - pl.col("median")).abs().alias(VALUE))
 
         mads = binned_medians(deviations, keys).rename({"median": "mad"})
-        sizes = (pl.scan_parquet(scored).group_by("_code")
-                 .agg(pl.len().cast(pl.UInt32).alias("_label_size")).collect(engine="streaming"))
     both = medians.join(mads, on=keys, how="left")
-    per_label = labels.join(sizes, on="_code")
+    per_label = labels
+
     for i, score in enumerate(OUTLIER_SCORES):
         mine = both.filter(pl.col("_score") == i).select(
             "_code", pl.col("median").alias(f"{score}_median"), pl.col("mad").alias(f"{score}_mad"))
