@@ -51,6 +51,7 @@ from bodycensus.input.dataset import dataset_files, merge_reports, row_offsets, 
 from bodycensus.input.ingest import IngestReport, ingest
 from bodycensus.progress import Progress, quiet
 from bodycensus.science.rules.graph import Chains
+from bodycensus.storage.runs import BODY_COMPRESSION
 
 # Buckets of the system key: so many that two systems share one only by a hash collision (which
 # makes a shuffle more likely, never wrong); a partition then holds whole buckets.
@@ -159,7 +160,7 @@ def check_systems(part: pd.DataFrame, number: int, folder: Path, facts: Catalogu
     result = check_partition(pl.from_pandas(part.reset_index(drop=True)), facts)
     dest = folder / f"part-{number:05d}.parquet"
     tmp = dest.with_name(dest.name + f".{os.getpid()}.tmp")
-    result.bodies.write_parquet(tmp)
+    result.bodies.write_parquet(tmp, compression=BODY_COMPRESSION)
     fsync_path(tmp)
     os.replace(tmp, dest)
     return result.findings, result.coverage
