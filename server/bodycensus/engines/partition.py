@@ -52,10 +52,22 @@ class CatalogueFacts:
         return all_rules(self.orbit_settings)
 
 
+SHOWN_WORKING = ("_row", "_bad")  # underscore columns the pages read: file row, ingest flag
+
+
+def stored_columns(columns: Sequence[str]) -> list[str]:
+    """The columns of the bodies a run stores: every column but the working ones only the
+    rules read (underscore-prefixed: band edges, scores, masses in SI without the bad ones...);
+    no page, diagram, aggregate, comparison or triage reads those (their 33 of 116 columns
+    took a fifth of the write and of the disk)."""
+    return [c for c in columns if not c.startswith("_") or c in SHOWN_WORKING]
+
+
 @dataclass(frozen=True)
 class PartitionResult:
-    """What one partition gives: its bodies with every derived column (in file order), its
-    findings, and rule coverage counts that add up across partitions (``coverage_counts``)."""
+    """What one partition gives: its bodies with every derived column to store (in file order,
+    ``stored_columns``), its findings, and rule coverage counts that add up across partitions
+    (``coverage_counts``)."""
 
     bodies: pl.DataFrame
     findings: pl.DataFrame
@@ -182,7 +194,8 @@ def check_partition(frame: pl.DataFrame, facts: CatalogueFacts) -> PartitionResu
     bodies = derive(table, facts.context).collect(engine="in-memory")
     rules = facts.rules()
     findings = evaluate(bodies.lazy(), rules).collect(engine="in-memory")
-    return PartitionResult(bodies, findings, coverage_counts(bodies.lazy(), rules))
+    return PartitionResult(bodies.select(stored_columns(bodies.columns)), findings,
+                           coverage_counts(bodies.lazy(), rules))
 
 
 def merge_findings(parts: Sequence[pl.DataFrame | pl.LazyFrame],
