@@ -313,8 +313,10 @@ def _id_counts(table: pl.LazyFrame, duplicates: pl.DataFrame) -> pl.LazyFrame:
 
 
 def derive(table: pl.LazyFrame, facts: ContextFacts | None = None) -> pl.LazyFrame:
-    """The normalised table plus every derived column the rules and diagrams use. ``facts``
-    are the whole catalogue's (``context_facts``); without them, ``table`` is the catalogue."""
+    """The normalised table plus every derived column the rules and diagrams use, in the
+    table's row order. ``facts`` are the whole catalogue's (``context_facts``); without them,
+    ``table`` is the catalogue. Computed in memory, stage by stage: ``table`` is one partition
+    of whole systems (``engines.partition``) or a small table."""
     facts = facts if facts is not None else context_facts(table)
     table = _id_counts(table, facts.duplicate_ids).with_columns(
         pl.col("id").is_in(_ids(facts.cycle_ids)).alias("_in_cycle"))
