@@ -13,7 +13,6 @@ import time
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Literal
 
 import polars as pl
 
@@ -42,7 +41,7 @@ from bodycensus.science.rules.graph import Chains
 from bodycensus.science.rules.orbit import OrbitSettings
 from bodycensus.science.severity import SEVERITY_RANK
 from bodycensus.storage.manifest import RunSummary
-from bodycensus.storage.runs import BODY_COMPRESSION, scan_bodies, write_findings
+from bodycensus.storage.runs import scan_bodies, write_bodies_file, write_findings
 
 
 @dataclass(frozen=True)
@@ -87,14 +86,13 @@ def with_families(table: pl.LazyFrame, overrides: Mapping[str, str]) -> tuple[pl
     return fill_families(table, mapping, overrides), mapping
 
 
-def _write_atomic(frame: pl.DataFrame | pl.LazyFrame, path: Path,
-                  compression: Literal["zstd", "lz4"] = "zstd") -> None:
+def _write_atomic(frame: pl.DataFrame | pl.LazyFrame, path: Path) -> None:
     """Write Parquet to a temporary name, fsync, then rename into place."""
     tmp = path.with_name(path.name + ".tmp")
     if isinstance(frame, pl.LazyFrame):
-        frame.sink_parquet(tmp, compression=compression)
+        frame.sink_parquet(tmp)
     else:
-        frame.write_parquet(tmp, compression=compression)
+        frame.write_parquet(tmp)
     fsync_path(tmp)
     os.replace(tmp, path)
 
@@ -140,7 +138,7 @@ def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
     try:
         for i, folder in enumerate(folders):
             result = check_partition(pl.read_parquet(folder / "*.parquet"), facts)
-            _write_atomic(result.bodies, filling / f"part-{i:05d}.parquet", BODY_COMPRESSION)
+            write_bodies_file(result.bodies, filling / f"part-{i:05d}.parquet")
             findings.append(_spill(result.findings, spilled / f"part-{i:05d}.parquet"))
             counts.append(result.coverage)
             progress("rules", (i + 1) / len(folders))

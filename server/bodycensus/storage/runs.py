@@ -15,7 +15,7 @@ import os
 import secrets
 from collections.abc import Sequence
 from pathlib import Path
-from typing import Final
+from typing import Final, Literal
 
 import polars as pl
 
@@ -36,7 +36,7 @@ ORDER_KEY = "bodycensus.order"  # the findings file's metadata: the order its ro
 LIST_ORDER = "severity"  # ... the Findings list's default order (``in_list_order``)
 # The bodies' files: lz4 wrote a partition of 250,000 bodies (116 columns) in half zstd's
 # default time and read it as fast, for 15 % more bytes (measured, derive-results.md).
-BODY_COMPRESSION: Final = "lz4"
+BODY_COMPRESSION: Final[Literal["lz4"]] = "lz4"
 
 
 def is_run(folder: Path) -> bool:
@@ -74,16 +74,17 @@ def scan_parts(folder: Path, names: Sequence[str]) -> pl.LazyFrame:
 
 
 def write_parquet_atomic(frame: pl.LazyFrame | pl.DataFrame, dest: Path, row_group_size: int,
-                         metadata: dict[str, str] | None = None) -> Path:
+                         metadata: dict[str, str] | None = None,
+                         compression: Literal["zstd", "lz4"] = "zstd") -> Path:
     """Write Parquet in row groups of ``row_group_size`` with statistics (and ``metadata``) to
     a temporary name, fsync it, then rename it into place."""
     tmp = dest.with_name(f"{dest.name}.{secrets.token_hex(4)}.tmp")  # one per writer
     if isinstance(frame, pl.LazyFrame):
         frame.sink_parquet(tmp, row_group_size=row_group_size, statistics=True,
-                           metadata=metadata)
+                           metadata=metadata, compression=compression)
     else:
         frame.write_parquet(tmp, row_group_size=row_group_size, statistics=True,
-                            metadata=metadata)
+                            metadata=metadata, compression=compression)
     fsync_path(tmp)
     os.replace(tmp, dest)
     return dest
@@ -91,9 +92,10 @@ def write_parquet_atomic(frame: pl.LazyFrame | pl.DataFrame, dest: Path, row_gro
 
 def write_bodies_file(frame: pl.LazyFrame | pl.DataFrame, dest: Path) -> Path:
     """Write one file of a run's bodies (its one file or a partition) in row groups of
-    ``BODY_ROW_GROUP`` with statistics (fsync, then rename): a body's page decodes the one small
-    group that holds it, not one of polars' default ~125k rows (twice as long at 1M bodies)."""
-    return write_parquet_atomic(frame, dest, BODY_ROW_GROUP)
+    ``BODY_ROW_GROUP`` with statistics, compressed with ``BODY_COMPRESSION`` (fsync, then
+    rename): a body's page decodes the one small group that holds it, not one of polars'
+    default ~125k rows (twice as long at 1M bodies)."""
+    return write_parquet_atomic(frame, dest, BODY_ROW_GROUP, compression=BODY_COMPRESSION)
 
 
 def in_list_order(findings: pl.LazyFrame, descending: bool = False) -> pl.LazyFrame:

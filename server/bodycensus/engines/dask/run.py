@@ -51,7 +51,7 @@ from bodycensus.input.dataset import dataset_files, merge_reports, row_offsets, 
 from bodycensus.input.ingest import IngestReport, ingest
 from bodycensus.progress import Progress, quiet
 from bodycensus.science.rules.graph import Chains
-from bodycensus.storage.runs import BODY_COMPRESSION
+from bodycensus.storage.runs import write_bodies_file
 
 # Buckets of the system key: so many that two systems share one only by a hash collision (which
 # makes a shuffle more likely, never wrong); a partition then holds whole buckets.
@@ -158,11 +158,7 @@ def check_systems(part: pd.DataFrame, number: int, folder: Path, facts: Catalogu
     ``folder/part-NNNNN.parquet`` (atomically: a retried task writes it again); its findings
     and coverage counts come back."""
     result = check_partition(pl.from_pandas(part.reset_index(drop=True)), facts)
-    dest = folder / f"part-{number:05d}.parquet"
-    tmp = dest.with_name(dest.name + f".{os.getpid()}.tmp")
-    result.bodies.write_parquet(tmp, compression=BODY_COMPRESSION)
-    fsync_path(tmp)
-    os.replace(tmp, dest)
+    write_bodies_file(result.bodies, folder / f"part-{number:05d}.parquet")
     return result.findings, result.coverage
 
 
