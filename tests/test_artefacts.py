@@ -21,7 +21,7 @@ from bodycensus.science.artefacts import (
     ArtefactConfig,
     ArtefactInputError,
     benjamini_hochberg,
-    binomial_sf,
+    conditional_p,
     detect_artefacts,
     edge_bins,
 )
@@ -203,11 +203,11 @@ def test_bad_input_says_what_and_where() -> None:
         detect_artefacts(table, ["label"])
 
 
-@pytest.mark.parametrize(("k", "n", "q"), [(30, 32, 1 / 3), (14, 17, 1 / 3), (5, 400, 0.01),
-                                         (900, 1000, 0.5), (1, 10, 0.2)])
-def test_binomial_tail_matches_scipy(k: int, n: int, q: float) -> None:
-    """scipy.stats.binom.sf(k - 1) is P(X >= k)."""
-    assert binomial_sf(k, n, q) == pytest.approx(stats.binom.sf(k - 1, n, q), rel=1e-9)
+def test_conditional_poisson_test_on_a_worked_example() -> None:
+    """Przyborowski & Wilenski (1940): 5 seen where the model expects as many as in a reference
+    cell holding 1 gives P(X >= 5) for X ~ Binomial(6, 1/2) = (6 + 1) / 64, worked by hand."""
+    assert conditional_p(5, 1.0, 1.0) == pytest.approx(7 / 64, rel=1e-12)
+    assert conditional_p(0, 3.0, 9.0) == 1.0  # nothing seen is never evidence of excess
 
 
 def test_benjamini_hochberg_matches_scipy() -> None:

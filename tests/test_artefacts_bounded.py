@@ -19,7 +19,7 @@ import pytest
 from polars.testing import assert_frame_equal
 
 from bodycensus.engines.local import check_file
-from bodycensus.science import artefacts
+from bodycensus.science import artefact_columns, artefacts
 from bodycensus.science.artefact_columns import group_codes
 from bodycensus.science.artefacts import (
     ARTEFACT_FIELDS,
@@ -204,3 +204,17 @@ def test_a_group_column_without_values_and_an_empty_table() -> None:
     assert_frame_equal(new, reference_artefacts(table, ["mass"]))
     assert new["scope"].to_list() == ["family"]  # uniform on [0, 1): its hard top end
     assert detect_artefacts(table.head(0), ["mass"]).is_empty()
+
+
+def test_rows_grouped_chunk_by_chunk_equal_each_groups_rows(monkeypatch: pytest.MonkeyPatch
+                                                           ) -> None:
+    """Grouping the rows by a counting sort in chunks (here of 7 rows, so groups straddle chunk
+    edges) gives each group's rows in table order, as a search of the codes does; the last code
+    (no group) included, an absent code empty."""
+    monkeypatch.setattr(artefact_columns, "ORDER_CHUNK", 7)
+    codes = np.random.default_rng(26).integers(0, 5, 1000).astype(np.uint8)
+    codes[codes == 3] = 2  # code 3: no row
+    group = artefact_columns.GroupCodes.of("label", ["a", "b", "c", "d"], codes)
+    for index in range(5):
+        np.testing.assert_array_equal(group.rows(index), np.flatnonzero(codes == index))
+    assert group.order.dtype == np.uint32 and group.rows(3).size == 0

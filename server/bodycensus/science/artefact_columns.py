@@ -15,20 +15,51 @@ from dataclasses import dataclass
 import numpy as np
 import polars as pl
 
+ORDER_CHUNK = 1 << 20  # rows whose codes are sorted at a time while grouping them (``_grouped``)
+
 
 @dataclass(frozen=True)
 class GroupCodes:
     """One group column as small integers: the names of the groups big enough to test (sorted)
     and each row's index into them (``len(names)`` for a row in no such group). A few bytes a
-    row, where the names as strings and per-group row lists took tens."""
+    row, where the names as strings and per-group row lists took tens. ``order`` holds every
+    row of group 0, then of group 1, ... (each in table order), ``starts`` where each begins:
+    found once, where finding each group's rows again for every field took a quarter of the
+    detector's time at 10M bodies."""
 
     scope: str
     names: list[str]
     codes: np.ndarray
+    order: np.ndarray
+    starts: np.ndarray
+
+    @classmethod
+    def of(cls, scope: str, names: list[str], codes: np.ndarray) -> GroupCodes:
+        """The group column ``scope`` with its rows grouped (``_grouped``)."""
+        return cls(scope, names, codes, *_grouped(codes, len(names) + 1))
 
     def rows(self, index: int) -> np.ndarray:
         """The rows of group ``index``, in table order."""
-        return np.flatnonzero(self.codes == index)
+        return self.order[self.starts[index]:self.starts[index + 1]]
+
+
+def _grouped(codes: np.ndarray, n_codes: int) -> tuple[np.ndarray, np.ndarray]:
+    """Row numbers grouped by code (table order within a group) and each group's start: a
+    counting sort, chunk by chunk, so memory holds 4 bytes a row and one chunk's 8-byte argsort
+    (``np.argsort`` of the whole column would hold 8 bytes a row: 240 MB at 30M bodies)."""
+    counts = np.bincount(codes, minlength=n_codes)
+    starts = np.r_[0, np.cumsum(counts)]
+    filled = starts[:-1].copy()
+    order = np.empty(codes.size, np.uint32 if codes.size < 1 << 32 else np.uint64)
+    for begin in range(0, codes.size, ORDER_CHUNK):
+        chunk = codes[begin:begin + ORDER_CHUNK]
+        by_code = np.argsort(chunk, kind="stable")
+        edges = np.r_[0, np.cumsum(np.bincount(chunk, minlength=n_codes))]
+        for code in np.flatnonzero(np.diff(edges)):
+            rows = by_code[edges[code]:edges[code + 1]] + begin
+            order[filled[code]:filled[code] + rows.size] = rows
+            filled[code] += rows.size
+    return order, starts
 
 
 def _code_type(n_names: int) -> type[np.unsignedinteger]:
@@ -74,7 +105,7 @@ def group_codes(lazy: pl.LazyFrame, scopes: Sequence[str], n_rows: int, min_coun
                      .fill_null(len(sizes)).alias(f"_code{len(exprs)}"))
         arrays.append(np.empty(n_rows, numpy_type))
     _fill(lazy, exprs, arrays, lookups)
-    return [GroupCodes(*group) for group in zip(scopes, names, arrays, strict=True)]
+    return [GroupCodes.of(*group) for group in zip(scopes, names, arrays, strict=True)]
 
 
 def read_field(lazy: pl.LazyFrame, field: str, n_rows: int) -> np.ndarray:
