@@ -7,6 +7,7 @@ from polars.testing import assert_frame_equal
 
 from bodycensus.science.rules.graph import (
     HASH_SEED,
+    MAX_DEPTH,
     _exact_chains,
     chain_roots,
     cycle_members,
@@ -72,3 +73,17 @@ def test_the_walk_on_the_ids_text_finds_the_chains_the_walk_on_hashes_finds() ->
         id_hash("id").alias("id"), id_hash("root").alias("root")).sort("id"))
     assert sorted(hashed.cycle_ids.to_list()) == sorted(text.cycle_ids.to_list()) == [
         "a", "b", "c"]
+
+
+def test_a_leaf_one_hop_beyond_the_longest_walked_chain_is_walked_like_the_text_walk() -> None:
+    # only ids that are some row's parent are walked on hashes; a leaf is judged by its
+    # parent's chain: b66 lies MAX_DEPTH + 1 hops from its root, as far as either walk follows
+    # a chain, so both call it looped (the text walk follows every id, leaves included)
+    chain = [(f"b{i}", f"b{i - 1}" if i else None) for i in range(MAX_DEPTH + 3)]
+    table = pl.LazyFrame(chain + [("b66", "b0"), ("x", "b65")],
+                         schema={"id": pl.String, "parent": pl.String}, orient="row")
+    hashed = chain_roots(table)
+    text = _exact_chains(table, hashed.repeated.to_numpy())
+    assert sorted(hashed.cycle_ids.to_list()) == sorted(text.cycle_ids.to_list()) == ["b66", "x"]
+    assert_frame_equal(hashed.roots.sort("id"), text.roots.select(
+        id_hash("id").alias("id"), id_hash("root").alias("root")).sort("id"))

@@ -1,17 +1,19 @@
 """Parent-chain checks that need more than one join: loops in the chain of parents, and the root
 each chain ends at (what keeps a system whole when a catalogue is split into partitions).
 
-The chains are walked on 64-bit hashes of the ids in numpy: one stable sort of the hashes gives
-each id's first row (its parent) and the hashes on more than one row, and the walk follows
-integer positions. That is 17 bytes a body and a few arrays of its size; polars' joins of the
-ids' text held 2.2 GiB at 10 million bodies, its joins of the hashes 0.9 GiB. Hashes stand for
-ids only where no two different ids share one (checked on the few repeated hashes); otherwise
-the walk runs on integer codes of the ids' text, so loops are always found exactly."""
+The chains are walked on 64-bit hashes of the ids in numpy, in passes that each hold little:
+the repeated ids from one in-place sort of every id's hash (8 bytes a body, the peak), then only
+the ids that are some row's parent are walked (every id on a chain but its first is a parent: a
+quarter of the ids in a demo), following integer positions; a leaf's chain never ends when its
+parent's does not. Sorting every row's id, parent and position at once held 1.26 GB at 30 million
+bodies; polars' joins of the ids' text held 2.2 GiB at 10 million, its joins of the hashes 0.9
+GiB. Hashes stand for ids only where no two different ids share one (checked on the few repeated
+hashes); otherwise the walk runs on integer codes of the ids' text, so loops are always found
+exactly."""
 
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any
 
 import numpy as np
 import numpy.typing as npt
@@ -19,6 +21,7 @@ import polars as pl
 
 MAX_DEPTH = 64  # hops; real hierarchies are a handful deep (star, planet, moon, sub-moon)
 HASH_SEED = 0  # the seed of every id hash (the partition buckets use the same hashes)
+SEARCH_BATCH = 1 << 20  # rows whose id is looked up among the parents at a time
 Keys = npt.NDArray[np.uint64]
 
 
@@ -49,90 +52,128 @@ class Chains:
 
 @dataclass(frozen=True)
 class _Walked:
-    """The chains of a graph of integer keys: ``nodes`` (sorted distinct ids that have a
+    """The chains of a graph of integer keys: ``nodes`` (sorted distinct keys that have a
     parent), ``roots`` (the root key of each node's chain; meaningless where ``looped``),
-    ``looped`` (the node's chain never ends), ``parented`` (the node is some row's parent),
-    ``repeated`` (keys on more than one row)."""
+    ``looped`` (the node's chain never ends) and ``edge`` (looped, or exactly ``MAX_DEPTH``
+    hops long: a child of such a node is looped, one hop longer)."""
 
     nodes: Keys
     roots: Keys
     looped: npt.NDArray[np.bool_]
-    parented: npt.NDArray[np.bool_]
-    repeated: Keys
-
-    @property
-    def kept(self) -> npt.NDArray[np.bool_]:
-        """The nodes whose root ``Chains.roots`` keeps: parents whose chain ends."""
-        return self.parented & ~self.looped
+    edge: npt.NDArray[np.bool_]
 
 
-def _walk(rows: list[npt.NDArray[Any]]) -> _Walked:
-    """Walk every chain of parents (``rows``: each row's id key, its parent's key, whether it
-    has a parent; emptied here, so each array is freed as soon as the walk is done with it: 8
-    bytes a body less at the peak; the first row of an id says its parent) one hop per step
-    over integer positions;
-    chains that reach a root drop out, so the work shrinks geometrically. Chains still walking
-    after ``MAX_DEPTH`` hops lie on a loop or lead into one (self-parents are loops of length
-    one). Hand-written: a fixed-point walk, which neither polars nor scipy offers, and polars'
-    joins held several times the memory of these arrays."""
-    ids, parents, has_parent = rows
-    rows.clear()
-    order = np.argsort(ids, kind="stable")  # stable: an id's first row comes first
-    ordered = ids[order]
-    del ids
-    first = np.ones(ordered.size, dtype=np.bool_)
-    first[1:] = ordered[1:] != ordered[:-1]
-    starts = np.flatnonzero(first)
-    repeated = ordered[starts[np.diff(starts, append=ordered.size) > 1]]
-    keep = order[starts]
-    del order, first
-    with_parent = has_parent[keep]
-    nodes, up = ordered[starts][with_parent], parents[keep[with_parent]]  # sorted by key
-    del ordered, keep, starts, with_parent
-    parented = _parents_among(nodes, parents, has_parent)
-    del parents, has_parent
+def _walk(nodes: Keys, up: Keys) -> _Walked:
+    """Walk every chain of parents (``nodes``: distinct keys that have a parent, in any order;
+    ``up``: each one's parent) one hop per step over integer positions; chains that reach a
+    root drop out, so the work shrinks geometrically. Chains still walking after ``MAX_DEPTH``
+    hops lie on a loop or lead into one (self-parents are loops of length one). Hand-written:
+    a fixed-point walk, which neither polars nor scipy offers, and polars' joins held several
+    times the memory of these arrays."""
+    order = np.argsort(nodes)
+    nodes, up = nodes[order], up[order]
+    del order
     at = np.empty(up.size, dtype=np.int64)
     by_parent = np.argsort(up)  # searching sorted keys: 10x faster than in row order
     at[by_parent] = np.minimum(np.searchsorted(nodes, up[by_parent]), max(nodes.size - 1, 0))
     del by_parent
     step = np.where(nodes[at] == up, at, -1)
+    del at
     last = np.arange(nodes.size)  # the last node of each chain (its parent is no node)
+    hops = np.zeros(nodes.size, dtype=np.uint8)  # steps until the chain ended (0: at once)
     walking = np.flatnonzero(step >= 0)
     current = step[walking]
-    for _ in range(MAX_DEPTH):
+    for hop in range(1, MAX_DEPTH + 1):
         if walking.size == 0:
             break
         ahead = step[current]
         done = ahead < 0
         last[walking[done]] = current[done]
+        hops[walking[done]] = hop
         walking, current = walking[~done], ahead[~done]
     looped = np.zeros(nodes.size, dtype=np.bool_)
     looped[walking] = True
-    return _Walked(nodes, up[last], looped, parented, repeated)
+    return _Walked(nodes, up[last], looped, looped | (hops == MAX_DEPTH))
 
 
-def _parents_among(nodes: Keys, parents: Keys,
-                   has_parent: npt.NDArray[np.bool_]) -> npt.NDArray[np.bool_]:
-    """Which of the sorted ``nodes`` are the parent of some row: only those need their root
-    kept (a system's bucket is looked up by a body's parent), a quarter of the ids in a demo."""
-    found = np.zeros(nodes.size, dtype=np.bool_)
-    if nodes.size == 0:
-        return found
-    # the distinct parents first (a hash pass), then a search of sorted keys: 4x faster than
-    # a binary search of every row's parent in row order
-    distinct = np.sort(pl.Series(parents).filter(pl.Series(has_parent)).unique().to_numpy())
-    at = np.minimum(np.searchsorted(nodes, distinct), nodes.size - 1)
-    found[at[nodes[at] == distinct]] = True
-    return found
+def _first_parented(ids: Keys, parents: Keys, has_parent: npt.NDArray[np.bool_]
+                    ) -> tuple[Keys, Keys]:
+    """The distinct ``ids`` whose first row has a parent, and that parent (one stable sort:
+    an id's first row comes first)."""
+    order = np.argsort(ids, kind="stable")
+    ordered = ids[order]
+    first = np.ones(ordered.size, dtype=np.bool_)
+    first[1:] = ordered[1:] != ordered[:-1]
+    keep = order[first]
+    keep = keep[has_parent[keep]]
+    return ids[keep], parents[keep]
 
 
+def _repeated(table: pl.LazyFrame) -> Keys:
+    """The hashes of ids on more than one row: one in-place sort of every id's hash (8 bytes a
+    body, the largest array the chains need; sorting a copy and keeping the rows' order held
+    about 40 bytes a body)."""
+    hashes = (table.filter(pl.col("id").is_not_null()).select(id_hash("id"))
+              .collect(engine="streaming").to_series())
+    keys = hashes.to_numpy(writable=True)
+    del hashes
+    keys.sort()
+    same = keys[1:] == keys[:-1]
+    return np.unique(keys[1:][same])
 
-def _hash_keys(table: pl.LazyFrame) -> pl.DataFrame:
-    """Every row with an id: its hash, its parent's hash, whether it has a parent (17 bytes)."""
-    return (table.filter(pl.col("id").is_not_null())
-            .select(id_hash("id").alias("id"), id_hash("parent").alias("parent"),
-                    pl.col("parent").is_not_null().alias("has_parent"))
-            .collect(engine="streaming"))
+
+def _later_rows(table: pl.LazyFrame, repeated: Keys) -> pl.Series:
+    """Positions of the rows of a repeated id after its first one: the first row of an id
+    says its parent, so the walk skips the others (only the repeated ids' rows are read)."""
+    if repeated.size == 0:
+        return pl.Series("_at", [], dtype=pl.UInt32)
+    rows = (table.with_row_index("_at")
+            .filter(pl.col("id").is_not_null()
+                    & id_hash("id").is_in(pl.Series(repeated).implode()))
+            .select("_at", id_hash("id").alias("_key")).collect(engine="streaming").sort("_at"))
+    return rows.filter(~pl.col("_key").is_first_distinct())["_at"]
+
+
+def _parented_rows(table: pl.LazyFrame, later: pl.Series) -> pl.LazyFrame:
+    """The rows that say an id's parent: with an id and a parent, the first row of their id;
+    as ``_key`` (the id's hash) and ``_up`` (the parent's)."""
+    rows = table.with_row_index("_at").filter(pl.col("id").is_not_null()
+                                              & pl.col("parent").is_not_null())
+    if later.len():
+        rows = rows.filter(~pl.col("_at").is_in(later.implode()))
+    return rows.select(id_hash("id").alias("_key"), id_hash("parent").alias("_up"))
+
+
+def _distinct_parents(table: pl.LazyFrame) -> Keys:
+    """The sorted hashes of every id some row (with an id) names as its parent."""
+    parents = (table.filter(pl.col("id").is_not_null() & pl.col("parent").is_not_null())
+               .select(id_hash("parent").unique()).collect(engine="streaming").to_series())
+    return np.sort(parents.to_numpy())
+
+
+def _parent_nodes(rows: pl.LazyFrame, parents: Keys) -> tuple[Keys, Keys]:
+    """The ids among the sorted ``parents`` that have a parent, and that parent: only their
+    chains need walking (every id on a chain but its first is some row's parent), a quarter of
+    the ids in a demo. Batch by batch (a binary search of each batch's ids), so memory follows
+    the parents, not the catalogue."""
+    keys, ups = [np.zeros(0, dtype=np.uint64)], [np.zeros(0, dtype=np.uint64)]
+    for batch in rows.collect_batches(chunk_size=SEARCH_BATCH):
+        key, up = batch["_key"].to_numpy(), batch["_up"].to_numpy()
+        if parents.size:
+            at = np.minimum(np.searchsorted(parents, key), parents.size - 1)
+            found = parents[at] == key
+            keys.append(key[found])
+            ups.append(up[found])
+    return np.concatenate(keys), np.concatenate(ups)
+
+
+def _children_of(rows: pl.LazyFrame, edge: Keys) -> Keys:
+    """The ids whose parent is among ``edge`` (looped, or at the end of a ``MAX_DEPTH`` chain):
+    their own chains never end either."""
+    if edge.size == 0:
+        return np.zeros(0, dtype=np.uint64)
+    found = rows.filter(pl.col("_up").is_in(pl.Series(edge).implode())).select("_key")
+    return found.collect(engine="streaming").to_series().to_numpy()
 
 
 def _colliding(table: pl.LazyFrame, repeated: Keys) -> bool:
@@ -147,7 +188,8 @@ def _colliding(table: pl.LazyFrame, repeated: Keys) -> bool:
 
 
 def _exact_chains(table: pl.LazyFrame, repeated: Keys) -> Chains:
-    """The walk on integer codes of the ids' text (when two ids share a hash)."""
+    """The walk on integer codes of the ids' text (when two ids share a hash): every id whose
+    first row has a parent is walked, in memory (too rare to plan memory for)."""
     text = (table.filter(pl.col("id").is_not_null()).select("id", "parent")
             .collect(engine="streaming"))
     names = pl.concat([text["id"], text["parent"].drop_nulls()]).unique(maintain_order=True)
@@ -156,8 +198,11 @@ def _exact_chains(table: pl.LazyFrame, repeated: Keys) -> Chains:
     def code(column: str) -> Keys:
         return text[column].replace_strict(codes, default=0, return_dtype=pl.UInt64).to_numpy()
 
-    walked = _walk([code("id"), code("parent"), text["parent"].is_not_null().to_numpy()])
-    ended = walked.kept
+    has_parent = text["parent"].is_not_null().to_numpy()
+    walked = _walk(*_first_parented(code("id"), code("parent"), has_parent))
+    parented = np.isin(walked.nodes, code("parent")[has_parent])
+    ended = parented & ~walked.looped
+
     def named(keys: Keys) -> pl.Series:
         return names.gather(keys.astype(np.int64))
 
@@ -167,20 +212,23 @@ def _exact_chains(table: pl.LazyFrame, repeated: Keys) -> Chains:
 
 
 def chain_roots(table: pl.LazyFrame) -> Chains:
-    """Where each chain of parents in ``table`` (id, parent) ends, walked on id hashes."""
-    keys = _hash_keys(table)
-    rows = [keys["id"].to_numpy(), keys["parent"].to_numpy(), keys["has_parent"].to_numpy()]
-    del keys  # the arrays are copies: hold one form at a time
-    walked = _walk(rows)
-    if _colliding(table, walked.repeated):
-        return _exact_chains(table, walked.repeated)
-    ended = walked.kept
+    """Where each chain of parents in ``table`` (id, parent) ends, walked on id hashes: the
+    repeated ids from one sort of the ids' hashes, then only the ids that are some row's parent
+    are walked (memory follows them; the ids below them, leaves, are found by their parent)."""
+    repeated = _repeated(table)
+    if _colliding(table, repeated):
+        return _exact_chains(table, repeated)
+    rows = _parented_rows(table, _later_rows(table, repeated))
+    walked = _walk(*_parent_nodes(rows, _distinct_parents(table)))
+    ended = ~walked.looped  # every walked node is some row's parent
     roots = pl.DataFrame({"id": walked.nodes[ended], "root": walked.roots[ended]},
                          schema={"id": pl.UInt64, "root": pl.UInt64})
-    looped = pl.Series(walked.nodes[walked.looped], dtype=pl.UInt64)
+    looped = pl.Series(np.concatenate([walked.nodes[walked.looped],
+                                       _children_of(rows, walked.nodes[walked.edge])]),
+                       dtype=pl.UInt64)
     on_loops = (table.filter(pl.col("id").is_not_null() & id_hash("id").is_in(looped.implode()))
                 .select(pl.col("id").unique()).collect(engine="streaming")["id"])
-    return Chains(roots, on_loops, pl.Series("_hash", walked.repeated, dtype=pl.UInt64))
+    return Chains(roots, on_loops, pl.Series("_hash", repeated, dtype=pl.UInt64))
 
 
 def cycle_members(table: pl.LazyFrame) -> pl.Series:
