@@ -122,16 +122,28 @@ def _repeated(table: pl.LazyFrame) -> Keys:
     return np.unique(keys[1:][same])
 
 
-def _later_rows(table: pl.LazyFrame, repeated: Keys) -> pl.Series:
-    """Positions of the rows of a repeated id after its first one: the first row of an id
-    says its parent, so the walk skips the others (only the repeated ids' rows are read)."""
+def _repeated_rows(table: pl.LazyFrame, repeated: Keys) -> pl.DataFrame:
+    """``_at`` (position), ``_key`` (id hash) and ``id`` of the rows whose id hash is among
+    ``repeated``, in row order (only those rows are read)."""
     if repeated.size == 0:
-        return pl.Series("_at", [], dtype=pl.UInt32)
-    rows = (table.with_row_index("_at")
+        return pl.DataFrame(schema={"_at": pl.UInt32, "_key": pl.UInt64, "id": pl.String})
+    return (table.with_row_index("_at")
             .filter(pl.col("id").is_not_null()
                     & id_hash("id").is_in(pl.Series(repeated).implode()))
-            .select("_at", id_hash("id").alias("_key")).collect(engine="streaming").sort("_at"))
-    return rows.filter(~pl.col("_key").is_first_distinct())["_at"]
+            .select("_at", id_hash("id").alias("_key"), "id").collect(engine="streaming")
+            .sort("_at"))
+
+
+def _later_rows(repeated_rows: pl.DataFrame) -> pl.Series:
+    """Positions of the rows of a repeated id after its first one: the first row of an id
+    says its parent, so the walk skips the others."""
+    return repeated_rows.filter(~pl.col("_key").is_first_distinct())["_at"]
+
+
+def _colliding(repeated_rows: pl.DataFrame) -> bool:
+    """Whether two different ids share a hash among the repeated ones."""
+    shared = repeated_rows.group_by("_key").agg(pl.col("id").n_unique().alias("_ids"))
+    return bool((shared["_ids"] > 1).any())
 
 
 def _parented_rows(table: pl.LazyFrame, later: pl.Series) -> pl.LazyFrame:
@@ -176,17 +188,6 @@ def _children_of(rows: pl.LazyFrame, edge: Keys) -> Keys:
     return found.collect(engine="streaming").to_series().to_numpy()
 
 
-def _colliding(table: pl.LazyFrame, repeated: Keys) -> bool:
-    """Whether two different ids share a hash among ``repeated`` (only those rows are read)."""
-    if repeated.size == 0:
-        return False
-    shared = (table.filter(pl.col("id").is_not_null()
-                           & id_hash("id").is_in(pl.Series(repeated).implode()))
-              .group_by(id_hash("id")).agg(pl.col("id").n_unique().alias("_ids"))
-              .filter(pl.col("_ids") > 1).collect(engine="streaming"))
-    return shared.height > 0
-
-
 def _exact_chains(table: pl.LazyFrame, repeated: Keys) -> Chains:
     """The walk on integer codes of the ids' text (when two ids share a hash): every id whose
     first row has a parent is walked, in memory (too rare to plan memory for)."""
@@ -216,9 +217,10 @@ def chain_roots(table: pl.LazyFrame) -> Chains:
     repeated ids from one sort of the ids' hashes, then only the ids that are some row's parent
     are walked (memory follows them; the ids below them, leaves, are found by their parent)."""
     repeated = _repeated(table)
-    if _colliding(table, repeated):
+    repeated_rows = _repeated_rows(table, repeated)
+    if _colliding(repeated_rows):
         return _exact_chains(table, repeated)
-    rows = _parented_rows(table, _later_rows(table, repeated))
+    rows = _parented_rows(table, _later_rows(repeated_rows))
     walked = _walk(*_parent_nodes(rows, _distinct_parents(table)))
     ended = ~walked.looped  # every walked node is some row's parent
     roots = pl.DataFrame({"id": walked.nodes[ended], "root": walked.roots[ended]},
