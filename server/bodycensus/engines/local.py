@@ -10,16 +10,17 @@ from __future__ import annotations
 import os
 import shutil
 import time
-from collections.abc import Mapping
+from collections.abc import Iterator, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 
+import numpy as np
+import numpy.typing as npt
 import polars as pl
 import pyarrow.parquet as pq
 
 from bodycensus.durable import fsync_path
 from bodycensus.engines.partition import (
-    PART,
     PARTITION_ROWS,
     CatalogueFacts,
     catalogue_facts,
@@ -118,20 +119,31 @@ def _split(table: pl.LazyFrame, parts: pl.Series, into: Path) -> list[Path]:
     writers: dict[int, pq.ParquetWriter] = {}
     try:
         for start in range(0, parts.len(), SPLIT_BATCH):  # collect_batches peaked 0.26 GB higher
-            batch = table.slice(start, SPLIT_BATCH).collect().with_columns(
-                parts.slice(start, SPLIT_BATCH).alias(PART))
-            for (number,), piece in batch.partition_by(PART, as_dict=True).items():
-                rows = piece.drop(PART).to_arrow()
+            batch = table.slice(start, SPLIT_BATCH).collect()
+            for number, at in _pieces(parts.slice(start, SPLIT_BATCH).to_numpy()):
+                rows = batch[at].to_arrow(compat_level=pl.CompatLevel.newest())  # no copy
                 if number not in writers:
                     folder = into / f"{number:05d}"
                     folder.mkdir(parents=True, exist_ok=True)
-                    writers[number] = pq.ParquetWriter(folder / "rows.parquet", rows.schema,
-                                                       compression=SCRATCH_COMPRESSION)
+                    # read once, whole: pyarrow's dictionaries and statistics doubled the write
+                    writers[number] = pq.ParquetWriter(
+                        folder / "rows.parquet", rows.schema, compression=SCRATCH_COMPRESSION,
+                        use_dictionary=False, write_statistics=False)
                 writers[number].write_table(rows)
     finally:
         for writer in writers.values():
             writer.close()
     return [into / f"{number:05d}" for number in sorted(writers)]
+
+
+def _pieces(numbers: npt.NDArray[np.uint32]) -> Iterator[tuple[int, npt.NDArray[np.intp]]]:
+    """Each partition number among ``numbers`` (ascending) with the positions of its rows, in
+    row order: one stable sort, then one piece gathered at a time (``partition_by`` held every
+    piece at once, 2.7x the slice)."""
+    order = np.argsort(numbers, kind="stable")
+    cuts = np.flatnonzero(np.diff(numbers[order])) + 1
+    for at in np.split(order, cuts) if order.size else []:
+        yield int(numbers[at[0]]), at
 
 
 def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,

@@ -162,13 +162,16 @@ def partition_numbers(table: pl.LazyFrame, chains: Chains, partitions: int) -> p
            .when(looped).then(pl.lit(_LOOP_ROOT).hash(seed=HASH_SEED)))
     keys = narrow.select(own.alias("_own"), id_hash("parent").alias("_parent_key"))
     ids, roots = chains.roots["id"].to_numpy(), chains.roots["root"].to_numpy()
-    numbers = [np.zeros(0, dtype=np.uint32)]
+    # filled in place: a list of batches then joined held the numbers twice
+    numbers = np.empty(int(narrow.select(pl.len()).collect().item()), dtype=np.uint32)
+    start = 0
     for batch in keys.collect_batches(chunk_size=SEARCH_BATCH):
         system = _system_keys(batch["_parent_key"].to_numpy(), ids, roots)
         own_key = batch["_own"]  # where set: a system without a parent, or the loops' one
         system[own_key.is_not_null().to_numpy()] = own_key.drop_nulls().to_numpy()
-        numbers.append((system % np.uint64(partitions)).astype(np.uint32))
-    return pl.Series(PART, np.concatenate(numbers), dtype=pl.UInt32)
+        numbers[start:start + system.size] = system % np.uint64(partitions)
+        start += system.size
+    return pl.Series(PART, numbers[:start], dtype=pl.UInt32)
 
 
 def _system_keys(parents: np.ndarray, ids: np.ndarray, roots: np.ndarray) -> np.ndarray:
