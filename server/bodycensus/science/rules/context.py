@@ -18,7 +18,7 @@ from pathlib import Path
 import polars as pl
 
 from bodycensus.science.physics import bodies, orbits
-from bodycensus.science.rules.bands import band_columns, unit_slip_hint
+from bodycensus.science.rules.bands import band_columns, unit_slip_hint, with_bands
 from bodycensus.science.rules.graph import Chains, chain_roots, id_hash
 from bodycensus.science.rules.medians import VALUE, binned_medians
 from bodycensus.science.rules.ring_context import own_ring_edges, ring_columns, rings_around
@@ -219,7 +219,7 @@ def _scored(table: pl.LazyFrame) -> pl.LazyFrame:
     """Each score's value per row with its label's code (from ``_body_columns`` and the bands,
     so the facts pass and ``derive`` score the same numbers)."""
     values = _score_values()
-    return _body_columns(table).with_columns(band_columns()).select(
+    return with_bands(_body_columns(table)).select(
         "_code", *[values[score].alias(score) for score in OUTLIER_SCORES])
 
 
