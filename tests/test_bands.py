@@ -20,6 +20,7 @@ from bodycensus.science.rules.bands import (
     curve_density,
     slip_factor,
     unit_slip_hint,
+    with_bands,
 )
 from bodycensus.science.units import M_EARTH, M_JUPITER, M_SUN
 
@@ -136,3 +137,16 @@ def test_every_slip_factor_is_a_ratio_of_known_units() -> None:
     assert len(factors) == len(UNIT_SLIPS)  # no slip listed twice
     # each slip comes with its inverse
     assert all((f, -k) in factors for f, k in factors)
+
+
+def test_bands_from_curves_computed_once_equal_the_bands_of_each_family() -> None:
+    # with_bands (the label statistics' pass) must give the very numbers band_columns gives
+    # (the rules' derive): every family, masses from a pebble to beyond the curves' validity
+    masses = [1e3, 1e18, 0.1 * M_EARTH, M_EARTH, 10 * M_EARTH, M_JUPITER, 60 * M_JUPITER,
+              0.5 * M_SUN, M_SUN, 3 * M_SUN, 1e40, None]
+    table = pl.LazyFrame({"family": [f for f in FAMILY_PARAMETERS for _ in masses],
+                          "_mass": [m for _ in FAMILY_PARAMETERS for m in masses]},
+                         schema={"family": pl.String, "_mass": pl.Float64})
+    expected = table.with_columns(band_columns()).collect()
+    assert with_bands(table).collect().equals(expected)
+    assert expected["_band_high"].is_not_null().sum() > len(FAMILY_PARAMETERS)
