@@ -3,10 +3,10 @@ each chain ends at (what keeps a system whole when a catalogue is split into par
 
 The chains are walked on 64-bit hashes of the ids in numpy, in passes that each hold little:
 the repeated ids from one in-place sort of every id's hash (8 bytes a body, the peak), then only
-the ids that are some row's parent are walked (every id on a chain but its first is a parent: a
-quarter of the ids in a demo), following integer positions; a leaf's chain never ends when its
-parent's does not. Sorting every row's id, parent and position at once held 1.26 GB at 30 million
-bodies; polars' joins of the ids' text held 2.2 GiB at 10 million, its joins of the hashes 0.9
+the ids that are some row's parent and have a parent are walked (every id on a chain but its
+first is a parent: a tenth of the ids in a demo), following integer positions; a leaf's chain
+never ends when its parent's does not. Sorting every row's id, parent and position at once held
+1.2 GiB above the rest at 30 million bodies (1.67 GiB peak); polars' joins of the ids' text held 2.2 GiB at 10 million, its joins of the hashes 0.9
 GiB. Hashes stand for ids only where no two different ids share one (checked on the few repeated
 hashes); otherwise the walk runs on integer codes of the ids' text, so loops are always found
 exactly."""
@@ -21,7 +21,6 @@ import polars as pl
 
 MAX_DEPTH = 64  # hops; real hierarchies are a handful deep (star, planet, moon, sub-moon)
 HASH_SEED = 0  # the seed of every id hash (the partition buckets use the same hashes)
-SEARCH_BATCH = 1 << 20  # rows whose id is looked up among the parents at a time
 Keys = npt.NDArray[np.uint64]
 
 
@@ -164,19 +163,13 @@ def _distinct_parents(table: pl.LazyFrame) -> Keys:
 
 
 def _parent_nodes(rows: pl.LazyFrame, parents: Keys) -> tuple[Keys, Keys]:
-    """The ids among the sorted ``parents`` that have a parent, and that parent: only their
-    chains need walking (every id on a chain but its first is some row's parent), a quarter of
-    the ids in a demo. Batch by batch (a binary search of each batch's ids), so memory follows
-    the parents, not the catalogue."""
-    keys, ups = [np.zeros(0, dtype=np.uint64)], [np.zeros(0, dtype=np.uint64)]
-    for batch in rows.collect_batches(chunk_size=SEARCH_BATCH):
-        key, up = batch["_key"].to_numpy(), batch["_up"].to_numpy()
-        if parents.size:
-            at = np.minimum(np.searchsorted(parents, key), parents.size - 1)
-            found = parents[at] == key
-            keys.append(key[found])
-            ups.append(up[found])
-    return np.concatenate(keys), np.concatenate(ups)
+    """The ids among ``parents`` that have a parent, and that parent: only their chains need
+    walking (every id on a chain but its first is some row's parent), a tenth of the ids in a
+    demo. A streaming semi join on the parents (1.7 s at 30M bodies, +83 MB; a binary search
+    batch by batch took 34 s)."""
+    found = (rows.join(pl.LazyFrame({"_key": parents}, schema={"_key": pl.UInt64}),
+                       on="_key", how="semi").collect(engine="streaming"))
+    return found["_key"].to_numpy(), found["_up"].to_numpy()
 
 
 def _children_of(rows: pl.LazyFrame, edge: Keys) -> Keys:
