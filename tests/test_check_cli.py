@@ -8,6 +8,9 @@ from pathlib import Path
 import pytest
 from cli_support import CLEAN, HEADER, IRON_IMPOSSIBLE, bodycensus
 
+from bodycensus.cli import check
+from bodycensus.cli.main import main
+
 
 @pytest.fixture()
 def clean_csv(tmp_path: Path) -> Path:
@@ -92,3 +95,22 @@ def test_table_limit_and_family_override(broken_csv: Path) -> None:
     done = bodycensus("check", str(broken_csv), "--family", "terrestrial planet=iron",
                       "--format", "json")
     assert json.loads(done.stdout)["catalogue"]["label_families"]["terrestrial planet"] == "iron"
+
+
+@pytest.mark.parametrize("fmt", ["json", "csv"])
+def test_output_written_slice_by_slice_equals_one_piece(
+        fmt: str, capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch) -> None:
+    """The findings go out 7 rows at a time (slices meet inside the list): the same text as in
+    one piece, byte for byte but the run's seconds; the JSON parses."""
+    sample = Path(__file__).resolve().parents[1] / "sample_data" / "varrow_shoals.csv"
+
+    def printed(rows: int) -> str:
+        monkeypatch.setattr(check, "OUTPUT_ROWS", rows)
+        assert main(["check", str(sample), "--format", fmt]) == 0
+        return "\n".join(line for line in capsys.readouterr().out.splitlines()
+                         if '"seconds"' not in line)
+
+    whole, sliced = printed(10**9), printed(7)
+    assert sliced == whole and whole.count("\n") > 50
+    if fmt == "json":
+        assert len(json.loads(sliced)["findings"]) > 7

@@ -180,12 +180,17 @@ def _sorted_findings(findings: pl.DataFrame) -> pl.DataFrame:
                          descending=[False, True, False], nulls_last=True)
 
 
+OUTPUT_ROWS = 20_000  # findings turned into JSON or CSV text at a time (``write_json_document``)
+
+
 def _print(result: CheckResult, gate: Gate, args: argparse.Namespace, out: TextIO) -> None:
     findings = _sorted_findings(gate.findings)
     if args.format == "json":
-        out.write(json_document(result, args.file, findings, gate_json(gate)))
+        write_json_document(out, result, args.file, findings, gate_json(gate))
     elif args.format == "csv":
-        out.write(neutralise_formulas(findings.drop("_row")).write_csv())
+        for start in range(0, max(findings.height, 1), OUTPUT_ROWS):
+            piece = neutralise_formulas(findings.slice(start, OUTPUT_ROWS).drop("_row"))
+            out.write(piece.write_csv(include_header=start == 0))
     else:
         out.write(table_text(result, args.file, findings, args.limit))
 
@@ -203,14 +208,19 @@ def _name(source: Path) -> str:
     return source.name if source.is_file() else describe(dataset_files(source))
 
 
-def json_document(result: CheckResult, source: Path, findings: pl.DataFrame,
-                  gate: dict[str, object] | None = None) -> str:
-    """The headless contract's JSON document (with the gate's decisions and baseline counts)."""
+def write_json_document(out: TextIO, result: CheckResult, source: Path, findings: pl.DataFrame,
+                        gate: dict[str, object] | None = None) -> None:
+    """Write the headless contract's JSON document (with the gate's decisions and baseline
+    counts) to ``out``, the findings a slice at a time: as one string, the text and its joined
+    copies were held at once at the end of the run, where a 30M-body check peaked."""
     head = {"catalogue": catalogue_info(result, source),
             "summary": {**result.summary, "coverage": result.coverage.to_dicts()}, **(gate or {})}
-    body = json.dumps(head, indent=1, default=str)[:-2]
-    return (body + ',\n "findings": ' + findings.drop("_row").write_json()
-            + ',\n "artefacts": ' + result.artefacts.write_json() + "\n}\n")
+    out.write(json.dumps(head, indent=1, default=str)[:-2] + ',\n "findings": [')
+    rows = findings.drop("_row")
+    for start in range(0, rows.height, OUTPUT_ROWS):
+        text = rows.slice(start, OUTPUT_ROWS).write_json()  # '[{...},...]': the brackets dropped
+        out.write(("," if start else "") + text[1:-1])
+    out.write('],\n "artefacts": ' + result.artefacts.write_json() + "\n}\n")
 
 
 def table_text(result: CheckResult, source: Path, findings: pl.DataFrame, limit: int) -> str:
