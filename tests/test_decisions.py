@@ -68,3 +68,27 @@ def test_a_bad_decision_is_refused_in_one_line(changes: dict[str, str], word: st
     with pytest.raises(BadInput, match=word) as caught:
         Decision(**fields)  # type: ignore[arg-type]
     assert "\n" not in str(caught.value)
+
+
+def test_a_decision_saved_elsewhere_is_read_at_once(tmp_path: Path) -> None:
+    """Reads are answered from memory while SQLite's data version stands still: a decision
+    saved by another process on the same data directory (a second server worker) or by another
+    store is read by the next request, with no wait."""
+    import subprocess
+    import sys
+
+    reader = Store(tmp_path).decisions
+    assert reader.of("universe") == [] and reader.of("universe") == []
+    script = ("import sys; from pathlib import Path; from bodycensus.storage.store import Store;"
+              "from bodycensus.storage.decisions import Decision;"
+              "Store(Path(sys.argv[1])).decisions.decide('universe', [Decision('finding',"
+              " 'denser-than-iron', 'B0000042', 'confirmed', '', 'Ben', '')])")
+    subprocess.run([sys.executable, "-c", script, str(tmp_path)], check=True)
+    assert reader.of("universe") == [ONE]
+    Store(tmp_path).decisions.decide("universe", [ICE])
+    assert reader.of("universe") == [ONE, ICE]
+    assert reader.key_of("cat1", "universe.csv") == "universe"
+    Store(tmp_path).decisions.set_key("cat1", "galaxy")
+    assert reader.key_of("cat1", "universe.csv") == "galaxy"
+    reader.undo("universe", [ONE.key])
+    assert reader.of("universe") == [ICE]

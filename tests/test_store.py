@@ -49,6 +49,21 @@ def test_publish_moves_the_finished_folder_and_drops_the_upload(tmp_path: Path) 
     assert [m.id for m in store.list()] == [ready.id]
 
 
+def test_a_manifest_changed_by_another_store_is_read_at_once(tmp_path: Path) -> None:
+    """Manifests are parsed once per version of their file; a rename or a re-run's publish by
+    another store (another server worker) on the same data directory shows at once, even when
+    the new manifest has the same size as the old."""
+    reader, writer = Store(tmp_path), Store(tmp_path)
+    ready = _publish(writer, _upload(writer))
+    assert reader.get(ready.id).name == "t.csv" and reader.get(ready.id) is reader.get(ready.id)
+    writer.rename(ready.id, "u.csv")  # same length: only the inode and the time differ
+    assert reader.get(ready.id).name == "u.csv"
+    writer.begin_rerun(ready.id, None)  # the re-run's manifest in incoming/ shadows the ready one
+    assert reader.get(ready.id).status == "mapping" and reader.get(ready.id).run == 2
+    writer.discard_rerun(ready.id)
+    assert reader.get(ready.id).status == "ready" and reader.get(ready.id).run == 1
+
+
 def test_a_catalogue_that_is_not_ready_is_a_conflict(tmp_path: Path) -> None:
     store = Store(tmp_path)
     manifest = _upload(store)

@@ -19,6 +19,8 @@ in the table ``catalogue_keys``.
 from __future__ import annotations
 
 import sqlite3
+import threading
+from collections import OrderedDict
 from collections.abc import Callable, Iterable, Iterator
 from contextlib import AbstractContextManager, closing
 from dataclasses import astuple, dataclass
@@ -101,20 +103,65 @@ def check_key(key: str) -> str:
     return key
 
 
+READS_KEPT = 256  # answers of read queries kept while the database does not change
+
+
 class DecisionBook:
-    """The decisions of every catalogue key, and the key chosen for each catalogue."""
+    """The decisions of every catalogue key, and the key chosen for each catalogue.
+
+    Reads are answered from memory while the database is unchanged: every screen asks for the
+    decisions of its catalogue, and a connection opened (and closed, which checkpoints the
+    write-ahead log) per request cost ~6% of a loaded server's time. "Unchanged" is SQLite's
+    own ``PRAGMA data_version`` on one connection kept open for asking it, which changes when
+    any other connection, of this process or another, commits; every write here goes through
+    a new connection, so a decision saved is read at once."""
 
     def __init__(self, connect: Connect, db_path: Path) -> None:
         self._connect, self._path = connect, db_path
         with connect() as conn:
             for statement in _SCHEMA:
                 conn.execute(statement)
+        self._kept: OrderedDict[tuple[str, tuple[str, ...]], tuple[int, list[tuple[object, ...]]]]
+        self._kept = OrderedDict()
+        self._lock = threading.Lock()
+        try:
+            self._watch: sqlite3.Connection | None = sqlite3.connect(
+                db_path, timeout=30, check_same_thread=False)
+        except sqlite3.Error:
+            self._watch = None
+
+    def _version(self) -> int | None:
+        """The database's data version as the watching connection sees it (None when it
+        cannot be asked: then nothing is answered from memory). Call under ``_lock``."""
+        if self._watch is None:
+            return None
+        try:
+            return int(self._watch.execute("PRAGMA data_version").fetchone()[0])
+        except sqlite3.Error:
+            return None
 
     def _read(self, sql: str, params: tuple[str, ...]) -> list[tuple[object, ...]]:
-        """Rows of a query. When the data directory has become read-only (a full or remounted
-        disk), SQLite cannot open its write-ahead log; the file is then read as immutable, so
-        the screens still show the decisions (every connection closes, which checkpoints the
-        log into the file)."""
+        """Rows of a query, from memory while the database has not changed since they were
+        read (see the class)."""
+        with self._lock:
+            version, slot = self._version(), (sql, params)
+            kept = self._kept.get(slot)
+            if version is not None and kept is not None and kept[0] == version:
+                self._kept.move_to_end(slot)
+                return kept[1]
+        rows = self._read_file(sql, params)
+        if version is not None:
+            with self._lock:
+                self._kept[slot] = (version, rows)
+                while len(self._kept) > READS_KEPT:
+                    self._kept.popitem(last=False)
+        return rows
+
+    def _read_file(self, sql: str, params: tuple[str, ...]) -> list[tuple[object, ...]]:
+        """Rows of a query read from the database. When the data directory has become
+        read-only (a full or remounted disk), SQLite cannot open its write-ahead log; the file
+        is then read as immutable, so the screens still show the decisions (every connection
+        closes, which checkpoints the log into the file)."""
         try:
             with self._connect() as conn:
                 return conn.execute(sql, params).fetchall()

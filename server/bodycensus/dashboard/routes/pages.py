@@ -27,6 +27,7 @@ from bodycensus.dashboard.screens.page_context import (
     body_extras,
     diagram_context,
     diagram_links,
+    drawn_page,
     format_number,
     rules_summary,
 )
@@ -40,6 +41,7 @@ from bodycensus.dashboard.screens.triage import (
     triage_counts,
 )
 from bodycensus.dashboard.screens.viewstate import ViewState
+from bodycensus.diagrams import registry
 from bodycensus.input.formats import accepted
 from bodycensus.science.families import FAMILIES
 from bodycensus.science.rules import RULES_BY_ID
@@ -50,6 +52,8 @@ from bodycensus.storage.store import SavedView, Store
 TEMPLATES_DIR = Path(str(files("bodycensus.web") / "templates"))
 templates = Jinja2Templates(directory=TEMPLATES_DIR)  # autoescape is on for every template
 templates.env.filters["num"] = format_number
+templates.env.auto_reload = False  # compiled once: the packaged templates do not change under a
+# running server, and checking each one's file on every render cost time under load
 router = APIRouter(include_in_schema=False)
 LABELS_SHOWN = 40
 NAME_COOKIE = "bodycensus_name"  # who decides: the name typed in a decide form (triage.js)
@@ -225,15 +229,18 @@ def diagrams_context(store: Store, cat_id: str, state: ViewState) -> dict[str, A
     """Distributions and the other diagrams: one plotly figure from the stored aggregates."""
     cat_dir = store.ready_dir(cat_id)
     context = diagram_context(cat_id, queries.aggregates(cat_dir), state, cat_url)
-    drawn = context["drawn"]
+    marks = drawn_page(context["drawn"], state, lambda s: cat_url(cat_id, "diagrams", state=s))
     decided = counts_by(cat_dir, decisions_of(store, cat_id)[1], "body",
-                        [m["body"] for m in drawn if m["body"] is not None])
+                        [m["body"] for m in marks["items"] if m["body"] is not None])
     selection = {"diagram": context["diagram"], "label": context["label"],
                  "field": context["field"], "findings": cat_url(cat_id, "findings"),
                  "bodies": cat_url(cat_id, "bodies")}
+    rules = registry.get(context["diagram"]).rules
     return {**context, "screen": "diagrams", "catalogue": store.get(cat_id).to_json(),
             "selection": selection, "state": state, "units_menu": False,
-            "drawn": [{**m, "decisions": decided.get(m["body"] or "")} for m in drawn],
+            "drawn": [{**m, "decisions": decided.get(m["body"] or "")} for m in marks["items"]],
+            "drawn_page": marks, "drawn_findings_href": cat_url(
+                cat_id, "findings", state=ViewState(rule=rules)) if rules else None,
             "query": state.to_query(), "default_query": f"diagram={context['diagram']}",
             "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/aggregates"}
 

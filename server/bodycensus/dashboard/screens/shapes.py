@@ -204,6 +204,18 @@ class DrawnMark(TypedDict):
     text: str
 
 
+class DrawnPage(TypedDict):
+    """One page of a figure's marked points: the marks, how many there are in all, the first
+    and last listed (counted from 1) and the addresses of the pages around it."""
+
+    items: list[DrawnMark]
+    total: int
+    first: int
+    last: int
+    prev_href: str | None
+    next_href: str | None
+
+
 class MappingRow(TypedDict):
     """One column of the file in the mapping step: samples and its guessed field and unit."""
 
