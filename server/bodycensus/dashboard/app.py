@@ -19,6 +19,7 @@ from fastapi.responses import FileResponse
 from fastapi.staticfiles import StaticFiles
 
 from bodycensus import __version__
+from bodycensus.dashboard.answers import KeptAnswers
 from bodycensus.dashboard.error_pages import install_error_handlers
 from bodycensus.dashboard.intake.jobs import Jobs, add_catalogue
 from bodycensus.dashboard.routes import api, compare, lists, manage, pages, triage
@@ -98,6 +99,7 @@ def create_app(settings: Settings) -> FastAPI:
     app.state.settings = settings
     app.state.templates = getattr(pages, "templates", None)
     install_error_handlers(app)
+    app.add_middleware(KeptAnswers)  # inside the gate: added first
     app.add_middleware(Guard, token=settings.token,
                        allowed_hosts=frozenset(settings.allowed_hosts))
     app.include_router(auth.router)

@@ -130,6 +130,12 @@ class DecisionBook:
         except sqlite3.Error:
             self._watch = None
 
+    def version(self) -> int | None:
+        """The database's data version: it changes whenever anything (decisions, keys, saved
+        views, presets) is committed to it, by any connection or process; None when unknown."""
+        with self._lock:
+            return self._version()
+
     def _version(self) -> int | None:
         """The database's data version as the watching connection sees it (None when it
         cannot be asked: then nothing is answered from memory). Call under ``_lock``."""

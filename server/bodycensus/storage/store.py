@@ -172,25 +172,39 @@ class Store:
         path = self._manifest_path(cat_id)
         if path is None:
             raise NotFound(f"no catalogue '{cat_id}'; GET /api/catalogues lists them")
-        return self._read_manifest(path)
+        return self._read_manifest(path)[1]
 
-    def _read_manifest(self, path: Path) -> Manifest:
-        """The manifest in ``path``, parsed once per version of the file: every screen asks
-        for its catalogue's manifest several times a request (~6% of a loaded server's time
-        with the decisions). A manifest is only ever replaced whole (written to a temporary
-        name and renamed), so its inode, modification time and size name the version."""
+    def ready_version(self, cat_id: str) -> tuple[str, int, int, int] | None:
+        """What names this version of a ready catalogue's results (its id and its manifest
+        file's version, see ``_read_manifest``), or None when it is not ready: its files do
+        not change until the manifest does (a re-run publishes a new folder and manifest)."""
+        path = self._manifest_path(cat_id)
+        if cat_id in self._unsaved or path is None or path.parent.parent != self.catalogues:
+            return None
+        try:
+            version, manifest = self._read_manifest(path)
+        except (OSError, ValueError):
+            return None
+        return (cat_id, *version) if manifest.status == "ready" else None
+
+    def _read_manifest(self, path: Path) -> tuple[tuple[int, int, int], Manifest]:
+        """The manifest in ``path`` and its version, parsed once per version of the file: every
+        screen asks for its catalogue's manifest several times a request (~6% of a loaded
+        server's time with the decisions). A manifest is only ever replaced whole (written to a
+        temporary name and renamed), so its inode, modification time and size name the
+        version."""
         seen = path.stat()
         version = (seen.st_ino, seen.st_mtime_ns, seen.st_size)
         with self._lock:
             kept = self._manifests.get(path)
         if kept is not None and kept[0] == version:
-            return kept[1]
+            return kept
         manifest = Manifest.from_json(json.loads(path.read_text(encoding="utf-8")))
         with self._lock:
             self._manifests[path] = (version, manifest)
             while len(self._manifests) > MANIFESTS_KEPT:
                 self._manifests.pop(next(iter(self._manifests)))
-        return manifest
+        return version, manifest
 
     def list(self) -> list[Manifest]:
         """Every catalogue, newest first (a catalogue being re-run once, as its re-run)."""
