@@ -80,7 +80,16 @@ def test_catalogue_list_and_reads(served: tuple[SyncClient, str, Path]) -> None:
     coverage = client.get(f"/api/catalogues/{cat_id}/coverage").json()
     assert coverage and {"rule", "evaluated", "skipped"} <= set(coverage[0])
     assert isinstance(client.get(f"/api/catalogues/{cat_id}/artefacts").json(), list)
-    assert client.get(f"/api/catalogues/{cat_id}/aggregates").json()["rows"] == ROWS
+    whole = client.get(f"/api/catalogues/{cat_id}/aggregates").json()
+    assert whole["rows"] == ROWS and "diagrams" not in whole  # each diagram at its own address
+    one = client.get(whole["diagram_urls"]["mass-radius"]).json()
+    assert one["rows"] == ROWS and list(one["diagrams"]) == ["mass-radius"]
+    assert one["diagrams"]["mass-radius"]["x_edges"]
+    two = client.get(f"/api/catalogues/{cat_id}/aggregates",
+                     params=[("diagram", "roche"), ("diagram", "density")]).json()
+    assert list(two["diagrams"]) == ["roche", "density"]
+    assert_error(client.get(f"/api/catalogues/{cat_id}/aggregates",
+                            params={"diagram": "nosuch"}), 400, "bad_input")
     overview = client.get(f"/api/catalogues/{cat_id}/overview").json()
     assert overview["summary"]["rows"] == ROWS
 

@@ -105,7 +105,7 @@ def test_diagram_pages_embed_figures_with_reference_lines(site: tuple[SyncClient
     names = {t["name"].split(" (")[0] for t in figure["data"] if t.get("meta") == "reference"}
     assert expected <= names
     assert '<script src="/static/vendor/plotly.min.js"' in page
-    assert f"/api/catalogues/{site[1]}/aggregates" in _hrefs(page)
+    assert f"/api/catalogues/{site[1]}/aggregates?diagram={diagram}" in _hrefs(page)
 
 
 def test_diagram_page_lists_each_flagged_body_it_draws_as_a_link(

@@ -6,6 +6,7 @@ from collections.abc import Mapping, Sequence
 from dataclasses import asdict
 from pathlib import Path
 from typing import Annotated, Any, Literal, cast
+from urllib.parse import quote
 
 from fastapi import APIRouter, Depends, Query, Request, Response
 from fastapi.responses import FileResponse
@@ -315,10 +316,23 @@ def list_systems(request: Request, cat_dir: ReadyDir, severity: FilterQuery = No
 
 
 @router.get("/catalogues/{catalogue_id}/aggregates")
-def get_aggregates(cat_dir: ReadyDir) -> Mapping[str, Any]:
-    """Binned counts for the overview and, under ``diagrams``, for every diagram by its key
-    (the browser never gets raw rows)."""
-    return queries.aggregates(cat_dir)
+def get_aggregates(catalogue_id: str, cat_dir: ReadyDir,
+                   diagram: Annotated[list[str] | None, Query()] = None
+                   ) -> Mapping[str, Any]:
+    """Binned counts for the overview and, under ``diagrams``, for the diagrams asked by key
+    (``diagram=``, repeatable; the browser never gets raw rows). Without ``diagram`` the
+    diagrams are left out and ``diagram_urls`` gives each one's address: every diagram at once
+    is ~4 MB of JSON at 10M bodies, past the ~2 MB any one answer may carry."""
+    aggs = queries.aggregates(cat_dir)
+    rest = {k: v for k, v in aggs.items() if k != "diagrams"}
+    if not diagram:
+        base = f"/api/catalogues/{quote(catalogue_id, safe='')}/aggregates?diagram="
+        return {**rest, "diagram_urls": {key: base + key for key in aggs["diagrams"]}}
+    unknown = [key for key in diagram if key not in aggs["diagrams"]]
+    if unknown:
+        raise BadInput(f"no diagram {unknown[0][:64]!r}; use one of "
+                       f"{', '.join(aggs['diagrams'])}")
+    return {**rest, "diagrams": {key: aggs["diagrams"][key] for key in diagram}}
 
 
 @router.get("/diagrams", response_model=list[DiagramOut])

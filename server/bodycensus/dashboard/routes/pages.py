@@ -242,7 +242,8 @@ def diagrams_context(store: Store, cat_id: str, state: ViewState) -> dict[str, A
             "drawn_page": marks, "drawn_findings_href": cat_url(
                 cat_id, "findings", state=ViewState(rule=rules)) if rules else None,
             "query": state.to_query(), "default_query": f"diagram={context['diagram']}",
-            "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/aggregates"}
+            "json_url": f"/api/catalogues/{quote(cat_id, safe='')}/aggregates"
+                        f"?diagram={quote(context['diagram'], safe='')}"}
 
 
 @router.get("/catalogues/{catalogue_id}/diagrams", response_class=HTMLResponse)
