@@ -189,11 +189,12 @@ def _field_rows(row: dict[str, Any], choices: dict[str, ColumnChoice]) -> list[F
     return out
 
 
-def _worst(found: pl.DataFrame | None) -> dict[str, str]:
-    """The most serious severity of each body in ``found`` (findings)."""
-    if found is None:
+def _worst(cat_dir: Path, ids: list[str]) -> dict[str, str]:
+    """The most serious severity found for each of ``ids``."""
+    if not ids:
         return {}
-    df = found.group_by("body").agg(pl.col("severity").sort_by(rank_expr()).first())
+    df = (findings_of(cat_dir, "body", ids)
+          .group_by("body").agg(pl.col("severity").sort_by(rank_expr()).first()).collect())
     return dict(zip(df["body"].to_list(), df["severity"].to_list(), strict=True))
 
 
@@ -243,8 +244,7 @@ def body_detail(cat_dir: Path, body_id: str, mapping: Mapping[str, Any] | None,
         "id": body_id, "row": row.get("_row"), "bad": row.get("_bad"),
         "duplicates": rows.height - 1, "fields": _field_rows(row, _choices(mapping)),
         "derived": derived, "extra": extra, "findings": findings,
-        "system": _system(parts, _worst(findings_of(cat_dir, "body", kin).collect()
-                                        if kin else None)),
+        "system": _system(parts, _worst(cat_dir, kin)),
     }))
 
 
