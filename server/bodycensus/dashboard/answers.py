@@ -4,7 +4,7 @@ they depend on has changed.
 A ready catalogue's files never change under it (a re-run publishes a new folder with a new
 manifest); what else a read shows lives in SQLite (triage decisions, the catalogue key, saved
 views). So an answer is kept under the catalogue's manifest version (``Store.ready_version``),
-SQLite's data version (``DecisionBook.version``), the path and the query; a decision saved, a
+the database's version (``DecisionBook.version``), the path and the query; a decision saved, a
 rename or a re-run changes one of them and the next request renders afresh. Both versions are
 read before the answer is rendered, so a change made while it renders files it under the old
 versions, never the new.
@@ -100,17 +100,16 @@ class KeptAnswers:
 
     def _key(self, scope: Scope) -> Hashable | None:
         """What a kept answer to this request depends on, or None when it is not kept (another
-        path, a catalogue that is not ready, a database that cannot say its version)."""
+        path, a catalogue that is not ready)."""
         found = KEPT_PATHS.match(scope["path"])
         store: Store | None = getattr(scope["app"].state, "store", None) \
             if "app" in scope else None
         if found is None or store is None:
             return None
         run = store.ready_version(unquote(found["api"] or found["page"]))
-        decided = store.decisions.version()
-        if run is None or decided is None:
+        if run is None:
             return None
-        return run, decided, scope["path"], scope.get("query_string", b"")
+        return run, store.decisions.version(), scope["path"], scope.get("query_string", b"")
 
     def _keeping(self, key: Hashable, send: Send) -> Send:
         """``send`` that also keeps a complete 200 answer of at most ``MAX_ANSWER`` bytes."""

@@ -21,7 +21,7 @@ from __future__ import annotations
 import sqlite3
 import threading
 from collections import OrderedDict
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Hashable, Iterable, Iterator
 from contextlib import AbstractContextManager, closing
 from dataclasses import astuple, dataclass
 from pathlib import Path
@@ -104,6 +104,16 @@ def check_key(key: str) -> str:
 
 
 READS_KEPT = 256  # answers of read queries kept while the database does not change
+Row = tuple[object, ...]
+
+
+def _file_version(path: Path) -> tuple[int, ...]:
+    """A file's inode, modification time and size; empty when it does not exist."""
+    try:
+        seen = path.stat()
+    except FileNotFoundError:
+        return ()
+    return seen.st_ino, seen.st_mtime_ns, seen.st_size
 
 
 class DecisionBook:
@@ -111,59 +121,47 @@ class DecisionBook:
 
     Reads are answered from memory while the database is unchanged: every screen asks for the
     decisions of its catalogue, and a connection opened (and closed, which checkpoints the
-    write-ahead log) per request cost ~6% of a loaded server's time. "Unchanged" is SQLite's
-    own ``PRAGMA data_version`` on one connection kept open for asking it, which changes when
-    any other connection, of this process or another, commits; every write here goes through
-    a new connection, so a decision saved is read at once."""
+    write-ahead log) per request cost ~6% of a loaded server's time. "Unchanged" is
+    ``version``: the count of this process's committed writes (``generation``, kept by the
+    store's connections) with the database file's and its write-ahead log's inode, modification
+    time and size, which any other process's commit changes. No connection is kept open: one
+    held open would keep the log from being checkpointed into the file when the others close,
+    and a data directory with a file open for writing cannot be remounted read-only."""
 
-    def __init__(self, connect: Connect, db_path: Path) -> None:
-        self._connect, self._path = connect, db_path
+    def __init__(self, connect: Connect, db_path: Path,
+                 generation: Callable[[], int] = lambda: 0) -> None:
+        self._connect, self._path, self._generation = connect, db_path, generation
         with connect() as conn:
             for statement in _SCHEMA:
                 conn.execute(statement)
-        self._kept: OrderedDict[tuple[str, tuple[str, ...]], tuple[int, list[tuple[object, ...]]]]
+        self._kept: OrderedDict[tuple[str, tuple[str, ...]], tuple[Hashable, list[Row]]]
         self._kept = OrderedDict()
         self._lock = threading.Lock()
-        try:
-            self._watch: sqlite3.Connection | None = sqlite3.connect(
-                db_path, timeout=30, check_same_thread=False)
-        except sqlite3.Error:
-            self._watch = None
 
-    def version(self) -> int | None:
-        """The database's data version: it changes whenever anything (decisions, keys, saved
-        views, presets) is committed to it, by any connection or process; None when unknown."""
-        with self._lock:
-            return self._version()
+    def version(self) -> Hashable:
+        """What changes whenever anything (decisions, keys, saved views, presets) is committed
+        to the database, by this process or another (see the class)."""
+        return (self._generation(), _file_version(self._path),
+                _file_version(self._path.with_name(self._path.name + "-wal")))
 
-    def _version(self) -> int | None:
-        """The database's data version as the watching connection sees it (None when it
-        cannot be asked: then nothing is answered from memory). Call under ``_lock``."""
-        if self._watch is None:
-            return None
-        try:
-            return int(self._watch.execute("PRAGMA data_version").fetchone()[0])
-        except sqlite3.Error:
-            return None
-
-    def _read(self, sql: str, params: tuple[str, ...]) -> list[tuple[object, ...]]:
+    def _read(self, sql: str, params: tuple[str, ...]) -> list[Row]:
         """Rows of a query, from memory while the database has not changed since they were
-        read (see the class)."""
+        read (see the class); the version is taken before reading, so a write during the read
+        leaves rows filed under the old version."""
+        version, slot = self.version(), (sql, params)
         with self._lock:
-            version, slot = self._version(), (sql, params)
             kept = self._kept.get(slot)
-            if version is not None and kept is not None and kept[0] == version:
+            if kept is not None and kept[0] == version:
                 self._kept.move_to_end(slot)
                 return kept[1]
         rows = self._read_file(sql, params)
-        if version is not None:
-            with self._lock:
-                self._kept[slot] = (version, rows)
-                while len(self._kept) > READS_KEPT:
-                    self._kept.popitem(last=False)
+        with self._lock:
+            self._kept[slot] = (version, rows)
+            while len(self._kept) > READS_KEPT:
+                self._kept.popitem(last=False)
         return rows
 
-    def _read_file(self, sql: str, params: tuple[str, ...]) -> list[tuple[object, ...]]:
+    def _read_file(self, sql: str, params: tuple[str, ...]) -> list[Row]:
         """Rows of a query read from the database. When the data directory has become
         read-only (a full or remounted disk), SQLite cannot open its write-ahead log; the file
         is then read as immutable, so the screens still show the decisions (every connection

@@ -21,6 +21,7 @@ the kept file; its publish swaps the folders, and until then the previous result
 from __future__ import annotations
 
 import builtins
+import itertools
 import json
 import math
 import os
@@ -128,8 +129,9 @@ class Store:
         self._lock = threading.RLock()
         self._unsaved: dict[str, Manifest] = {}  # failures the disk would not take
         self._manifests: dict[Path, tuple[tuple[int, int, int], Manifest]] = {}
+        self._writes, self._generation = itertools.count(1), 0  # commits made here
         self._init_db()
-        self.decisions = DecisionBook(self._db, self.db_path)
+        self.decisions = DecisionBook(self._db, self.db_path, lambda: self._generation)
         self.recover()
 
     # --- catalogues ------------------------------------------------------------------------
@@ -456,8 +458,11 @@ class Store:
     @contextmanager
     def _db(self) -> Iterator[sqlite3.Connection]:
         """A short-lived connection in a transaction (one per call keeps threads apart)."""
-        with closing(sqlite3.connect(self.db_path, timeout=30)) as conn, conn:
-            yield conn
+        with closing(sqlite3.connect(self.db_path, timeout=30)) as conn:
+            with conn:
+                yield conn
+            if conn.total_changes:  # committed: kept reads of the database are stale
+                self._generation = next(self._writes)
 
     def _init_db(self) -> None:
         """Create the tables and switch the database to write-ahead logging."""
