@@ -176,20 +176,22 @@ def _first_requests(server: Server, kinds: dict[str, RequestKind]) -> dict[str, 
 
 def measure_latency(run: Path, bodies: int, folder: Path, options: BenchOptions
                     ) -> dict[str, Any]:
-    """Serve the run folder and time each kind of request, then all mixed, per client count.
-    A server the watchdog kills (memory past ``--max-mib``) marks its phase and is started
-    again for the phases left."""
-    data_dir, chosen = folder / "serve-data", picks(run)
+    """Serve the run folder and time each kind of request, then all mixed, per client count;
+    each phase picks its own bodies and systems (``served.SAMPLE``). A server the watchdog
+    kills (memory past ``--max-mib``) marks its phase and is started again for the phases
+    left."""
+    data_dir = folder / "serve-data"
     plan = [(clients, name) for clients in options.clients for name in [*KINDS, MIXED]]
     phases: list[dict[str, Any]] = []
     first: dict[str, float] = {}
     peak = 0.0
     while plan:
         with serve_run(run, data_dir, options.max_mib) as server:
-            kinds = request_kinds(server.catalogue, chosen)
-            first = first or _first_requests(server, kinds)
+            first = first or _first_requests(server, request_kinds(server.catalogue,
+                                                                   picks(run)))
             while plan:
                 clients, name = plan.pop(0)
+                kinds = request_kinds(server.catalogue, picks(run, seed=1 + len(phases)))
                 say(f"latency on {bodies:,} bodies: {name}, {clients} client(s), "
                     f"{options.seconds:g} s")
                 phases.append(_phase(server, kinds, name, clients, options.seconds))

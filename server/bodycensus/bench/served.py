@@ -30,7 +30,10 @@ from bodycensus.science.severity import SEVERITIES
 from bodycensus.storage.runs import scan_findings
 
 START_SECONDS = 120.0  # a server that does not answer by then has failed
-SAMPLE = 500  # bodies, systems and labels the requests pick from
+# Bodies, systems and labels one phase's requests pick from: each phase draws its own (a seed
+# per phase), so answers the server keeps (dashboard/answers.py) from a phase do not flatter the
+# next, and within a phase few requests repeat one.
+SAMPLE = 5_000
 KINDS = ("overview", "findings", "histogram", "mass-radius", "body", "system", "systems")
 
 
