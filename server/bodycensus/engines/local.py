@@ -11,6 +11,7 @@ import os
 import shutil
 import time
 from collections.abc import Mapping
+from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -23,6 +24,7 @@ from bodycensus.durable import fsync_path
 from bodycensus.engines.partition import (
     PARTITION_ROWS,
     CatalogueFacts,
+    PartitionResult,
     catalogue_facts,
     check_partition,
     fill_families,
@@ -159,7 +161,10 @@ def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
                       progress: Progress) -> tuple[pl.DataFrame, pl.DataFrame]:
     """Check each partition in turn (memory follows one partition): its bodies go to
     ``bodies/part-NNNNN.parquet`` (the folder is filled under a temporary name, fsynced, then
-    renamed into place); the merged findings and coverage counts come back."""
+    renamed into place); the merged findings and coverage counts come back. A partition's files
+    are written by one writer thread while the next partition is checked (polars releases the
+    GIL): at most one partition's results wait to be written, so memory grows by one
+    partition's stored bodies, not more."""
     out, filling = workdir / "bodies", workdir / "bodies.tmp"
     spilled = workdir / "findings.parts"  # each partition's findings, until they are merged
     for folder in (filling, spilled):
@@ -168,12 +173,20 @@ def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
     findings, counts = [], []
     progress("rules", 0.0)
     try:
-        for i, folder in enumerate(folders):
-            result = check_partition(pl.read_parquet(folder / "*.parquet"), facts)
-            write_bodies_file(result.bodies, filling / f"part-{i:05d}.parquet")
-            findings.append(_spill(result.findings, spilled / f"part-{i:05d}.parquet"))
-            counts.append(result.coverage)
-            progress("rules", (i + 1) / len(folders))
+        with ThreadPoolExecutor(max_workers=1, thread_name_prefix="partition-writer") as writer:
+            writing: Future[pl.LazyFrame] | None = None
+            for i, folder in enumerate(folders):
+                result = check_partition(pl.read_parquet(folder / "*.parquet"), facts)
+                if writing is not None:  # the previous partition's files first: one in flight
+                    findings.append(writing.result())
+                    progress("rules", i / len(folders))
+                writing = writer.submit(_store, result, filling / f"part-{i:05d}.parquet",
+                                        spilled / f"part-{i:05d}.parquet")
+                counts.append(result.coverage)
+                del result  # the writer holds the only reference until it has written it
+            if writing is not None:
+                findings.append(writing.result())
+                progress("rules", 1.0)
         fsync_path(filling)
         shutil.rmtree(out, ignore_errors=True)
         os.replace(filling, out)
@@ -181,6 +194,12 @@ def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
     finally:
         shutil.rmtree(spilled, ignore_errors=True)
     return merged, pl.concat(counts) if counts else pl.DataFrame()
+
+
+def _store(result: PartitionResult, bodies: Path, findings: Path) -> pl.LazyFrame:
+    """Write one partition's bodies file and spill its findings (the writer thread's job)."""
+    write_bodies_file(result.bodies, bodies)
+    return _spill(result.findings, findings)
 
 
 def _spill(findings: pl.DataFrame, path: Path) -> pl.LazyFrame:
