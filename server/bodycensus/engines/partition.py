@@ -21,7 +21,7 @@ import polars as pl
 
 from bodycensus.science.families import FAMILIES, family_mapping
 from bodycensus.science.rules import all_rules
-from bodycensus.science.rules.base import Rule, coverage_counts, evaluate
+from bodycensus.science.rules.base import Rule, coverage_counts, evaluate, flagged
 from bodycensus.science.rules.context import ContextFacts, context_facts, derive
 from bodycensus.science.rules.graph import (
     HASH_SEED,
@@ -196,7 +196,7 @@ def check_partition(frame: pl.DataFrame, facts: CatalogueFacts) -> PartitionResu
     # self.len()") on the rules' pl.format messages over an in-memory frame.
     bodies = derive(table, facts.context).collect(engine="in-memory")
     rules = facts.rules()
-    findings = evaluate(bodies.lazy(), rules).collect(engine="in-memory")
+    findings = evaluate(flagged(bodies, rules).lazy(), rules).collect(engine="in-memory")
     return PartitionResult(bodies.select(stored_columns(bodies.columns)), findings,
                            coverage_counts(bodies.lazy(), rules))
 
