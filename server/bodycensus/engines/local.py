@@ -10,6 +10,7 @@ from __future__ import annotations
 import os
 import shutil
 import time
+from collections import deque
 from collections.abc import Mapping
 from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
@@ -24,7 +25,6 @@ from bodycensus.durable import fsync_path
 from bodycensus.engines.partition import (
     PARTITION_ROWS,
     CatalogueFacts,
-    PartitionResult,
     catalogue_facts,
     check_partition,
     fill_families,
@@ -157,14 +157,17 @@ def _gathered(batch: pl.DataFrame, order: np.ndarray) -> pa.Table:
     return pa.Table.from_arrays(arrays, names=names)
 
 
+CHECKERS = 2  # partitions read, checked and written at once (memory follows them: see below)
+
+
 def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
                       progress: Progress) -> tuple[pl.DataFrame, pl.DataFrame]:
-    """Check each partition in turn (memory follows one partition): its bodies go to
-    ``bodies/part-NNNNN.parquet`` (the folder is filled under a temporary name, fsynced, then
-    renamed into place); the merged findings and coverage counts come back. A partition's files
-    are written by one writer thread while the next partition is checked (polars releases the
-    GIL): at most one partition's results wait to be written, so memory grows by one
-    partition's stored bodies, not more."""
+    """Check the partitions, ``CHECKERS`` at a time, each read, checked and written by its own
+    thread (polars releases the GIL; one partition's check kept little more than one core busy):
+    its bodies go to ``bodies/part-NNNNN.parquet`` (the folder is filled under a temporary name,
+    fsynced, then renamed into place); the merged findings and coverage counts come back. At
+    most ``CHECKERS`` partitions are in memory at once: memory follows ``CHECKERS`` times a
+    partition (``CheckOptions.partition_rows``)."""
     out, filling = workdir / "bodies", workdir / "bodies.tmp"
     spilled = workdir / "findings.parts"  # each partition's findings, until they are merged
     for folder in (filling, spilled):
@@ -172,21 +175,24 @@ def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
         folder.mkdir(parents=True)
     findings, counts = [], []
     progress("rules", 0.0)
+
+    def collect(done: Future[tuple[pl.LazyFrame, pl.DataFrame]]) -> None:
+        spilled_findings, coverage = done.result()
+        findings.append(spilled_findings)
+        counts.append(coverage)
+        progress("rules", len(counts) / len(folders))
+
     try:
-        with ThreadPoolExecutor(max_workers=1, thread_name_prefix="partition-writer") as writer:
-            writing: Future[pl.LazyFrame] | None = None
+        with ThreadPoolExecutor(CHECKERS, thread_name_prefix="partition") as pool:
+            running: deque[Future[tuple[pl.LazyFrame, pl.DataFrame]]] = deque()
             for i, folder in enumerate(folders):
-                result = check_partition(pl.read_parquet(folder / "*.parquet"), facts)
-                if writing is not None:  # the previous partition's files first: one in flight
-                    findings.append(writing.result())
-                    progress("rules", i / len(folders))
-                writing = writer.submit(_store, result, filling / f"part-{i:05d}.parquet",
-                                        spilled / f"part-{i:05d}.parquet")
-                counts.append(result.coverage)
-                del result  # the writer holds the only reference until it has written it
-            if writing is not None:
-                findings.append(writing.result())
-                progress("rules", 1.0)
+                if len(running) == CHECKERS:  # in order, so the window never grows
+                    collect(running.popleft())
+                running.append(pool.submit(_check_one, folder, facts,
+                                           filling / f"part-{i:05d}.parquet",
+                                           spilled / f"part-{i:05d}.parquet"))
+            while running:
+                collect(running.popleft())
         fsync_path(filling)
         shutil.rmtree(out, ignore_errors=True)
         os.replace(filling, out)
@@ -196,10 +202,13 @@ def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
     return merged, pl.concat(counts) if counts else pl.DataFrame()
 
 
-def _store(result: PartitionResult, bodies: Path, findings: Path) -> pl.LazyFrame:
-    """Write one partition's bodies file and spill its findings (the writer thread's job)."""
+def _check_one(folder: Path, facts: CatalogueFacts, bodies: Path,
+               findings: Path) -> tuple[pl.LazyFrame, pl.DataFrame]:
+    """Read, check and write one partition (one thread's job): its spilled findings and its
+    coverage counts come back."""
+    result = check_partition(pl.read_parquet(folder / "*.parquet"), facts)
     write_bodies_file(result.bodies, bodies)
-    return _spill(result.findings, findings)
+    return _spill(result.findings, findings), result.coverage
 
 
 def _spill(findings: pl.DataFrame, path: Path) -> pl.LazyFrame:

@@ -31,7 +31,7 @@ from bodycensus.science.rules.graph import (
 )
 from bodycensus.science.rules.orbit import OrbitSettings
 
-PARTITION_ROWS = 250_000  # bodies per partition the local engine aims at (memory follows it)
+PARTITION_ROWS = 125_000  # bodies per partition the local engine aims at (memory follows it)
 PART = "_part"  # the partition number column of the partitioned normalised table
 SEARCH_BATCH = 1 << 20  # rows whose system is looked up at a time (``partition_numbers``)
 _LOOP_ROOT = "\x00loop"  # the one system of every id whose chain of parents never ends
