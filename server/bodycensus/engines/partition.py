@@ -15,6 +15,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+from functools import cache
 
 import numpy as np
 import polars as pl
@@ -48,8 +49,15 @@ class CatalogueFacts:
     orbit_settings: OrbitSettings = field(default_factory=OrbitSettings)
 
     def rules(self) -> tuple[Rule, ...]:
-        """The rules every partition runs, in the registry's order."""
-        return all_rules(self.orbit_settings)
+        """The rules every partition runs, in the registry's order (built once per settings:
+        building their expressions took 28 ms, a tenth of a small partition's fixed cost)."""
+        return _rules(self.orbit_settings)
+
+
+@cache
+def _rules(settings: OrbitSettings) -> tuple[Rule, ...]:
+    """``all_rules`` for ``settings`` (frozen, so the same settings give the same rules)."""
+    return all_rules(settings)
 
 
 SHOWN_WORKING = ("_row", "_bad")  # underscore columns the pages read: file row, ingest flag
