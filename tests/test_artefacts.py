@@ -250,3 +250,26 @@ def test_steep_smooth_tail_predicts_few_but_a_flat_edge_many() -> None:
 
     assert _tail_expected(np.array([24.0, 71.0, 88.0]), 2) < ArtefactConfig().min_expected
     assert _tail_expected(np.array([77.0, 72.0, 117.0]), 2) > 100
+
+
+def test_a_hole_narrower_than_a_bin_is_found_from_the_values_beside_it() -> None:
+    """Synthetic known answer: 300,000 normal values with none in 0.45..0.46 (a quarter of a
+    Freedman-Diaconis bin, ~1,000 values due there): found, with its interval."""
+    sample = np.random.default_rng(31).standard_normal(300_000)
+    found = _label_rows(detect_artefacts(_frame(sample[(sample < 0.45) | (sample > 0.46)],
+                                                field="temperature"), ["temperature"]))
+    assert found["kind"].to_list() == ["gap"]
+    row = found.row(0, named=True)
+    assert 0.449 < row["low"] <= 0.45 and 0.46 <= row["high"] < 0.461 and row["expected"] > 500
+
+
+def test_a_sparse_stretch_is_not_a_gap() -> None:
+    """Synthetic known answer: 1M uniform values with a stretch of 0.6 (under a bin) holding a
+    twentieth of its share. The bins beside it predicted ~50 values in the spacing where it
+    begins; a window as wide on the spacing's sparser side predicts a few: no gap."""
+    rng = np.random.default_rng(32)
+    sample = rng.uniform(0.0, 100.0, 1_000_000)
+    stretch = (sample > 50.0) & (sample < 50.6)
+    sample = sample[~stretch | (rng.uniform(size=sample.size) < 0.05)]
+    assert detect_artefacts(_frame(sample, field="temperature"), ["temperature"]).filter(
+        kind="gap").is_empty()
