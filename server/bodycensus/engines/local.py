@@ -28,6 +28,7 @@ from bodycensus.engines.partition import (
     catalogue_facts,
     check_partition,
     fill_families,
+    judge,
     label_families,
     merge_findings,
     partition_count,
@@ -165,20 +166,21 @@ def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
     """Check the partitions, ``CHECKERS`` at a time, each read, checked and written by its own
     thread (polars releases the GIL; one partition's check kept little more than one core busy):
     its bodies go to ``bodies/part-NNNNN.parquet`` (the folder is filled under a temporary name,
-    fsynced, then renamed into place); the merged findings and coverage counts come back. At
+    fsynced, then renamed into place); its flagged rows are judged at the end (``_judged``);
+    the merged findings and coverage counts come back. At
     most ``CHECKERS`` partitions are in memory at once: memory follows ``CHECKERS`` times a
     partition (``CheckOptions.partition_rows``)."""
     out, filling = workdir / "bodies", workdir / "bodies.tmp"
-    spilled = workdir / "findings.parts"  # each partition's findings, until they are merged
+    spilled = workdir / "findings.parts"  # each partition's flagged rows, then findings
     for folder in (filling, spilled):
         shutil.rmtree(folder, ignore_errors=True)
         folder.mkdir(parents=True)
-    findings, counts = [], []
+    flagged, counts = [], []
     progress("rules", 0.0)
 
     def collect(done: Future[tuple[pl.LazyFrame, pl.DataFrame]]) -> None:
-        spilled_findings, coverage = done.result()
-        findings.append(spilled_findings)
+        spilled_rows, coverage = done.result()
+        flagged.append(spilled_rows)
         counts.append(coverage)
         progress("rules", len(counts) / len(folders))
 
@@ -196,26 +198,48 @@ def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
         fsync_path(filling)
         shutil.rmtree(out, ignore_errors=True)
         os.replace(filling, out)
-        merged = merge_findings(findings, facts.rules())
+        merged = merge_findings(_judged(flagged, facts, spilled), facts.rules())
     finally:
         shutil.rmtree(spilled, ignore_errors=True)
     return merged, pl.concat(counts) if counts else pl.DataFrame()
 
 
+JUDGE_ROWS = 200_000  # flagged rows judged in one plan (``_judged``; ~0.5 kB a row in the demo)
+
+
+def _judged(flagged: list[pl.LazyFrame], facts: CatalogueFacts, folder: Path
+            ) -> list[pl.LazyFrame]:
+    """The partitions' spilled flagged rows judged (``partition.judge``) a batch of about
+    ``JUDGE_ROWS`` rows at a time, each batch's findings spilled to ``folder``: one plan per
+    batch instead of one per partition, and memory bounded by a batch."""
+    heights = [int(part.select(pl.len()).collect().item()) for part in flagged]
+    batches: list[list[pl.LazyFrame]] = [[]]
+    rows = 0
+    for part, height in zip(flagged, heights, strict=True):
+        if batches[-1] and rows + height > JUDGE_ROWS:
+            batches.append([])
+            rows = 0
+        batches[-1].append(part)
+        rows += height
+    return [_spill(judge(batch, facts.rules()).collect(engine="in-memory"),
+                   folder / f"findings-{i:05d}.parquet") for i, batch in enumerate(batches)]
+
+
 def _check_one(folder: Path, facts: CatalogueFacts, bodies: Path,
-               findings: Path) -> tuple[pl.LazyFrame, pl.DataFrame]:
-    """Read, check and write one partition (one thread's job): its spilled findings and its
-    coverage counts come back."""
+               flagged: Path) -> tuple[pl.LazyFrame, pl.DataFrame]:
+    """Read, check and write one partition (one thread's job): its spilled flagged rows and
+    its coverage counts come back."""
     result = check_partition(pl.read_parquet(folder / "*.parquet"), facts)
     write_bodies_file(result.bodies, bodies)
-    return _spill(result.findings, findings), result.coverage
+    return _spill(result.flagged, flagged), result.coverage
 
 
-def _spill(findings: pl.DataFrame, path: Path) -> pl.LazyFrame:
-    """One partition's findings written to ``path``, to be merged at the end. Held in a list,
-    the frames grew the run's memory by ~11 MB a partition: a filtered frame's text columns
-    share the buffers of the whole partition's bodies (30M bodies: 0.8 to 2.1 GB)."""
-    findings.write_parquet(path)
+def _spill(rows: pl.DataFrame, path: Path) -> pl.LazyFrame:
+    """Rows (one partition's flagged rows, a batch's findings) written to ``path``, to be read
+    again at the end. Held in a list, the frames grew the run's memory by ~11 MB a partition: a
+    gathered frame's text columns share the buffers of the whole partition's bodies (30M
+    bodies: 0.8 to 2.1 GB)."""
+    rows.write_parquet(path)
     return pl.scan_parquet(path)
 
 

@@ -74,11 +74,12 @@ def stored_columns(columns: Sequence[str]) -> list[str]:
 @dataclass(frozen=True)
 class PartitionResult:
     """What one partition gives: its bodies with every derived column to store (in file order,
-    ``stored_columns``), its findings, and rule coverage counts that add up across partitions
-    (``coverage_counts``)."""
+    ``stored_columns``), the rows some rule fires on (``base.flagged``: the columns the rules
+    read; ``judge`` turns them into findings), and rule coverage counts that add up across
+    partitions (``coverage_counts``)."""
 
     bodies: pl.DataFrame
-    findings: pl.DataFrame
+    flagged: pl.DataFrame
     coverage: pl.DataFrame
 
 
@@ -204,16 +205,27 @@ def check_partition(frame: pl.DataFrame, facts: CatalogueFacts) -> PartitionResu
     # self.len()") on the rules' pl.format messages over an in-memory frame.
     bodies = derive(table, facts.context).collect(engine="in-memory")
     rules = facts.rules()
-    findings = evaluate(flagged(bodies, rules).lazy(), rules).collect(engine="in-memory")
-    return PartitionResult(bodies.select(stored_columns(bodies.columns)), findings,
+    return PartitionResult(bodies.select(stored_columns(bodies.columns)), flagged(bodies, rules),
                            coverage_counts(bodies.lazy(), rules))
+
+
+def judge(parts: Sequence[pl.DataFrame | pl.LazyFrame], rules: Sequence[Rule]) -> pl.LazyFrame:
+    """The findings of the flagged rows of several partitions (``PartitionResult.flagged``, in
+    partition order), as one plan: planning ``evaluate``'s 38 branches took 0.19 s of CPU
+    whatever the rows (ten or 3,000), a sixth of the check of a partition of 125,000 bodies
+    when done per partition (polars 2.1). Each rule's findings come in the parts' order
+    (``merge_findings`` puts them in file order)."""
+    if not parts:
+        return evaluate(pl.LazyFrame(), [])
+    return evaluate(pl.concat([part.lazy() for part in parts], how="vertical_relaxed"), rules)
 
 
 def merge_findings(parts: Sequence[pl.DataFrame | pl.LazyFrame],
                    rules: Sequence[Rule]) -> pl.DataFrame:
-    """Every partition's findings as one frame, rule by rule in the registry's order and each
-    rule's findings in file order (what one pass over the whole table gives). The parts may be
-    lazy (the local engine's are scans of the files each partition's findings went to)."""
+    """Findings of several parts (``judge``'s, of batches of partitions) as one frame, rule by
+    rule in the registry's order and each rule's findings in file order (what one pass over the
+    whole table gives). The parts may be lazy (the local engine's are scans of the files each
+    batch's findings went to)."""
     if not parts:
         return evaluate(pl.LazyFrame(), []).collect()
     order = {rule.id: i for i, rule in enumerate(rules)}

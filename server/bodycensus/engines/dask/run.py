@@ -43,6 +43,7 @@ from bodycensus.engines.partition import (
     PART,
     CatalogueFacts,
     check_partition,
+    judge,
     merge_findings,
     partition_count,
     with_partition,
@@ -155,11 +156,11 @@ def _by_system(frame: dd.DataFrame, partitions: int, progress: Progress) -> dd.D
 def check_systems(part: pd.DataFrame, number: int, folder: Path, facts: CatalogueFacts
                   ) -> tuple[pl.DataFrame, pl.DataFrame]:
     """Check one partition of whole systems (a worker's task): its bodies are written to
-    ``folder/part-NNNNN.parquet`` (atomically: a retried task writes it again); its findings
-    and coverage counts come back."""
+    ``folder/part-NNNNN.parquet`` (atomically: a retried task writes it again); its flagged
+    rows (judged with every other partition's at the end) and coverage counts come back."""
     result = check_partition(pl.from_pandas(part.reset_index(drop=True)), facts)
     write_bodies_file(result.bodies, folder / f"part-{number:05d}.parquet")
-    return result.findings, result.coverage
+    return result.flagged, result.coverage
 
 
 def _check_partitions(client: Client, frame: dd.DataFrame, workdir: Path,
@@ -175,5 +176,6 @@ def _check_partitions(client: Client, frame: dd.DataFrame, workdir: Path,
     for done, _ in enumerate(as_completed(futures), start=1):
         progress("rules", done / len(futures))
     results: list[tuple[pl.DataFrame, pl.DataFrame]] = client.gather(futures)
-    findings = merge_findings([found for found, _ in results], facts.rules())
+    flagged = judge([rows for rows, _ in results], facts.rules())  # one plan for all
+    findings = merge_findings([flagged], facts.rules())
     return findings, pl.concat([counts for _, counts in results])
