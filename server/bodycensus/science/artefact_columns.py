@@ -108,6 +108,15 @@ def group_codes(lazy: pl.LazyFrame, scopes: Sequence[str], n_rows: int, min_coun
     return [GroupCodes.of(*group) for group in zip(scopes, names, arrays, strict=True)]
 
 
+def gather(values: np.ndarray, rows: np.ndarray) -> np.ndarray:
+    """``values[rows]``, ``ORDER_CHUNK`` rows at a time: numpy turns 4-byte row numbers into an
+    8-byte index before a gather, a copy as long as the group (144 MB for a group of 18M)."""
+    out = np.empty(rows.size, values.dtype)
+    for begin in range(0, rows.size, ORDER_CHUNK):
+        out[begin:begin + ORDER_CHUNK] = values[rows[begin:begin + ORDER_CHUNK]]
+    return out
+
+
 def read_field(lazy: pl.LazyFrame, field: str, n_rows: int) -> np.ndarray:
     """One field as float64 (null as NaN), streamed into one array."""
     values = np.empty(n_rows, np.float64)
