@@ -29,7 +29,7 @@ from bodycensus.engines.partition import (
     check_partition,
     fill_families,
     label_families,
-    merge_findings,
+    merged_findings,
     partition_count,
     partition_numbers,
 )
@@ -157,19 +157,21 @@ def _gathered(batch: pl.DataFrame, order: np.ndarray) -> pa.Table:
     return pa.Table.from_arrays(arrays, names=names)
 
 
+SPILLED = "findings.parts"  # each partition's findings, until the run is finished
 CHECKERS = 2  # partitions read, checked and written at once (memory follows them: see below)
 
 
 def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
-                      progress: Progress) -> tuple[pl.DataFrame, pl.DataFrame]:
+                      progress: Progress) -> tuple[pl.LazyFrame, pl.DataFrame]:
     """Check the partitions, ``CHECKERS`` at a time, each read, checked and written by its own
     thread (polars releases the GIL; one partition's check kept little more than one core busy):
     its bodies go to ``bodies/part-NNNNN.parquet`` (the folder is filled under a temporary name,
-    fsynced, then renamed into place); the merged findings and coverage counts come back. At
+    fsynced, then renamed into place); the coverage counts and the merged findings come back,
+    these as a plan over the files of ``SPILLED`` (the caller removes them once done). At
     most ``CHECKERS`` partitions are in memory at once: memory follows ``CHECKERS`` times a
     partition (``CheckOptions.partition_rows``)."""
     out, filling = workdir / "bodies", workdir / "bodies.tmp"
-    spilled = workdir / "findings.parts"  # each partition's findings, until they are merged
+    spilled = workdir / SPILLED
     for folder in (filling, spilled):
         shutil.rmtree(folder, ignore_errors=True)
         folder.mkdir(parents=True)
@@ -182,23 +184,20 @@ def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
         counts.append(coverage)
         progress("rules", len(counts) / len(folders))
 
-    try:
-        with ThreadPoolExecutor(CHECKERS, thread_name_prefix="partition") as pool:
-            running: deque[Future[tuple[pl.LazyFrame, pl.DataFrame]]] = deque()
-            for i, folder in enumerate(folders):
-                if len(running) == CHECKERS:  # in order, so the window never grows
-                    collect(running.popleft())
-                running.append(pool.submit(_check_one, folder, facts,
-                                           filling / f"part-{i:05d}.parquet",
-                                           spilled / f"part-{i:05d}.parquet"))
-            while running:
+    with ThreadPoolExecutor(CHECKERS, thread_name_prefix="partition") as pool:
+        running: deque[Future[tuple[pl.LazyFrame, pl.DataFrame]]] = deque()
+        for i, folder in enumerate(folders):
+            if len(running) == CHECKERS:  # in order, so the window never grows
                 collect(running.popleft())
-        fsync_path(filling)
-        shutil.rmtree(out, ignore_errors=True)
-        os.replace(filling, out)
-        merged = merge_findings(findings, facts.rules())
-    finally:
-        shutil.rmtree(spilled, ignore_errors=True)
+            running.append(pool.submit(_check_one, folder, facts,
+                                       filling / f"part-{i:05d}.parquet",
+                                       spilled / f"part-{i:05d}.parquet"))
+        while running:
+            collect(running.popleft())
+    fsync_path(filling)
+    shutil.rmtree(out, ignore_errors=True)
+    os.replace(filling, out)
+    merged = merged_findings(findings, facts.rules())
     return merged, pl.concat(counts) if counts else pl.DataFrame()
 
 
@@ -232,20 +231,25 @@ def check_table(table: pl.LazyFrame, workdir: Path, options: CheckOptions = Chec
     parts = _partition_numbers(table, chains, options.partition_rows)
     del chains  # the roots are the largest catalogue-wide table: drop it before the split
     try:
-        folders = _split(table, parts, split)
-        del parts
-        findings, counts = _check_partitions(folders, facts, workdir, progress)
+        try:
+            folders = _split(table, parts, split)
+            del parts
+            findings, counts = _check_partitions(folders, facts, workdir, progress)
+        finally:
+            shutil.rmtree(split, ignore_errors=True)
+        return finish_run(workdir, findings, counts, facts, report, options, progress)
     finally:
-        shutil.rmtree(split, ignore_errors=True)
-    return finish_run(workdir, findings, counts, facts, report, options, progress)
+        shutil.rmtree(workdir / SPILLED, ignore_errors=True)
 
 
-def finish_run(workdir: Path, findings: pl.DataFrame, counts: pl.DataFrame,
+def finish_run(workdir: Path, findings: pl.DataFrame | pl.LazyFrame, counts: pl.DataFrame,
                facts: CatalogueFacts, report: IngestReport | None, options: CheckOptions,
                progress: Progress) -> CheckResult:
     """After the partitions (of either engine): write the merged findings and coverage, find the
-    artefacts over the written bodies, and sum up the run; every file written atomically."""
-    write_findings(findings, workdir)
+    artefacts over the written bodies, and sum up the run; every file written atomically.
+    Findings given as a plan are collected to be written, then again after the artefacts: the
+    detector's peak does not hold them (120 MB of 700,000 findings at 30M bodies)."""
+    write_findings(findings.lazy().collect(), workdir)
     rule_coverage = coverage_table(counts, facts.rules())
     _write_atomic(rule_coverage, workdir / "coverage.parquet")
     progress("artefacts", 0.0)
@@ -254,8 +258,9 @@ def finish_run(workdir: Path, findings: pl.DataFrame, counts: pl.DataFrame,
              else pl.DataFrame(schema=artefact_detector.ARTEFACT_SCHEMA))
     _write_atomic(found, workdir / "artefacts.parquet")
     progress("write", 1.0)
-    summary = build_summary(bodies, findings, found, facts.families, report)
-    return CheckResult(findings, found, rule_coverage, workdir / "bodies", summary, report,
+    merged = findings.lazy().collect()
+    summary = build_summary(bodies, merged, found, facts.families, report)
+    return CheckResult(merged, found, rule_coverage, workdir / "bodies", summary, report,
                        facts.families)
 
 

@@ -211,12 +211,18 @@ def check_partition(frame: pl.DataFrame, facts: CatalogueFacts) -> PartitionResu
 
 def merge_findings(parts: Sequence[pl.DataFrame | pl.LazyFrame],
                    rules: Sequence[Rule]) -> pl.DataFrame:
-    """Every partition's findings as one frame, rule by rule in the registry's order and each
+    """Every partition's findings as one frame (``merged_findings``, collected)."""
+    return merged_findings(parts, rules).collect()
+
+
+def merged_findings(parts: Sequence[pl.DataFrame | pl.LazyFrame],
+                    rules: Sequence[Rule]) -> pl.LazyFrame:
+    """Every partition's findings as one plan, rule by rule in the registry's order and each
     rule's findings in file order (what one pass over the whole table gives). The parts may be
     lazy (the local engine's are scans of the files each partition's findings went to)."""
     if not parts:
-        return evaluate(pl.LazyFrame(), []).collect()
+        return evaluate(pl.LazyFrame(), [])
     order = {rule.id: i for i, rule in enumerate(rules)}
     merged = pl.concat([part.lazy() for part in parts], how="vertical")
     rank = pl.col("rule").replace_strict(order, return_dtype=pl.Int64)
-    return merged.sort(rank, "_row", maintain_order=True).collect()
+    return merged.sort(rank, "_row", maintain_order=True)
