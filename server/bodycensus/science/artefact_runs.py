@@ -71,10 +71,9 @@ def crowded_runs(s: np.ndarray, more_than: float) -> tuple[np.ndarray, np.ndarra
     return np.searchsorted(s, values, "left"), np.searchsorted(s, values, "right")
 
 
-def wide_spacings(s: np.ndarray, reach: float, log: bool) -> np.ndarray:
+def wide_spacings(s: np.ndarray, reach: float, log: bool) -> Iterator[np.ndarray]:
     """Positions j where the sorted ``s`` jumps by at least ``reach`` (in log10 when ``log``)
-    from s[j] to s[j + 1]."""
-    found = [np.flatnonzero(s[a + 1:b + 1] >= s[a:b] * 10**reach if log
-                            else s[a + 1:b + 1] - s[a:b] >= reach) + a
-             for a, b in _spans(len(s), 1)]
-    return np.concatenate(found) if found else np.zeros(0, dtype=np.int64)
+    from s[j] to s[j + 1], chunk by chunk (ascending)."""
+    for a, b in _spans(len(s), 1):
+        yield np.flatnonzero(s[a + 1:b + 1] >= s[a:b] * 10**reach if log
+                             else s[a + 1:b + 1] - s[a:b] >= reach) + a

@@ -364,26 +364,38 @@ def values_beside(s: np.ndarray, low: np.ndarray, high: np.ndarray, empty: np.nd
     return sparser
 
 
+def _testable(s: np.ndarray, wide: np.ndarray, t_edges: np.ndarray, k: int, n_bins: int,
+              min_side: float, log: bool) -> np.ndarray:
+    """The spacings ``wide`` (after position j of the sorted ``s``) that are tested as gaps: not
+    within ``k`` bins of an end, with at least ``min_side`` values on either side."""
+    to_t = np.log10 if log else np.asarray
+    left = np.searchsorted(t_edges, to_t(s[wide]), side="right") - 1
+    right = np.searchsorted(t_edges, to_t(s[wide + 1]), side="right")
+    below = wide + 1  # values at or below the gap's lower end
+    keep = (left >= k) & (right + k <= n_bins) & (np.minimum(below, len(s) - below) >= min_side)
+    testable: np.ndarray = wide[keep]
+    return testable
+
+
 def _gaps(s: np.ndarray, grid: Grid, counts: np.ndarray, unit: str, config: ArtefactConfig
           ) -> list[Detection]:
     """Spacings between neighbouring values where the density beside them predicts many (the
     bins on both sides, or the sparser side's window: ``values_beside``, whichever predicts
-    fewer), measured net of the values' rounding step (``local_steps``)."""
+    fewer), measured net of the values' rounding step (``local_steps``). The wide spacings are
+    cut to the testable ones chunk by chunk (most lie in the tails: millions at 10M bodies)."""
+    k, to_t = config.tail_bins, np.log10 if grid.log else np.asarray
+    if len(counts) < 2 * k + 1:
+        return []
     reach = config.min_expected * grid.width / max(float(counts.max()), 1.0)
-    wide = wide_spacings(s, reach, grid.log)
+    t_edges = to_t(grid.edges)
+    min_side = max(config.min_side_share * len(s), config.min_expected)
+    wide = np.concatenate([np.zeros(0, np.int64), *(
+        _testable(s, chunk, t_edges, k, len(counts), min_side, grid.log)
+        for chunk in wide_spacings(s, reach, grid.log))])
     low, high = s[wide], s[wide + 1]
-    to_t = np.log10 if grid.log else np.asarray
-    k, t_edges = config.tail_bins, to_t(grid.edges)
     left = np.searchsorted(t_edges, to_t(low), side="right") - 1
     right = np.searchsorted(t_edges, to_t(high), side="right")
-    inside = (left >= k) & (right + k <= len(counts))  # not within k bins of an end
-    if len(counts) < 2 * k + 1 or not inside.any():
-        return []
-    below = wide + 1  # values at or below the gap's lower end
-    side = np.minimum(below, len(s) - below)
-    inside &= side >= max(config.min_side_share * len(s), config.min_expected)
     cum = np.r_[0.0, np.cumsum(counts)]
-    left, right = np.clip(left, k, None), np.clip(right, None, len(counts) - k)
     left_n, right_n = cum[left] - cum[left - k], cum[right + k] - cum[right]
     step = local_steps(s, low, high, grid.step)
     empty = np.maximum(to_t(high - step / 2) - to_t(low + step / 2), 0.0)
@@ -393,7 +405,7 @@ def _gaps(s: np.ndarray, grid: Grid, counts: np.ndarray, unit: str, config: Arte
     closer = beside < wanted  # the window beside the gap predicts fewer: it decides
     wanted, reference = np.where(closer, beside, wanted), np.where(closer, beside, reference)
     rows = []
-    for i in np.flatnonzero(inside & (wanted >= config.min_expected)):
+    for i in np.flatnonzero(wanted >= config.min_expected):
         lo, hi = low[i], high[i]
         at = np.sqrt(lo * hi) if grid.log else (lo + hi) / 2
         text = (f"no value between {lo:.4g} and {hi:.4g}{unit} where the neighbouring "
