@@ -364,38 +364,38 @@ def values_beside(s: np.ndarray, low: np.ndarray, high: np.ndarray, empty: np.nd
     return sparser
 
 
-def _testable(s: np.ndarray, wide: np.ndarray, t_edges: np.ndarray, k: int, n_bins: int,
-              min_side: float, log: bool) -> np.ndarray:
-    """The spacings ``wide`` (after position j of the sorted ``s``) that are tested as gaps: not
-    within ``k`` bins of an end, with at least ``min_side`` values on either side."""
-    to_t = np.log10 if log else np.asarray
-    left = np.searchsorted(t_edges, to_t(s[wide]), side="right") - 1
-    right = np.searchsorted(t_edges, to_t(s[wide + 1]), side="right")
-    below = wide + 1  # values at or below the gap's lower end
-    keep = (left >= k) & (right + k <= n_bins) & (np.minimum(below, len(s) - below) >= min_side)
-    testable: np.ndarray = wide[keep]
-    return testable
-
-
 def _gaps(s: np.ndarray, grid: Grid, counts: np.ndarray, unit: str, config: ArtefactConfig
           ) -> list[Detection]:
     """Spacings between neighbouring values where the density beside them predicts many (the
     bins on both sides, or the sparser side's window: ``values_beside``, whichever predicts
     fewer), measured net of the values' rounding step (``local_steps``). The wide spacings are
-    cut to the testable ones chunk by chunk (most lie in the tails: millions at 10M bodies)."""
-    k, to_t = config.tail_bins, np.log10 if grid.log else np.asarray
-    if len(counts) < 2 * k + 1:
+    tested chunk by chunk (a lattice field has millions of them at 10M bodies, each with a
+    dozen 8-byte working values)."""
+    if len(counts) < 2 * config.tail_bins + 1:
         return []
     reach = config.min_expected * grid.width / max(float(counts.max()), 1.0)
+    cum = np.r_[0.0, np.cumsum(counts)]
+    rows: list[Detection] = []
+    for chunk in wide_spacings(s, reach, grid.log):
+        rows += _gap_rows(s, chunk, grid, cum, unit, config)
+    return rows
+
+
+def _gap_rows(s: np.ndarray, wide: np.ndarray, grid: Grid, cum: np.ndarray, unit: str,
+              config: ArtefactConfig) -> list[Detection]:
+    """The gaps among the spacings after positions ``wide`` of the sorted ``s`` (``cum``: the
+    cumulative bin counts, spikes taken out): those not within ``tail_bins`` of an end, with
+    ``min_side_share`` of the values on either side, where the density predicts many."""
+    k, to_t, n_bins = config.tail_bins, np.log10 if grid.log else np.asarray, len(cum) - 1
     t_edges = to_t(grid.edges)
-    min_side = max(config.min_side_share * len(s), config.min_expected)
-    wide = np.concatenate([np.zeros(0, np.int64), *(
-        _testable(s, chunk, t_edges, k, len(counts), min_side, grid.log)
-        for chunk in wide_spacings(s, reach, grid.log))])
     low, high = s[wide], s[wide + 1]
     left = np.searchsorted(t_edges, to_t(low), side="right") - 1
     right = np.searchsorted(t_edges, to_t(high), side="right")
-    cum = np.r_[0.0, np.cumsum(counts)]
+    below = wide + 1  # values at or below the gap's lower end
+    side = np.minimum(below, len(s) - below)
+    keep = ((left >= k) & (right + k <= n_bins)
+            & (side >= max(config.min_side_share * len(s), config.min_expected)))
+    low, high, left, right = low[keep], high[keep], left[keep], right[keep]
     left_n, right_n = cum[left] - cum[left - k], cum[right + k] - cum[right]
     step = local_steps(s, low, high, grid.step)
     empty = np.maximum(to_t(high - step / 2) - to_t(low + step / 2), 0.0)
