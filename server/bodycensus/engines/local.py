@@ -19,7 +19,7 @@ from pathlib import Path
 import numpy as np
 import polars as pl
 import pyarrow as pa
-import pyarrow.ipc
+import pyarrow.parquet as pq
 
 from bodycensus.durable import fsync_path
 from bodycensus.engines.partition import (
@@ -103,7 +103,6 @@ def _write_atomic(frame: pl.DataFrame | pl.LazyFrame, path: Path) -> None:
 
 
 SPLIT_BATCH = 500_000  # rows of the normalised table read at a time while splitting it
-PARTITION_FILE = "rows.arrow"  # each partition's rows, as the split wrote them (read once)
 
 
 def _partition_numbers(table: pl.LazyFrame, chains: Chains, per_partition: int) -> pl.Series:
@@ -113,38 +112,36 @@ def _partition_numbers(table: pl.LazyFrame, chains: Chains, per_partition: int) 
 
 
 def _split(table: pl.LazyFrame, parts: pl.Series, into: Path) -> list[Path]:
-    """Write ``table`` into ``into`` as one folder per partition, each holding one Parquet file
-    (``parts``: each row's partition number, in row order), a slice of rows at a time (memory
-    follows a slice: polars' streaming join and partitioned sink held gigabytes at 10M bodies).
-    Each slice is put in partition order by one gather (a stable sort of its numbers: each
-    piece keeps its rows' order) and each partition's piece, a zero-copy slice of it, appended
-    to the partition's file as a record batch (an Arrow IPC file, lz4; polars has no appending
-    writer). A file and a gather per piece (``partition_by``) took 4x as long and held 2.7x the
-    slice; Parquet writers held each row group's metadata until closed, about 32 kB a piece:
-    partitions times slices, 0.46 GB at 30M bodies (a tiny footer entry per batch in IPC). The
-    folders, in partition order."""
-    writers: dict[int, pa.ipc.RecordBatchFileWriter] = {}
-    options = pa.ipc.IpcWriteOptions(compression=SCRATCH_COMPRESSION)
-    try:
-        for start in range(0, parts.len(), SPLIT_BATCH):  # collect_batches peaked 0.26 GB higher
-            numbers = parts.slice(start, SPLIT_BATCH).to_numpy()
-            order = np.argsort(numbers, kind="stable")
-            rows = _gathered(table.slice(start, SPLIT_BATCH).collect(), order)
-            ordered = numbers[order]
-            del order
-            starts = np.flatnonzero(np.diff(ordered, prepend=ordered[:1] + 1))
-            for at, end in zip(starts, [*starts[1:], ordered.size], strict=True):
-                number = int(ordered[at])
-                if number not in writers:
-                    folder = into / f"{number:05d}"
-                    folder.mkdir(parents=True, exist_ok=True)
-                    writers[number] = pa.ipc.new_file(folder / PARTITION_FILE, rows.schema,
-                                                      options=options)
-                writers[number].write_table(rows.slice(int(at), int(end - at)))
-    finally:
-        for writer in writers.values():
-            writer.close()
-    return [into / f"{number:05d}" for number in sorted(writers)]
+    """Write ``table`` into ``into`` as one folder per partition of Parquet files (``parts``:
+    each row's partition number, in row order), a slice of rows at a time (memory follows a
+    slice: polars' streaming join and partitioned sink held gigabytes at 10M bodies). Each
+    slice is put in partition order by one gather (a stable sort of its numbers: each piece
+    keeps its rows' order) and each partition's piece, a zero-copy slice of it, written to the
+    partition's folder as a file of its own, closed at once: an open ``ParquetWriter`` per
+    partition kept ~32 kB of metadata per row group until closed, partitions times slices of
+    them (0.46 GB at 30M bodies, growing with N squared). A gather per piece
+    (``partition_by``) took 4x as long and held 2.7x the slice. The folders, in partition
+    order."""
+    folders: set[int] = set()
+    for start in range(0, parts.len(), SPLIT_BATCH):  # collect_batches peaked 0.26 GB higher
+        numbers = parts.slice(start, SPLIT_BATCH).to_numpy()
+        order = np.argsort(numbers, kind="stable")
+        rows = _gathered(table.slice(start, SPLIT_BATCH).collect(), order)
+        ordered = numbers[order]
+        del order
+        starts = np.flatnonzero(np.diff(ordered, prepend=ordered[:1] + 1))
+        for at, end in zip(starts, [*starts[1:], ordered.size], strict=True):
+            number = int(ordered[at])
+            folder = into / f"{number:05d}"
+            if number not in folders:
+                folder.mkdir(parents=True, exist_ok=True)
+                folders.add(number)
+            # read once, whole: pyarrow's dictionaries and statistics doubled the write
+            pq.write_table(rows.slice(int(at), int(end - at)),
+                           folder / f"rows-{start // SPLIT_BATCH:06d}.parquet",
+                           compression=SCRATCH_COMPRESSION, use_dictionary=False,
+                           write_statistics=False)
+    return [into / f"{number:05d}" for number in sorted(folders)]
 
 
 def _gathered(batch: pl.DataFrame, order: np.ndarray) -> pa.Table:
@@ -207,7 +204,7 @@ def _check_one(folder: Path, facts: CatalogueFacts, bodies: Path,
                findings: Path) -> tuple[pl.LazyFrame, pl.DataFrame]:
     """Read, check and write one partition (one thread's job): its spilled findings and its
     coverage counts come back."""
-    result = check_partition(pl.read_ipc(folder / PARTITION_FILE), facts)
+    result = check_partition(pl.read_parquet(folder / "*.parquet"), facts)
     write_bodies_file(result.bodies, bodies)
     return _spill(result.findings, findings), result.coverage
 
