@@ -2,8 +2,11 @@
 
 The reference below is main 52004af's grouping, kept here only as the reference: the group
 columns collected as strings, per-group row lists, each field read whole and gathered per scope,
-and its ``_runs`` and ``_lattice_step`` as they were. The detector under test streams small
-integer group codes and one field at a time (``science/artefacts.py``). Compared on the shipped
+its ``_runs``, ``_lattice_step`` and spike counts as they were, and main 2278b53's ``local_steps``
+(whole arrays of every distinct value and count). The detector under test streams small integer
+group codes and one field at a time (``science/artefacts.py``) and scans each group's sorted
+values chunk by chunk (``science/artefact_runs.py``, here with chunks of a few values, so runs
+and spacings straddle their edges). Compared on the shipped
 sample's run and on synthetic groups with a planted cutoff, gap and spike (statistical methods of
 the detector itself: see tests/test_artefacts.py and the module docstring).
 """
@@ -19,7 +22,7 @@ import pytest
 from polars.testing import assert_frame_equal
 
 from bodycensus.engines.local import check_file
-from bodycensus.science import artefact_columns, artefacts
+from bodycensus.science import artefact_columns, artefact_runs, artefacts
 from bodycensus.science.artefact_columns import group_codes
 from bodycensus.science.artefacts import (
     ARTEFACT_FIELDS,
@@ -51,19 +54,72 @@ def _old_lattice_step(distinct: np.ndarray) -> float:
     return step if np.all(np.abs(units - np.round(units)) < 1e-3) else 0.0
 
 
+def _old_neighbour_counts(counts: np.ndarray, hits: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """main 2278b53's ``_neighbour_counts``."""
+    lo, hi = np.clip(hits - 1, 0, len(counts) - 1), np.clip(hits + 1, 0, len(counts) - 1)
+    reference = (counts[lo] + counts[hi]).astype(float)
+    expected = reference / 2
+    for end, (c1, c2) in ((0, counts[1:3]), (len(counts) - 1, counts[-2:-4:-1])):
+        expected[hits == end], reference[hits == end] = c1**2 / c2, c1 + c2
+    return expected, reference
+
+
+def _old_spikes(distinct: np.ndarray, counts: np.ndarray, unit: str, config: ArtefactConfig
+                ) -> list[Detection]:
+    """main 2278b53's ``_spikes``, on every distinct value and count."""
+    hits = np.flatnonzero(counts > config.min_excess)
+    if len(distinct) < 3 or not hits.size:
+        return []
+    expected, reference = _old_neighbour_counts(counts, hits)
+    keep = (counts[hits] - expected >= config.min_excess) & (
+        counts[hits] >= config.spike_ratio * expected)
+    rows: list[Detection] = []
+    total = int(counts.sum())
+    for i, wanted, ref in zip(hits[keep], expected[keep], reference[keep], strict=True):
+        value, seen = distinct[i], int(counts[i])
+        end = " at an end of the range (a clamp?)" if i in (0, len(distinct) - 1) else ""
+        text = (f"{seen} bodies ({seen / total:.1%}) hold exactly {value:.6g}{unit} where "
+                f"neighbouring values predict {wanted:.1f}{end}")
+        rows.append(artefacts._row("spike", value, value, value, seen, wanted, text,
+                                   artefacts.conditional_p(seen, float(wanted), float(ref))))
+    return rows
+
+
+def _old_local_steps(distinct: np.ndarray, low: np.ndarray, high: np.ndarray,
+                     fallback: float) -> np.ndarray:
+    """main 2278b53's ``local_steps``, on every distinct value."""
+    at = np.searchsorted(distinct, low)
+    before = np.where(at >= 1, low - distinct[np.maximum(at - 1, 0)], np.inf)
+    beyond = np.minimum(at + 2, len(distinct) - 1)
+    after = np.where(at + 2 < len(distinct), distinct[beyond] - high, np.inf)
+    step = np.minimum(before, after)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        units = (high - low) / step
+    whole = np.isfinite(units) & (units >= 1 - 1e-3) & (np.abs(units - np.round(units)) < 1e-3)
+    return np.where(whole, np.maximum(step, fallback), fallback)
+
+
+@pytest.fixture(autouse=True)
+def _small_chunks(monkeypatch: pytest.MonkeyPatch) -> None:
+    """Chunks of 7 values: runs, spacings and gathers straddle the chunk edges."""
+    monkeypatch.setattr(artefact_runs, "CHUNK", 7)
+    monkeypatch.setattr(artefact_columns, "ORDER_CHUNK", 7)
+
+
 def _old_scan_cell(s: np.ndarray, unit: str, config: ArtefactConfig
                    ) -> tuple[list[Detection], int]:
-    """main 52004af's ``_scan_cell``, on its own ``_runs`` and ``_lattice_step``."""
+    """main 52004af's ``_scan_cell``, on its own ``_runs``, ``_lattice_step`` and ``_spikes``
+    (``_gaps`` is today's: its chunked parts are compared with main's below)."""
     distinct, counts = _old_runs(s)
     grid = artefacts.make_grid(s, _old_lattice_step(distinct) if len(distinct) < len(s) else 0.0,
                                config)
     if grid is None:
         return [], 0
-    spikes = artefacts._spikes(distinct, counts, unit, config)
+    spikes = _old_spikes(distinct, counts, unit, config)
     smooth = artefacts._spike_free_counts(s, grid.edges, spikes)
     cutoffs: list[Detection] = ([] if grid.discrete or len(grid.counts) < 6
                                 else artefacts._cutoffs(s, spikes, unit, config))
-    gaps = artefacts._gaps(s, distinct, grid, smooth, unit, config)
+    gaps = artefacts._gaps(s, grid, smooth, unit, config)
     return cutoffs + gaps + spikes, 1 + 2 * len(distinct)
 
 
@@ -174,7 +230,8 @@ def test_more_groups_than_a_byte_holds_and_integer_labels() -> None:
     assert_frame_equal(new, reference_artefacts(table, ["mass"], config=config))
     assert not new.is_empty()
     labels, families = group_codes(table.lazy(), ["label", "family"], table.height, 100)
-    assert labels.codes.dtype == np.uint16 and families.codes.dtype == np.uint8
+    assert artefact_columns._code_type(len(labels.names)) == np.uint16
+    assert artefact_columns._code_type(len(families.names)) == np.uint8
     big = np.flatnonzero(np.bincount(code) >= 100)
     assert 255 < len(big) < 300 and labels.names == sorted(str(c) for c in big)
     np.testing.assert_array_equal(labels.rows(labels.names.index("7")), np.flatnonzero(code == 7))
@@ -183,16 +240,47 @@ def test_more_groups_than_a_byte_holds_and_integer_labels() -> None:
 @pytest.mark.parametrize("sample", [
     [1.0, 1.0, 1.0], [0.0, 1.0, 1.0, 2.5, 2.5, 2.5, 7.0], np.round(np.linspace(0, 9, 500), 1),
     np.sort(np.random.default_rng(23).standard_normal(1000)), np.arange(5.0) * 1e-9 + 1.0,
-    [2.0], np.sort(np.random.default_rng(24).integers(0, 20, 400)).astype(float)])
-def test_runs_and_lattice_step_equal_mains(sample: Sequence[float]) -> None:
-    """The rewritten helpers give main's arrays and steps, value for value and dtype for dtype."""
+    [2.0], np.sort(np.random.default_rng(24).integers(0, 20, 400)).astype(float),
+    np.repeat([1.0, 2.0, 3.0, 4.0, 5.0], [30, 2, 12, 1, 40]), [-0.0, -0.0, 0.0, 1.0, 1.0, 2.0]])
+def test_chunked_runs_equal_mains(sample: Sequence[float]) -> None:
+    """The chunked scans give what main's whole arrays of distinct values and counts gave: their
+    number, the lattice step, the crowded values with their neighbours' counts and the spikes,
+    the wide spacings and the rounding step around each."""
     s = np.asarray(sample, dtype=float)
-    distinct, counts = artefacts._runs(s)
-    old_distinct, old_counts = _old_runs(s)
-    np.testing.assert_array_equal(distinct, old_distinct)
-    np.testing.assert_array_equal(counts, old_counts)
-    assert counts.dtype == old_counts.dtype
-    assert artefacts._lattice_step(distinct) == _old_lattice_step(old_distinct)
+    distinct, counts = _old_runs(s)
+    n_distinct = artefact_runs.distinct_count(s)
+    assert n_distinct == len(distinct)
+    assert artefact_runs.lattice_step(s, n_distinct) == _old_lattice_step(distinct)
+    for more_than in (0.0, 1.0, 2.5, 10.0):
+        starts, stops = artefact_runs.crowded_runs(s, more_than)
+        hits = np.flatnonzero(counts > more_than)
+        np.testing.assert_array_equal(s[starts], distinct[hits])
+        np.testing.assert_array_equal(stops - starts, counts[hits])
+        if len(distinct) >= 3 and hits.size:
+            new = artefacts._neighbour_counts(s, starts, stops)
+            for got, want in zip(new, _old_neighbour_counts(counts, hits), strict=True):
+                np.testing.assert_array_equal(got, want)
+        config = ArtefactConfig(min_excess=more_than, spike_ratio=1.0)
+        assert (artefacts._spikes(s, n_distinct, " kg", config)
+                == _old_spikes(distinct, counts, " kg", config))
+    for reach in (0.0, 1e-9, 0.1, 1.0):
+        for log in (False, True) if s.size and s[0] > 0 else (False,):
+            wide = np.concatenate([np.zeros(0, np.int64),
+                                   *artefact_runs.wide_spacings(s, reach, log)])
+            np.testing.assert_array_equal(wide, np.flatnonzero(
+                s[1:] >= s[:-1] * 10**reach if log else s[1:] - s[:-1] >= reach))
+    pairs = np.flatnonzero(np.diff(distinct) > 0) if len(distinct) > 1 else np.zeros(0, int)
+    for fallback in (0.0, 0.1):
+        low, high = distinct[pairs], distinct[pairs + 1]
+        np.testing.assert_array_equal(artefacts.local_steps(s, low, high, fallback),
+                                      _old_local_steps(distinct, low, high, fallback))
+
+
+def test_a_gather_in_chunks_equals_numpys() -> None:
+    """The chunked gather of a group's values from 4-byte row numbers equals numpy's."""
+    rng = np.random.default_rng(27)
+    values, rows = rng.standard_normal(100), rng.integers(0, 100, 30).astype(np.uint32)
+    np.testing.assert_array_equal(artefact_columns.gather(values, rows), values[rows])
 
 
 def test_a_group_column_without_values_and_an_empty_table() -> None:

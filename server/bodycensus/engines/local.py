@@ -30,7 +30,7 @@ from bodycensus.engines.partition import (
     fill_families,
     judge,
     label_families,
-    merge_findings,
+    merged_findings,
     partition_count,
     partition_numbers,
 )
@@ -113,37 +113,36 @@ def _partition_numbers(table: pl.LazyFrame, chains: Chains, per_partition: int) 
 
 
 def _split(table: pl.LazyFrame, parts: pl.Series, into: Path) -> list[Path]:
-    """Write ``table`` into ``into`` as one folder per partition, each holding one Parquet file
-    (``parts``: each row's partition number, in row order), a slice of rows at a time (memory
-    follows a slice: polars' streaming join and partitioned sink held gigabytes at 10M bodies).
-    Each slice is put in partition order by one gather (a stable sort of its numbers: each
-    piece keeps its rows' order) and each partition's piece, a zero-copy slice of it, appended
-    to the partition's file as a row group (pyarrow's ``ParquetWriter``; polars has no
-    appending writer). A file and a gather per piece (``partition_by``) took 4x as long and
-    held 2.7x the slice. The folders, in partition order."""
-    writers: dict[int, pq.ParquetWriter] = {}
-    try:
-        for start in range(0, parts.len(), SPLIT_BATCH):  # collect_batches peaked 0.26 GB higher
-            numbers = parts.slice(start, SPLIT_BATCH).to_numpy()
-            order = np.argsort(numbers, kind="stable")
-            rows = _gathered(table.slice(start, SPLIT_BATCH).collect(), order)
-            ordered = numbers[order]
-            del order
-            starts = np.flatnonzero(np.diff(ordered, prepend=ordered[:1] + 1))
-            for at, end in zip(starts, [*starts[1:], ordered.size], strict=True):
-                number = int(ordered[at])
-                if number not in writers:
-                    folder = into / f"{number:05d}"
-                    folder.mkdir(parents=True, exist_ok=True)
-                    # read once, whole: pyarrow's dictionaries and statistics doubled the write
-                    writers[number] = pq.ParquetWriter(
-                        folder / "rows.parquet", rows.schema, compression=SCRATCH_COMPRESSION,
-                        use_dictionary=False, write_statistics=False)
-                writers[number].write_table(rows.slice(int(at), int(end - at)))
-    finally:
-        for writer in writers.values():
-            writer.close()
-    return [into / f"{number:05d}" for number in sorted(writers)]
+    """Write ``table`` into ``into`` as one folder per partition of Parquet files (``parts``:
+    each row's partition number, in row order), a slice of rows at a time (memory follows a
+    slice: polars' streaming join and partitioned sink held gigabytes at 10M bodies). Each
+    slice is put in partition order by one gather (a stable sort of its numbers: each piece
+    keeps its rows' order) and each partition's piece, a zero-copy slice of it, written to the
+    partition's folder as a file of its own, closed at once: an open ``ParquetWriter`` per
+    partition kept ~32 kB of metadata per row group until closed, partitions times slices of
+    them (0.46 GB at 30M bodies, growing with N squared). A gather per piece
+    (``partition_by``) took 4x as long and held 2.7x the slice. The folders, in partition
+    order."""
+    folders: set[int] = set()
+    for start in range(0, parts.len(), SPLIT_BATCH):  # collect_batches peaked 0.26 GB higher
+        numbers = parts.slice(start, SPLIT_BATCH).to_numpy()
+        order = np.argsort(numbers, kind="stable")
+        rows = _gathered(table.slice(start, SPLIT_BATCH).collect(), order)
+        ordered = numbers[order]
+        del order
+        starts = np.flatnonzero(np.diff(ordered, prepend=ordered[:1] + 1))
+        for at, end in zip(starts, [*starts[1:], ordered.size], strict=True):
+            number = int(ordered[at])
+            folder = into / f"{number:05d}"
+            if number not in folders:
+                folder.mkdir(parents=True, exist_ok=True)
+                folders.add(number)
+            # read once, whole: pyarrow's dictionaries and statistics doubled the write
+            pq.write_table(rows.slice(int(at), int(end - at)),
+                           folder / f"rows-{start // SPLIT_BATCH:06d}.parquet",
+                           compression=SCRATCH_COMPRESSION, use_dictionary=False,
+                           write_statistics=False)
+    return [into / f"{number:05d}" for number in sorted(folders)]
 
 
 def _gathered(batch: pl.DataFrame, order: np.ndarray) -> pa.Table:
@@ -158,20 +157,22 @@ def _gathered(batch: pl.DataFrame, order: np.ndarray) -> pa.Table:
     return pa.Table.from_arrays(arrays, names=names)
 
 
+SPILLED = "findings.parts"  # flagged rows and findings of the partitions, until the run ends
 CHECKERS = 2  # partitions read, checked and written at once (memory follows them: see below)
 
 
 def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
-                      progress: Progress) -> tuple[pl.DataFrame, pl.DataFrame]:
+                      progress: Progress) -> tuple[pl.LazyFrame, pl.DataFrame]:
     """Check the partitions, ``CHECKERS`` at a time, each read, checked and written by its own
     thread (polars releases the GIL; one partition's check kept little more than one core busy):
     its bodies go to ``bodies/part-NNNNN.parquet`` (the folder is filled under a temporary name,
-    fsynced, then renamed into place); its flagged rows are judged at the end (``_judged``);
-    the merged findings and coverage counts come back. At
-    most ``CHECKERS`` partitions are in memory at once: memory follows ``CHECKERS`` times a
-    partition (``CheckOptions.partition_rows``)."""
+    fsynced, then renamed into place); its flagged rows are judged at the end (``_judged``); the
+    coverage counts and the merged findings come back, these as a plan over the files of
+    ``SPILLED`` (the caller removes them once done). At most ``CHECKERS`` partitions are in
+    memory at once: memory follows ``CHECKERS`` times a partition
+    (``CheckOptions.partition_rows``)."""
     out, filling = workdir / "bodies", workdir / "bodies.tmp"
-    spilled = workdir / "findings.parts"  # each partition's flagged rows, then findings
+    spilled = workdir / SPILLED  # each partition's flagged rows, then the batches' findings
     for folder in (filling, spilled):
         shutil.rmtree(folder, ignore_errors=True)
         folder.mkdir(parents=True)
@@ -184,23 +185,20 @@ def _check_partitions(folders: list[Path], facts: CatalogueFacts, workdir: Path,
         counts.append(coverage)
         progress("rules", len(counts) / len(folders))
 
-    try:
-        with ThreadPoolExecutor(CHECKERS, thread_name_prefix="partition") as pool:
-            running: deque[Future[tuple[pl.LazyFrame, pl.DataFrame]]] = deque()
-            for i, folder in enumerate(folders):
-                if len(running) == CHECKERS:  # in order, so the window never grows
-                    collect(running.popleft())
-                running.append(pool.submit(_check_one, folder, facts,
-                                           filling / f"part-{i:05d}.parquet",
-                                           spilled / f"part-{i:05d}.parquet"))
-            while running:
+    with ThreadPoolExecutor(CHECKERS, thread_name_prefix="partition") as pool:
+        running: deque[Future[tuple[pl.LazyFrame, pl.DataFrame]]] = deque()
+        for i, folder in enumerate(folders):
+            if len(running) == CHECKERS:  # in order, so the window never grows
                 collect(running.popleft())
-        fsync_path(filling)
-        shutil.rmtree(out, ignore_errors=True)
-        os.replace(filling, out)
-        merged = merge_findings(_judged(flagged, facts, spilled), facts.rules())
-    finally:
-        shutil.rmtree(spilled, ignore_errors=True)
+            running.append(pool.submit(_check_one, folder, facts,
+                                       filling / f"part-{i:05d}.parquet",
+                                       spilled / f"part-{i:05d}.parquet"))
+        while running:
+            collect(running.popleft())
+    fsync_path(filling)
+    shutil.rmtree(out, ignore_errors=True)
+    os.replace(filling, out)
+    merged = merged_findings(_judged(flagged, facts, spilled), facts.rules())
     return merged, pl.concat(counts) if counts else pl.DataFrame()
 
 
@@ -256,20 +254,25 @@ def check_table(table: pl.LazyFrame, workdir: Path, options: CheckOptions = Chec
     parts = _partition_numbers(table, chains, options.partition_rows)
     del chains  # the roots are the largest catalogue-wide table: drop it before the split
     try:
-        folders = _split(table, parts, split)
-        del parts
-        findings, counts = _check_partitions(folders, facts, workdir, progress)
+        try:
+            folders = _split(table, parts, split)
+            del parts
+            findings, counts = _check_partitions(folders, facts, workdir, progress)
+        finally:
+            shutil.rmtree(split, ignore_errors=True)
+        return finish_run(workdir, findings, counts, facts, report, options, progress)
     finally:
-        shutil.rmtree(split, ignore_errors=True)
-    return finish_run(workdir, findings, counts, facts, report, options, progress)
+        shutil.rmtree(workdir / SPILLED, ignore_errors=True)
 
 
-def finish_run(workdir: Path, findings: pl.DataFrame, counts: pl.DataFrame,
+def finish_run(workdir: Path, findings: pl.DataFrame | pl.LazyFrame, counts: pl.DataFrame,
                facts: CatalogueFacts, report: IngestReport | None, options: CheckOptions,
                progress: Progress) -> CheckResult:
     """After the partitions (of either engine): write the merged findings and coverage, find the
-    artefacts over the written bodies, and sum up the run; every file written atomically."""
-    write_findings(findings, workdir)
+    artefacts over the written bodies, and sum up the run; every file written atomically.
+    Findings given as a plan are collected to be written, then again after the artefacts: the
+    detector's peak does not hold them (120 MB of 700,000 findings at 30M bodies)."""
+    write_findings(findings.lazy().collect(), workdir)
     rule_coverage = coverage_table(counts, facts.rules())
     _write_atomic(rule_coverage, workdir / "coverage.parquet")
     progress("artefacts", 0.0)
@@ -278,8 +281,9 @@ def finish_run(workdir: Path, findings: pl.DataFrame, counts: pl.DataFrame,
              else pl.DataFrame(schema=artefact_detector.ARTEFACT_SCHEMA))
     _write_atomic(found, workdir / "artefacts.parquet")
     progress("write", 1.0)
-    summary = build_summary(bodies, findings, found, facts.families, report)
-    return CheckResult(findings, found, rule_coverage, workdir / "bodies", summary, report,
+    merged = findings.lazy().collect()
+    summary = build_summary(bodies, merged, found, facts.families, report)
+    return CheckResult(merged, found, rule_coverage, workdir / "bodies", summary, report,
                        facts.families)
 
 

@@ -222,13 +222,19 @@ def judge(parts: Sequence[pl.DataFrame | pl.LazyFrame], rules: Sequence[Rule]) -
 
 def merge_findings(parts: Sequence[pl.DataFrame | pl.LazyFrame],
                    rules: Sequence[Rule]) -> pl.DataFrame:
-    """Findings of several parts (``judge``'s, of batches of partitions) as one frame, rule by
+    """Findings of several parts as one frame (``merged_findings``, collected)."""
+    return merged_findings(parts, rules).collect()
+
+
+def merged_findings(parts: Sequence[pl.DataFrame | pl.LazyFrame],
+                    rules: Sequence[Rule]) -> pl.LazyFrame:
+    """Findings of several parts (``judge``'s, of batches of partitions) as one plan, rule by
     rule in the registry's order and each rule's findings in file order (what one pass over the
     whole table gives). The parts may be lazy (the local engine's are scans of the files each
     batch's findings went to)."""
     if not parts:
-        return evaluate(pl.LazyFrame(), []).collect()
+        return evaluate(pl.LazyFrame(), [])
     order = {rule.id: i for i, rule in enumerate(rules)}
     merged = pl.concat([part.lazy() for part in parts], how="vertical")
     rank = pl.col("rule").replace_strict(order, return_dtype=pl.Int64)
-    return merged.sort(rank, "_row", maintain_order=True).collect()
+    return merged.sort(rank, "_row", maintain_order=True)

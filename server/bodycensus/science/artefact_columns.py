@@ -20,23 +20,22 @@ ORDER_CHUNK = 1 << 20  # rows whose codes are sorted at a time while grouping th
 
 @dataclass(frozen=True)
 class GroupCodes:
-    """One group column as small integers: the names of the groups big enough to test (sorted)
-    and each row's index into them (``len(names)`` for a row in no such group). A few bytes a
-    row, where the names as strings and per-group row lists took tens. ``order`` holds every
-    row of group 0, then of group 1, ... (each in table order), ``starts`` where each begins:
-    found once, where finding each group's rows again for every field took a quarter of the
-    detector's time at 10M bodies."""
+    """One group column's rows by group: the names of the groups big enough to test (sorted);
+    ``order`` holds every row of group 0, then of group 1, ... (each in table order), and last
+    the rows in no such group; ``starts`` where each begins. Found once from small integer codes
+    (the codes are dropped then: a byte or two a row), where finding each group's rows again
+    for every field took a quarter of the detector's time at 10M bodies."""
 
     scope: str
     names: list[str]
-    codes: np.ndarray
     order: np.ndarray
     starts: np.ndarray
 
     @classmethod
     def of(cls, scope: str, names: list[str], codes: np.ndarray) -> GroupCodes:
-        """The group column ``scope`` with its rows grouped (``_grouped``)."""
-        return cls(scope, names, codes, *_grouped(codes, len(names) + 1))
+        """The group column ``scope`` from each row's code (its index into ``names``,
+        ``len(names)`` for a row in no group), its rows grouped (``_grouped``)."""
+        return cls(scope, names, *_grouped(codes, len(names) + 1))
 
     def rows(self, index: int) -> np.ndarray:
         """The rows of group ``index``, in table order."""
@@ -105,7 +104,19 @@ def group_codes(lazy: pl.LazyFrame, scopes: Sequence[str], n_rows: int, min_coun
                      .fill_null(len(sizes)).alias(f"_code{len(exprs)}"))
         arrays.append(np.empty(n_rows, numpy_type))
     _fill(lazy, exprs, arrays, lookups)
-    return [GroupCodes.of(*group) for group in zip(scopes, names, arrays, strict=True)]
+    grouped = []
+    for scope, scope_names in zip(scopes, names, strict=True):
+        grouped.append(GroupCodes.of(scope, scope_names, arrays.pop(0)))  # codes freed
+    return grouped
+
+
+def gather(values: np.ndarray, rows: np.ndarray) -> np.ndarray:
+    """``values[rows]``, ``ORDER_CHUNK`` rows at a time: numpy turns 4-byte row numbers into an
+    8-byte index before a gather, a copy as long as the group (144 MB for a group of 18M)."""
+    out = np.empty(rows.size, values.dtype)
+    for begin in range(0, rows.size, ORDER_CHUNK):
+        out[begin:begin + ORDER_CHUNK] = values[rows[begin:begin + ORDER_CHUNK]]
+    return out
 
 
 def read_field(lazy: pl.LazyFrame, field: str, n_rows: int) -> np.ndarray:

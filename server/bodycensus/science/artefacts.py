@@ -45,7 +45,13 @@ import numpy as np
 import polars as pl
 from scipy import stats
 
-from bodycensus.science.artefact_columns import group_codes, read_field
+from bodycensus.science.artefact_columns import gather, group_codes, read_field
+from bodycensus.science.artefact_runs import (
+    crowded_runs,
+    distinct_count,
+    lattice_step,
+    wide_spacings,
+)
 from bodycensus.science.units import FIELD_DIMENSIONS, SI_UNIT
 
 METHODS: dict[str, str] = {
@@ -154,17 +160,6 @@ def _use_log(s: np.ndarray, config: ArtefactConfig) -> bool:
     return bool(q50 > q10 and (q90 - q50) / (q50 - q10) > config.log_skew)
 
 
-def _lattice_step(distinct: np.ndarray) -> float:
-    """The step of the lattice the distinct values sit on (rounded or integer data), else 0."""
-    if len(distinct) < 2:
-        return 0.0
-    step = float(np.min(np.diff(distinct)))
-    if (distinct[-1] - distinct[0]) / step > 1e7:  # too fine to tell a lattice from float noise
-        return 0.0
-    units = (distinct - distinct[0]) / step
-    return step if np.all(np.abs(units - np.round(units)) < 1e-3) else 0.0
-
-
 def _fd_width(q: np.ndarray, n: int, config: ArtefactConfig) -> float:
     """Freedman-Diaconis width 2 IQR n^(-1/3) from (q25, q75, min, max), >= span / max_bins."""
     return float(max(2.0 * (q[1] - q[0]) * n ** (-1 / 3), (q[3] - q[2]) / config.max_bins))
@@ -198,20 +193,6 @@ def _bin_counts(s: np.ndarray, edges: np.ndarray) -> np.ndarray:
     return np.diff(index)
 
 
-def _runs(s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Distinct values of a sorted sample and how many times each occurs (written into arrays
-    made once: at millions of values each temporary is tens of MB)."""
-    new = np.empty(len(s), dtype=bool)
-    new[0] = True
-    np.not_equal(s[1:], s[:-1], out=new[1:])
-    starts = np.flatnonzero(new)
-    del new
-    counts = np.empty_like(starts)
-    np.subtract(starts[1:], starts[:-1], out=counts[:-1])
-    counts[-1] = len(s) - starts[-1]
-    return s[starts], counts
-
-
 def _row(kind: str, at: float, low: float, high: float, observed: int, expected: float,
          evidence: str, p: float) -> Detection:
     """One raw detection, before the false-discovery control."""
@@ -219,31 +200,57 @@ def _row(kind: str, at: float, low: float, high: float, observed: int, expected:
             "observed": observed, "expected": float(expected), "evidence": evidence, "p_value": p}
 
 
-def _neighbour_counts(counts: np.ndarray, hits: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Count each of the ``hits`` distinct values would have from its two neighbours (their mean;
-    a log-linear extrapolation from the next two at either end), and the neighbours' total."""
-    lo, hi = np.clip(hits - 1, 0, len(counts) - 1), np.clip(hits + 1, 0, len(counts) - 1)
-    reference = (counts[lo] + counts[hi]).astype(float)
+def _run_after(s: np.ndarray, stop: int) -> tuple[int, int]:
+    """The run of equal values that starts at ``stop`` in the sorted ``s``: its stop and count."""
+    end = int(np.searchsorted(s, s[stop], "right"))
+    return end, end - stop
+
+
+def _run_before(s: np.ndarray, start: int) -> tuple[int, int]:
+    """The run of equal values that ends just before ``start`` in the sorted ``s``: its start
+    and count."""
+    begin = int(np.searchsorted(s, s[start - 1], "left"))
+    return begin, start - begin
+
+
+def _neighbour_counts(s: np.ndarray, starts: np.ndarray, stops: np.ndarray
+                      ) -> tuple[np.ndarray, np.ndarray]:
+    """Count each run ``starts``..``stops`` of the sorted ``s`` (at least three distinct values)
+    would have from its two neighbouring values' runs (their mean; a log-linear extrapolation
+    from the next two at either end), and the neighbours' total."""
+    n = len(s)
+    inner_start, inner_stop = np.maximum(starts, 1), np.minimum(stops, n - 1)
+    below = inner_start - np.searchsorted(s, s[inner_start - 1], "left")
+    above = np.searchsorted(s, s[inner_stop], "right") - inner_stop
+    reference = (below + above).astype(float)
     expected = reference / 2
-    for end, (c1, c2) in ((0, counts[1:3]), (len(counts) - 1, counts[-2:-4:-1])):
-        expected[hits == end], reference[hits == end] = c1**2 / c2, c1 + c2
+    second_stop, second = _run_after(s, int(np.searchsorted(s, s[0], "right")))
+    third = _run_after(s, second_stop)[1]
+    last_start = int(np.searchsorted(s, s[-1], "left"))
+    before_start, before = _run_before(s, last_start)
+    before_that = _run_before(s, before_start)[1]
+    for at_end, c1, c2 in ((starts == 0, np.int64(second), np.int64(third)),
+                           (stops == n, np.int64(before), np.int64(before_that))):
+        expected[at_end], reference[at_end] = c1**2 / c2, c1 + c2
     return expected, reference
 
 
-def _spikes(distinct: np.ndarray, counts: np.ndarray, unit: str, config: ArtefactConfig
+def _spikes(s: np.ndarray, n_distinct: int, unit: str, config: ArtefactConfig
             ) -> list[Detection]:
-    """Exact values held by far more bodies than their neighbouring values."""
-    hits = np.flatnonzero(counts > config.min_excess)
-    if len(distinct) < 3 or not hits.size:
+    """Exact values held by far more bodies than their neighbouring values (the sorted ``s``
+    holds ``n_distinct`` distinct values)."""
+    starts, stops = crowded_runs(s, config.min_excess)
+    if n_distinct < 3 or not starts.size:
         return []
-    expected, reference = _neighbour_counts(counts, hits)
-    keep = (counts[hits] - expected >= config.min_excess) & (
-        counts[hits] >= config.spike_ratio * expected)
+    counts = stops - starts
+    expected, reference = _neighbour_counts(s, starts, stops)
+    keep = (counts - expected >= config.min_excess) & (counts >= config.spike_ratio * expected)
     rows: list[Detection] = []
-    total = int(counts.sum())
-    for i, wanted, ref in zip(hits[keep], expected[keep], reference[keep], strict=True):
-        value, seen = distinct[i], int(counts[i])
-        end = " at an end of the range (a clamp?)" if i in (0, len(distinct) - 1) else ""
+    total = len(s)
+    for start, count, wanted, ref in zip(starts[keep], counts[keep], expected[keep],
+                                         reference[keep], strict=True):
+        value, seen = s[start], int(count)
+        end = " at an end of the range (a clamp?)" if start == 0 or start + seen == total else ""
         text = (f"{seen} bodies ({seen / total:.1%}) hold exactly {value:.6g}{unit} where "
                 f"neighbouring values predict {wanted:.1f}{end}")
         rows.append(_row("spike", value, value, value, seen, wanted, text,
@@ -319,21 +326,21 @@ def _cutoffs(s: np.ndarray, spikes: list[Detection], unit: str, config: Artefact
     return rows
 
 
-def local_steps(distinct: np.ndarray, low: np.ndarray, high: np.ndarray,
+def local_steps(s: np.ndarray, low: np.ndarray, high: np.ndarray,
                 fallback: float) -> np.ndarray:
-    """The rounding step around each spacing ``low``..``high`` of neighbouring distinct values:
-    the smaller spacing of the distinct values on either side when the spacing itself is a whole
-    number of it, else ``fallback`` (the sample's uniform lattice step, or 0).
+    """The rounding step around each spacing ``low``..``high`` of neighbouring distinct values
+    of the sorted ``s``: the smaller spacing of the distinct values on either side when the
+    spacing itself is a whole number of it, else ``fallback`` (the sample's uniform lattice
+    step, or 0).
 
     Values printed to a fixed number of significant digits sit on a lattice whose step grows with
-    the value, so no single step describes the sample (``_lattice_step`` finds none); at tens of
+    the value, so no single step describes the sample (``lattice_step`` finds none); at tens of
     millions of values the density predicts many values inside one such step, and every spacing
     of the lattice would look like a gap. A spacing of one step misses no value that could have
     been printed."""
-    at = np.searchsorted(distinct, low)
-    before = np.where(at >= 1, low - distinct[np.maximum(at - 1, 0)], np.inf)
-    beyond = np.minimum(at + 2, len(distinct) - 1)
-    after = np.where(at + 2 < len(distinct), distinct[beyond] - high, np.inf)
+    first, past = np.searchsorted(s, low, "left"), np.searchsorted(s, high, "right")
+    before = np.where(first >= 1, low - s[np.maximum(first - 1, 0)], np.inf)
+    after = np.where(past < len(s), s[np.minimum(past, len(s) - 1)] - high, np.inf)
     step = np.minimum(before, after)
     with np.errstate(divide="ignore", invalid="ignore"):
         units = (high - low) / step
@@ -357,28 +364,40 @@ def values_beside(s: np.ndarray, low: np.ndarray, high: np.ndarray, empty: np.nd
     return sparser
 
 
-def _gaps(s: np.ndarray, distinct: np.ndarray, grid: Grid, counts: np.ndarray, unit: str,
-          config: ArtefactConfig) -> list[Detection]:
+def _gaps(s: np.ndarray, grid: Grid, counts: np.ndarray, unit: str, config: ArtefactConfig
+          ) -> list[Detection]:
     """Spacings between neighbouring values where the density beside them predicts many (the
     bins on both sides, or the sparser side's window: ``values_beside``, whichever predicts
-    fewer), measured net of the values' rounding step (``local_steps``)."""
+    fewer), measured net of the values' rounding step (``local_steps``). The wide spacings are
+    tested chunk by chunk (a lattice field has millions of them at 10M bodies, each with a
+    dozen 8-byte working values)."""
+    if len(counts) < 2 * config.tail_bins + 1:
+        return []
     reach = config.min_expected * grid.width / max(float(counts.max()), 1.0)
-    wide = np.flatnonzero(s[1:] >= s[:-1] * 10**reach if grid.log else s[1:] - s[:-1] >= reach)
+    cum = np.r_[0.0, np.cumsum(counts)]
+    rows: list[Detection] = []
+    for chunk in wide_spacings(s, reach, grid.log):
+        rows += _gap_rows(s, chunk, grid, cum, unit, config)
+    return rows
+
+
+def _gap_rows(s: np.ndarray, wide: np.ndarray, grid: Grid, cum: np.ndarray, unit: str,
+              config: ArtefactConfig) -> list[Detection]:
+    """The gaps among the spacings after positions ``wide`` of the sorted ``s`` (``cum``: the
+    cumulative bin counts, spikes taken out): those not within ``tail_bins`` of an end, with
+    ``min_side_share`` of the values on either side, where the density predicts many."""
+    k, to_t, n_bins = config.tail_bins, np.log10 if grid.log else np.asarray, len(cum) - 1
+    t_edges = to_t(grid.edges)
     low, high = s[wide], s[wide + 1]
-    to_t = np.log10 if grid.log else np.asarray
-    k, t_edges = config.tail_bins, to_t(grid.edges)
     left = np.searchsorted(t_edges, to_t(low), side="right") - 1
     right = np.searchsorted(t_edges, to_t(high), side="right")
-    inside = (left >= k) & (right + k <= len(counts))  # not within k bins of an end
-    if len(counts) < 2 * k + 1 or not inside.any():
-        return []
     below = wide + 1  # values at or below the gap's lower end
     side = np.minimum(below, len(s) - below)
-    inside &= side >= max(config.min_side_share * len(s), config.min_expected)
-    cum = np.r_[0.0, np.cumsum(counts)]
-    left, right = np.clip(left, k, None), np.clip(right, None, len(counts) - k)
+    keep = ((left >= k) & (right + k <= n_bins)
+            & (side >= max(config.min_side_share * len(s), config.min_expected)))
+    low, high, left, right = low[keep], high[keep], left[keep], right[keep]
     left_n, right_n = cum[left] - cum[left - k], cum[right + k] - cum[right]
-    step = local_steps(distinct, low, high, grid.step)
+    step = local_steps(s, low, high, grid.step)
     empty = np.maximum(to_t(high - step / 2) - to_t(low + step / 2), 0.0)
     wanted = np.sqrt(left_n * right_n) / (k * grid.width) * empty
     reference = left_n + right_n
@@ -386,7 +405,7 @@ def _gaps(s: np.ndarray, distinct: np.ndarray, grid: Grid, counts: np.ndarray, u
     closer = beside < wanted  # the window beside the gap predicts fewer: it decides
     wanted, reference = np.where(closer, beside, wanted), np.where(closer, beside, reference)
     rows = []
-    for i in np.flatnonzero(inside & (wanted >= config.min_expected)):
+    for i in np.flatnonzero(wanted >= config.min_expected):
         lo, hi = low[i], high[i]
         at = np.sqrt(lo * hi) if grid.log else (lo + hi) / 2
         text = (f"no value between {lo:.4g} and {hi:.4g}{unit} where the neighbouring "
@@ -399,16 +418,16 @@ def _gaps(s: np.ndarray, distinct: np.ndarray, grid: Grid, counts: np.ndarray, u
 def _scan_cell(s: np.ndarray, unit: str, config: ArtefactConfig
                ) -> tuple[list[Detection], int]:
     """All raw detections in one sorted finite sample, and how many hypotheses were examined."""
-    distinct, counts = _runs(s)
-    grid = make_grid(s, _lattice_step(distinct) if len(distinct) < len(s) else 0.0, config)
+    n_distinct = distinct_count(s)
+    grid = make_grid(s, lattice_step(s, n_distinct) if n_distinct < len(s) else 0.0, config)
     if grid is None:
         return [], 0
-    spikes = _spikes(distinct, counts, unit, config)
+    spikes = _spikes(s, n_distinct, unit, config)
     smooth = _spike_free_counts(s, grid.edges, spikes)
     cutoffs: list[Detection] = ([] if grid.discrete or len(grid.counts) < 6
                                 else _cutoffs(s, spikes, unit, config))
-    rows = cutoffs + _gaps(s, distinct, grid, smooth, unit, config) + spikes
-    return rows, 1 + 2 * len(distinct)
+    rows = cutoffs + _gaps(s, grid, smooth, unit, config) + spikes
+    return rows, 1 + 2 * n_distinct
 
 
 def _unit(field: str) -> str:
@@ -458,7 +477,7 @@ def detect_artefacts(table: pl.DataFrame | pl.LazyFrame, fields: Sequence[str],
         unit = _unit(field)
         for group in groups:
             for index, label in enumerate(group.names):
-                s = values[group.rows(index)]
+                s = gather(values, group.rows(index))
                 s.sort()  # NaN (and null) sort last, -inf first
                 s = s[np.searchsorted(s, -np.inf, "right"):np.searchsorted(s, np.inf, "left")]
                 if len(s) < config.min_count:
