@@ -101,8 +101,8 @@ def test_the_body_index_reads_only_the_partition_of_a_body(tmp_path: Path) -> No
     run = _run(tmp_path / "run", partitioned=True)
     assert write_body_index(run) == run / BODY_INDEX
     index = pl.read_parquet(run / BODY_INDEX)
-    assert index.rows() == [("a", "part-00000.parquet"), ("b", "part-00000.parquet"),
-                            ("c", "part-00001.parquet")]
+    assert index.rows() == [("a", "part-00000.parquet", None), ("b", "part-00000.parquet", None),
+                            ("c", "part-00001.parquet", None)]  # these bodies have no system
     (run / "bodies" / "part-00000.parquet").unlink()  # a read of it would now fail
     assert scan_bodies_around(run, ["c"]).collect()["id"].to_list() == ["c"]
     assert scan_bodies_around(run, ["nobody"]).collect().height == 0

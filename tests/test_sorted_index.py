@@ -10,7 +10,12 @@ from pathlib import Path
 import polars as pl
 import pytest
 
-from bodycensus.storage.sorted_index import _groups, footer, rows_between, rows_with
+from bodycensus.storage.sorted_index import (
+    footer,
+    groups_between,
+    rows_between,
+    rows_with,
+)
 
 KEYS = [f"k{i:05d}" for i in range(5_000)]
 
@@ -37,9 +42,20 @@ def test_keys_are_found_as_a_filter_of_the_whole_file_finds_them(index: Path) ->
 def test_only_the_row_groups_that_can_hold_a_key_are_chosen(index: Path) -> None:
     found = footer(index, "key")
     assert found.complete and len(found.lows) == 50
-    assert _groups(found, "k00150", "k00150") == [1]
-    assert _groups(found, "k00199", "k00201") == [1, 2]
-    assert _groups(found, "a", "b") == [] and _groups(found, "z", "zz") == []
+    assert groups_between(found, "k00150", "k00150") == [1]
+    assert groups_between(found, "k00199", "k00201") == [1, 2]
+    assert groups_between(found, "a", "b") == [] and groups_between(found, "z", "zz") == []
+
+
+def test_groups_of_blank_keys_at_the_end_hold_no_key(tmp_path: Path) -> None:
+    path = tmp_path / "blanks.parquet"
+    keys = [*KEYS[:250], *[None] * 250]  # blanks sorted last: groups 3 and 4 hold none
+    pl.DataFrame({"key": keys}).write_parquet(path, row_group_size=100, statistics=True)
+    found = footer(path, "key")
+    assert found.complete and found.lows[-2:] == found.highs[-2:] == ["k00249"] * 2
+    assert groups_between(found, "k00150", "k00150") == [1]
+    assert groups_between(found, "k00300", "k00300") == []
+    assert rows_with(path, "key", ["k00249"])["key"].to_list() == ["k00249"]
 
 
 def test_a_limit_reads_group_after_group_in_order(index: Path) -> None:

@@ -22,10 +22,13 @@ import polars as pl
 from bodycensus.durable import fsync_path
 from bodycensus.errors import NotFound
 from bodycensus.science.severity import rank_expr
-from bodycensus.storage.sorted_index import rows_with
+from bodycensus.storage.sorted_index import footer, groups_between, read_groups, rows_with
 
-BODY_ROW_GROUP = 8192  # bodies per row group of a bodies file (``write_bodies_file``)
-BODY_INDEX = "body_index.parquet"  # id -> the partition file that holds it (partitioned runs)
+BODY_ROW_GROUP = 2048  # bodies per row group of a bodies file (``write_bodies_file``)
+BODY_INDEX = "body_index.parquet"  # id -> the partition file and system that hold it
+SYSTEM_ORDER = "bodycensus.system_order"  # a bodies file's metadata: its rows in system order
+KIN_IN_SYSTEM = "kin"  # ... and each body's parent, siblings and moons in its own system
+BY_SYSTEM = "system"  # ... but not always its kin
 INDEX_ROW_GROUP = 8192  # ids per row group: a look-up decodes one or two of them
 FINDINGS = "findings.parquet"
 FINDINGS_ROW_GROUP = 2048  # findings per row group: a page of 50 decodes one or two
@@ -91,11 +94,36 @@ def write_parquet_atomic(frame: pl.LazyFrame | pl.DataFrame, dest: Path, row_gro
 
 
 def write_bodies_file(frame: pl.LazyFrame | pl.DataFrame, dest: Path) -> Path:
-    """Write one file of a run's bodies (its one file or a partition) in row groups of
-    ``BODY_ROW_GROUP`` with statistics, compressed with ``BODY_COMPRESSION`` (fsync, then
-    rename): a body's page decodes the one small group that holds it, not one of polars'
-    default ~125k rows (twice as long at 1M bodies)."""
-    return write_parquet_atomic(frame, dest, BODY_ROW_GROUP, compression=BODY_COMPRESSION)
+    """Write one file of a run's bodies (its one file or a partition) in system order (blank
+    systems last, each system's rows in their order), in row groups of ``BODY_ROW_GROUP`` with
+    statistics, compressed with ``BODY_COMPRESSION`` (fsync, then rename): a body's or a
+    system's page decodes the one or two small groups whose system range holds it
+    (``bodies_of_systems``), not a whole partition."""
+    bodies = frame.collect() if isinstance(frame, pl.LazyFrame) else frame
+    if "system" not in bodies.columns:
+        return write_parquet_atomic(bodies, dest, BODY_ROW_GROUP, compression=BODY_COMPRESSION)
+    ordered = bodies.sort("system", nulls_last=True, maintain_order=True)
+    order = KIN_IN_SYSTEM if _kin_in_system(ordered) else BY_SYSTEM
+    return write_parquet_atomic(ordered, dest, BODY_ROW_GROUP, {SYSTEM_ORDER: order},
+                                BODY_COMPRESSION)
+
+
+def _kin_in_system(bodies: pl.DataFrame) -> bool:
+    """Whether every body's moons and siblings share one system, and its parent's (where the
+    file holds it): then a body's parent, siblings and moons in this file are all in the
+    rows of its own system. (A catalogue whose ``system`` cells disagree with its chains of
+    parents breaks it; its pages read the whole file.)"""
+    if "parent" not in bodies.columns:
+        return True
+    system = pl.col("system").fill_null("")  # a blank system is one system here
+    kids = bodies.lazy().filter(pl.col("parent").is_not_null()).select("parent", system)
+    mixed = kids.group_by("parent").agg(pl.col("system").n_unique() > 1).select(
+        pl.col("system").any())
+    apart = (kids.join(bodies.lazy().select(pl.col("id").alias("parent"),
+                                            system.alias("own")), on="parent")
+             .select((pl.col("system") != pl.col("own")).any()))
+    found = pl.collect_all([mixed, apart])
+    return not any(bool(f.item()) for f in found)
 
 
 def in_list_order(findings: pl.LazyFrame, descending: bool = False) -> pl.LazyFrame:
@@ -139,25 +167,69 @@ def in_stored_order(folder: Path, sort: str) -> bool:
 
 def write_body_index(folder: Path) -> Path | None:
     """Write ``body_index.parquet`` for a partitioned run: every id with the name of the
-    partition file that holds it, sorted by id in small row groups with statistics, so a body's
-    page reads one partition, not all (fsync, then rename). None for a one-file run."""
+    partition file that holds it and its system, sorted by id in small row groups with
+    statistics, so a body's page reads the row groups of one system in one partition, not all
+    (fsync, then rename). None for a one-file run."""
     parts = _parts(folder)
     if not parts:
         return None
-    ids = [pl.scan_parquet(p).select("id", part=pl.lit(p.name)) for p in parts]
+    ids = [pl.scan_parquet(p).select("id", part=pl.lit(p.name), system=_system_of(p))
+           for p in parts]
     return write_parquet_atomic(pl.concat(ids).filter(pl.col("id").is_not_null()).sort("id"),
                                 folder / BODY_INDEX, INDEX_ROW_GROUP)
 
 
+def _system_of(path: Path) -> pl.Expr:
+    """The ``system`` column of a bodies file (a null string where it has none)."""
+    has = "system" in pl.read_parquet_schema(path)
+    return pl.col("system") if has else pl.lit(None, pl.String)
+
+
 def scan_bodies_around(folder: Path, ids: Sequence[str]) -> pl.LazyFrame:
-    """The bodies of the partitions that hold ``ids``, lazily: with a body come its parent,
-    siblings and moons (a partition holds whole chains of parents). Through the body index where
-    the run has one (its footer kept: the look-up reads one or two row groups), else every
-    body."""
+    """The bodies around ``ids``, lazily: with a body come its parent, siblings and moons (a
+    partition holds whole chains of parents). Through the body index where the run has one
+    (its footer kept: the look-up reads one or two row groups): the row groups of the body's
+    system in its partition where the file keeps a body's kin in its system and the id is
+    there once, else its whole partitions; without the index, every body."""
     index = folder / BODY_INDEX
     if not index.is_file():
         return scan_bodies(folder)
-    return scan_parts(folder, rows_with(index, "id", ids, ["id", "part"])["part"].to_list())
+    found = rows_with(index, "id", ids)
+    if "system" not in found.columns or found["system"].null_count() or \
+            found["id"].is_duplicated().any():
+        return scan_parts(folder, found["part"].to_list())
+    frames = []
+    for (part,), rows in found.group_by("part", maintain_order=True):
+        path = folder / "bodies" / str(part)
+        if _stored_order(path) == KIN_IN_SYSTEM:
+            frames.append(bodies_of_systems(path, rows["system"].to_list()).lazy())
+        else:
+            frames.append(pl.scan_parquet(path))
+    return pl.concat(frames, how="vertical") if frames else scan_bodies(folder).head(0)
+
+
+def _stored_order(path: Path) -> str | None:
+    """How a bodies file is ordered (``SYSTEM_ORDER`` in its metadata), from its kept footer."""
+    meta = footer(path, "system").metadata.metadata or {}
+    value = meta.get(SYSTEM_ORDER.encode())
+    return value.decode() if value is not None else None
+
+
+def in_system_order(path: Path) -> bool:
+    """Whether the bodies file ``path`` stores its rows in system order."""
+    return _stored_order(path) in (KIN_IN_SYSTEM, BY_SYSTEM)
+
+
+def bodies_of_systems(path: Path, systems: Sequence[str],
+                      columns: Sequence[str] | None = None) -> pl.DataFrame:
+    """The rows of the row groups of the bodies file ``path`` whose ``system`` range can hold
+    one of ``systems`` (not blank), from its kept footer: a superset of those systems' bodies,
+    in the file's order (those of ``columns`` it has, or all)."""
+    found = footer(path, "system")
+    groups = sorted({g for s in systems for g in groups_between(found, s, s)})
+    have = found.metadata.schema.names
+    return read_groups(path, found, groups,
+                       None if columns is None else [c for c in columns if c in have])
 
 
 def scan_findings(folder: Path) -> pl.LazyFrame:

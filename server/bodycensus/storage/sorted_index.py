@@ -30,14 +30,22 @@ class Footer:
     complete: bool  # every group has its range (else every group is read)
 
 
-@functools.lru_cache(maxsize=64)
+@functools.lru_cache(maxsize=512)  # the indexes and every partition of a 30M-body run
 def _footer(path: str, column: str, stamp: tuple[int, int, int]) -> Footer:
-    """The footer of ``path`` (``stamp``: inode, mtime, size), parsed once per version."""
+    """The footer of ``path`` (``stamp``: inode, mtime, size), parsed once per version. A group
+    of blank keys only (a file sorted with blanks last) holds no key: it is given the range end
+    of the group before, so the ranges stay in order."""
     metadata = pq.read_metadata(path)
     at = metadata.schema.names.index(column)
-    lows, highs = [], []
+    lows: list[str] = []
+    highs: list[str] = []
     for group in range(metadata.num_row_groups):
         stats = metadata.row_group(group).column(at).statistics
+        if stats is not None and stats.has_null_count and \
+                stats.null_count == metadata.row_group(group).num_rows and highs:
+            lows.append(highs[-1])
+            highs.append(highs[-1])
+            continue
         if stats is None or not stats.has_min_max or not isinstance(stats.min, str):
             return Footer(metadata, [], [], complete=False)
         lows.append(stats.min)
@@ -51,7 +59,7 @@ def footer(path: Path, column: str) -> Footer:
     return _footer(str(path), column, (stat.st_ino, stat.st_mtime_ns, stat.st_size))
 
 
-def _groups(found: Footer, low: str, high: str) -> list[int]:
+def groups_between(found: Footer, low: str, high: str) -> list[int]:
     """The row groups whose keys can fall in ``low`` .. ``high`` (both included)."""
     if not found.complete:
         return list(range(found.metadata.num_row_groups))
@@ -60,8 +68,8 @@ def _groups(found: Footer, low: str, high: str) -> list[int]:
     return list(range(first, last))
 
 
-def _read(path: Path, found: Footer, groups: list[int], columns: Sequence[str] | None
-          ) -> pl.DataFrame:
+def read_groups(path: Path, found: Footer, groups: list[int], columns: Sequence[str] | None
+                ) -> pl.DataFrame:
     """The chosen row groups' ``columns`` (all when None; no group: an empty frame)."""
     file = pq.ParquetFile(path, metadata=found.metadata)
     table = file.read_row_groups(sorted(set(groups)),
@@ -79,8 +87,8 @@ def rows_with(path: Path, column: str, keys: Sequence[str],
     """The rows of ``path`` (sorted by ``column``) whose ``column`` is one of ``keys``, in
     the file's order (``columns`` of them, or all)."""
     found = footer(path, column)
-    groups = [g for key in set(keys) for g in _groups(found, key, key)]
-    rows = _read(path, found, groups, _with(column, columns)).filter(
+    groups = [g for key in set(keys) for g in groups_between(found, key, key)]
+    rows = read_groups(path, found, groups, _with(column, columns)).filter(
         pl.col(column).is_in(list(keys)))
     return rows if columns is None else rows.select(columns)
 
@@ -91,13 +99,13 @@ def rows_between(path: Path, column: str, low: str, high: str, columns: Sequence
     first ``limit`` of them when given (row groups are read one after another until enough)."""
     found = footer(path, column)
     inside = (pl.col(column) >= low) & (pl.col(column) < high)
-    groups = _groups(found, low, high)
+    groups = groups_between(found, low, high)
     read = _with(column, columns)
     if limit is None:
-        return _read(path, found, groups, read).filter(inside).select(columns)
-    parts, count = [_read(path, found, [], read)], 0
+        return read_groups(path, found, groups, read).filter(inside).select(columns)
+    parts, count = [read_groups(path, found, [], read)], 0
     for group in groups:
-        part = _read(path, found, [group], read).filter(inside)
+        part = read_groups(path, found, [group], read).filter(inside)
         parts.append(part)
         count += part.height
         if count >= limit:

@@ -189,18 +189,16 @@ def _field_rows(row: dict[str, Any], choices: dict[str, ColumnChoice]) -> list[F
     return out
 
 
-def _worst(cat_dir: Path, ids: list[str]) -> dict[str, str]:
-    """The most serious severity found for each of ``ids``."""
-    if not ids:
-        return {}
-    df = (findings_of(cat_dir, "body", ids)
-          .group_by("body").agg(pl.col("severity").sort_by(rank_expr()).first()).collect())
+def _worst(findings: pl.DataFrame) -> dict[str, str]:
+    """The most serious severity found for each body of ``findings``."""
+    df = findings.group_by("body").agg(pl.col("severity").sort_by(rank_expr()).first())
     return dict(zip(df["body"].to_list(), df["severity"].to_list(), strict=True))
 
 
 def _relatives(body_id: str, parent: str | None, lf: pl.LazyFrame) -> dict[str, pl.DataFrame]:
     """The parent, siblings and children of a body, from ``lf`` (the bodies around it)."""
-    cols = [c for c in _SYSTEM_COLUMNS if c in lf.collect_schema()]
+    have = lf.collect_schema()  # once: a schema of ~83 columns costs ~0.5 ms to build
+    cols = [c for c in _SYSTEM_COLUMNS if c in have]
     related = pl.col("parent") == body_id  # children
     if parent is not None:
         related = related | (pl.col("id") == parent) | (pl.col("parent") == parent)
@@ -236,7 +234,8 @@ def body_detail(cat_dir: Path, body_id: str, mapping: Mapping[str, Any] | None,
              if k not in hidden and k not in DERIVED_COLUMNS and not k.startswith("_")}
     parts = _relatives(body_id, row.get("parent"), around)
     kin = [i for frame in parts.values() for i in frame["id"].to_list()]
-    own = findings_of(cat_dir, "body", [body_id])
+    around_findings = findings_of(cat_dir, "body", [body_id, *kin]).collect()  # one look-up
+    own = around_findings.lazy().filter(pl.col("body") == body_id)
     findings = (with_decisions(own, decisions, lambda: scan_bodies(cat_dir))
                 .sort(rank_expr(), pl.col("margin"), descending=[False, True],
                       nulls_last=True).collect().to_dicts())
@@ -244,7 +243,7 @@ def body_detail(cat_dir: Path, body_id: str, mapping: Mapping[str, Any] | None,
         "id": body_id, "row": row.get("_row"), "bad": row.get("_bad"),
         "duplicates": rows.height - 1, "fields": _field_rows(row, _choices(mapping)),
         "derived": derived, "extra": extra, "findings": findings,
-        "system": _system(parts, _worst(cat_dir, kin)),
+        "system": _system(parts, _worst(around_findings.filter(pl.col("body").is_in(kin)))),
     }))
 
 
@@ -309,6 +308,8 @@ def overview(cat_dir: Path, manifest: Mapping[str, Any]) -> Overview:
 
 
 MAX_SYSTEM_BODIES = 2000  # bodies listed on one system's page
+_SYSTEM_PAGE_COLUMNS = ("id", "name", "label", "family", "parent", "mass", "radius",
+                        "semi_major_axis", "eccentricity")  # a system's page shows no others
 
 
 def systems_page(cat_dir: Path, state: ViewState) -> SystemsPage:
@@ -337,9 +338,9 @@ def system_detail(cat_dir: Path, system: str) -> SystemDetail:
     Roots are bodies whose parent is blank or outside the system; bodies caught in a parent
     cycle start a tree of their own, so every body listed appears once.
     """
-    bodies = scan_systems(cat_dir, [system])
-    cols = [c for c in ("id", "name", "label", "family", "parent", "mass", "radius",
-                        "semi_major_axis", "eccentricity") if c in bodies.collect_schema()]
+    bodies = scan_systems(cat_dir, [system], _SYSTEM_PAGE_COLUMNS)
+    have = bodies.collect_schema()
+    cols = [c for c in _SYSTEM_PAGE_COLUMNS if c in have]
     members = bodies.filter(system_key(bodies) == system)
     shown = members.select(cols).head(MAX_SYSTEM_BODIES + 1).collect()  # counted when capped
     total = shown.height if shown.height <= MAX_SYSTEM_BODIES else \

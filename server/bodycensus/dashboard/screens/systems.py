@@ -13,6 +13,7 @@ of parents disagree), so memory follows a slice and a range, not the catalogue.
 from __future__ import annotations
 
 import contextlib
+from collections.abc import Sequence
 from pathlib import Path
 
 import polars as pl
@@ -20,6 +21,8 @@ import polars as pl
 from bodycensus.science.severity import SEVERITIES, name_expr, rank_expr
 from bodycensus.storage.runs import (
     bodies_files,
+    bodies_of_systems,
+    in_system_order,
     scan_bodies,
     scan_findings,
     scan_parts,
@@ -143,13 +146,31 @@ def systems_table(folder: Path) -> pl.LazyFrame:
     return pl.scan_parquet(path)
 
 
-def scan_systems(folder: Path, systems: list[str]) -> pl.LazyFrame:
-    """The bodies of the partition files that hold ``systems`` (lazy, unfiltered: the caller
-    keeps the systems' own bodies), through the system index where the run has one."""
+def scan_systems(folder: Path, systems: list[str], columns: Sequence[str] | None = None
+                 ) -> pl.LazyFrame:
+    """Bodies of the partition files that hold ``systems`` (lazy, unfiltered: the caller
+    keeps the systems' own bodies; ``columns`` of them, with ``system``, or all), through the
+    system index where the run has one: of a file stored in system order, only the row groups
+    whose range can hold them (blank systems, ``NO_SYSTEM``, are looked for in every row)."""
+    read = None if columns is None else list(dict.fromkeys(["system", *columns]))
     index = folder / SYSTEM_INDEX
     if not (folder / "bodies").is_dir():
-        return scan_bodies(folder)
+        return _columns(scan_bodies(folder), read)
     if not index.is_file():
         systems_table(folder)
-    return scan_parts(folder, rows_with(index, "system", systems, ["system", "part"])["part"]
-                      .to_list())
+    parts = rows_with(index, "system", systems, ["system", "part"])["part"].unique(
+        maintain_order=True).sort().to_list()
+    paths = [folder / "bodies" / str(part) for part in parts]
+    if NO_SYSTEM in systems or not all(in_system_order(path) for path in paths):
+        return _columns(scan_parts(folder, parts), read)
+    frames = [bodies_of_systems(path, systems, read).lazy() for path in paths]
+    return pl.concat(frames, how="vertical") if frames else \
+        _columns(scan_parts(folder, []), read)
+
+
+def _columns(lf: pl.LazyFrame, columns: list[str] | None) -> pl.LazyFrame:
+    """``columns`` of ``lf`` that it has (all when None)."""
+    if columns is None:
+        return lf
+    have = lf.collect_schema()
+    return lf.select([c for c in columns if c in have])

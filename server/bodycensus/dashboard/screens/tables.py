@@ -28,7 +28,8 @@ def findings(cat_dir: Path) -> pl.LazyFrame:
 def rows_of(cat_dir: Path, ids: list[str], columns: list[str]) -> pl.DataFrame:
     """The first row of each of ``ids`` (a handful), with those of ``columns`` the table has."""
     lf = bodies(cat_dir)
-    have = [c for c in columns if c in lf.collect_schema()]
+    schema = lf.collect_schema()  # once, not per column
+    have = [c for c in columns if c in schema]
     if not ids:
         return pl.DataFrame(schema={c: pl.String for c in have})
     return (lf.filter(pl.col("id").is_in(ids)).select(have)

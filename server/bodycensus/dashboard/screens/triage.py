@@ -96,7 +96,7 @@ def counts_by(cat_dir: Path, decisions: Sequence[Decision], by: Literal["body", 
         own = findings_of(cat_dir, "system", targets)
         keyed = with_decisions(own, decisions).with_columns(key=pl.col("system"))
     else:
-        members = (scan_systems(cat_dir, list(targets))
+        members = (scan_systems(cat_dir, list(targets), ["id"])
                    .filter(pl.col("system").is_in(list(targets)))
                    .select(pl.col("id").alias("body"), pl.col("system").alias("key"))
                    .unique())  # an id given twice counts in each system that lists it
@@ -165,7 +165,7 @@ def system_groups(cat_dir: Path, decisions: Sequence[Decision], system: str) -> 
         own = (findings.filter(pl.col("system").is_null()) if system == NO_SYSTEM
                else findings_of(cat_dir, "system", [system]))
     else:
-        members = (scan_systems(cat_dir, [system]).filter(pl.col("system") == system)
+        members = (scan_systems(cat_dir, [system], ["id"]).filter(pl.col("system") == system)
                    .select(pl.col("id").alias("body")).unique())
         own = findings.join(members, on="body", how="semi")
     lf = with_decisions(own, decisions, lambda: scan_bodies(cat_dir))
