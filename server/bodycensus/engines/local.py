@@ -272,7 +272,7 @@ def finish_run(workdir: Path, findings: pl.DataFrame | pl.LazyFrame, counts: pl.
     artefacts over the written bodies, and sum up the run; every file written atomically.
     Findings given as a plan are collected to be written, then again after the artefacts: the
     detector's peak does not hold them (120 MB of 700,000 findings at 30M bodies)."""
-    write_findings(findings.lazy().collect(), workdir)
+    write_findings(findings, workdir)
     rule_coverage = coverage_table(counts, facts.rules())
     _write_atomic(rule_coverage, workdir / "coverage.parquet")
     progress("artefacts", 0.0)

@@ -23,6 +23,7 @@ from bodycensus.durable import fsync_path
 from bodycensus.errors import NotFound
 from bodycensus.science.severity import rank_expr
 from bodycensus.storage.sorted_index import footer, groups_between, read_groups, rows_with
+from bodycensus.storage.sorted_spill import AppendingWriter
 
 BODY_ROW_GROUP = 2048  # bodies per row group of a bodies file (``write_bodies_file``)
 BODY_INDEX = "body_index.parquet"  # id -> the partition file and system that hold it
@@ -133,17 +134,31 @@ def in_list_order(findings: pl.LazyFrame, descending: bool = False) -> pl.LazyFr
                          nulls_last=True, maintain_order=True)
 
 
-def write_findings(findings: pl.DataFrame, folder: Path) -> Path:
+def write_findings(findings: pl.DataFrame | pl.LazyFrame, folder: Path) -> Path:
     """Write the run's findings as ``findings.parquet`` in the list's default order, in small
     row groups with statistics, the order named in the file's metadata, and a copy sorted by
-    body and one by system (``findings_of``) (each: fsync, then rename)."""
+    body and one by system (``findings_of``) (each: fsync, then rename). Give a plan to hold
+    the findings once: the copies are written a slice at a time (``_write_sorted_copy``)."""
     ordered = in_list_order(findings.lazy()).collect()
     for column, name in FINDINGS_BY.items():
         if column in ordered.columns:
-            write_parquet_atomic(ordered.sort(column, nulls_last=True, maintain_order=True),
-                                 folder / name, FINDINGS_ROW_GROUP)
+            _write_sorted_copy(ordered, column, folder / name)
     return write_parquet_atomic(ordered, folder / FINDINGS, FINDINGS_ROW_GROUP,
                                 {ORDER_KEY: LIST_ORDER})
+
+
+COPY_SLICE = 32 * FINDINGS_ROW_GROUP  # findings gathered at a time into a sorted copy
+
+
+def _write_sorted_copy(findings: pl.DataFrame, column: str, dest: Path) -> None:
+    """``findings`` sorted by ``column`` (stable, blanks last) written to ``dest``, gathered
+    a slice at a time from one sort order: a whole sorted copy beside the findings made the
+    check's peak at 30M bodies (700,000 findings: 325 MB -> 1.19 GB while they were written)."""
+    order = findings.select(pl.int_range(pl.len(), dtype=pl.UInt32).sort_by(
+        column, nulls_last=True, maintain_order=True)).to_series()
+    with AppendingWriter(dest, findings.schema, FINDINGS_ROW_GROUP) as out:
+        for start in range(0, order.len(), COPY_SLICE):
+            out.write(findings[order.slice(start, COPY_SLICE)])
 
 
 def findings_of(folder: Path, column: str, keys: Sequence[str]) -> pl.LazyFrame:
