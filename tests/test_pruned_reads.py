@@ -18,9 +18,9 @@ from urllib.parse import quote
 import polars as pl
 import pyarrow.parquet as pq
 import pytest
+from partitioned_run import demo_run_folder
 from web_support import SyncClient, asgi_client
 
-from bodycensus.cli.run_folder import write_run_folder
 from bodycensus.dashboard.app import create_app
 from bodycensus.dashboard.screens import queries, triage
 from bodycensus.dashboard.screens.bodies import (
@@ -40,9 +40,6 @@ from bodycensus.dashboard.screens.systems import (
 )
 from bodycensus.dashboard.screens.viewstate import ViewState
 from bodycensus.dashboard.settings import Settings
-from bodycensus.demo import write_demo
-from bodycensus.engines.local import CheckOptions, check_file
-from bodycensus.storage import runs
 from bodycensus.storage.decisions import Decision
 from bodycensus.storage.runs import BODY_INDEX, in_list_order, in_stored_order, scan_findings
 from bodycensus.storage.store import Store, json_ready
@@ -55,13 +52,8 @@ MAX_RESPONSE = 2 * 1024 * 1024  # the issue's "no response carries more than abo
 @pytest.fixture(scope="module")
 def folder(tmp_path_factory: pytest.TempPathFactory) -> Path:
     """A checked run folder of a demo catalogue in about 20 partitions."""
-    root = tmp_path_factory.mktemp("pruned")
-    source, _ = write_demo(root / "demo.csv", n_bodies=BODIES, seed=5)
-    options = CheckOptions(partition_rows=1_000)
-    run = root / "run"
-    with pytest.MonkeyPatch.context() as patch:
-        patch.setattr(runs, "FINDINGS_ROW_GROUP", ROW_GROUP)
-        write_run_folder(check_file(source, run, options), run, "demo.csv", options)
+    run = demo_run_folder(tmp_path_factory.mktemp("pruned"), BODIES,
+                          {"FINDINGS_ROW_GROUP": ROW_GROUP})
     assert len(list((run / "bodies").glob("*.parquet"))) >= 10
     return run
 

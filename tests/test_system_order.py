@@ -19,11 +19,9 @@ from typing import Any
 import polars as pl
 import pyarrow.parquet as pq
 import pytest
+from partitioned_run import demo_run_folder
 
-from bodycensus.cli.run_folder import write_run_folder
 from bodycensus.dashboard.screens import queries, triage
-from bodycensus.demo import write_demo
-from bodycensus.engines.local import CheckOptions, check_file
 from bodycensus.storage import runs
 from bodycensus.storage.runs import (
     BY_SYSTEM,
@@ -63,14 +61,8 @@ def test_a_bodies_file_is_stored_in_system_order_blanks_last(tmp_path: Path) -> 
 @pytest.fixture(scope="module")
 def folder(tmp_path_factory: pytest.TempPathFactory) -> Path:
     """A checked run folder of a demo catalogue in about 20 partitions of ~16 row groups."""
-    root = tmp_path_factory.mktemp("system_order")
-    source, _ = write_demo(root / "demo.csv", n_bodies=BODIES, seed=5)
-    options = CheckOptions(partition_rows=1_000)
-    run = root / "run"
-    with pytest.MonkeyPatch.context() as patch:
-        patch.setattr(runs, "BODY_ROW_GROUP", GROUP)
-        write_run_folder(check_file(source, run, options), run, "demo.csv", options)
-    return run
+    return demo_run_folder(tmp_path_factory.mktemp("system_order"), BODIES,
+                           {"BODY_ROW_GROUP": GROUP})
 
 
 @pytest.fixture(scope="module")
